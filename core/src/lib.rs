@@ -1,0 +1,22 @@
+//! flowrise-core: the engine behind flowrise.
+//!
+//! Layers, bottom up (see DEVELOPERS.md for the map):
+//! - physics: [`water`], [`pipes`], [`friction`], [`fittings`], [`valves`],
+//!   [`emitters`], [`pump`], [`vessel`] — each checked against named sources;
+//! - network: project model, derivation of the closed-loop hydraulic
+//!   network, the Newton network solver, the design and operating passes.
+//!
+//! Nothing here depends on a GUI; everything the app shows can be computed
+//! from a project file.
+
+pub mod emitters;
+pub mod error;
+pub mod fittings;
+pub mod friction;
+pub mod pipes;
+pub mod pump;
+pub mod valves;
+pub mod vessel;
+pub mod water;
+
+pub use error::{PhysicsError, PhysicsResult};
