@@ -1,6 +1,10 @@
-//! flowrise command-line entry point (the GUI arrives with the canvas issue).
+//! flowrise: design two-pipe hydronic heating networks.
+//!
+//! The binary is a thin adapter: every command loads a project with
+//! `flowrise-core`, runs the engine and prints. `anyhow` lives only here.
 
-fn main() {
-    println!("flowrise {}", env!("CARGO_PKG_VERSION"));
-    println!("usage: flowrise <command> [options]   (commands arrive with the network issue)");
+mod cli;
+
+fn main() -> std::process::ExitCode {
+    cli::main()
 }

@@ -12,6 +12,7 @@
 pub mod emitters;
 pub mod error;
 pub mod fittings;
+pub mod network;
 pub mod friction;
 pub mod pipes;
 pub mod pump;

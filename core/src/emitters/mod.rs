@@ -1,1 +1,614 @@
-//! (being written)
+//! Emitters: panel radiators (EN 442 characteristic), floor-heating loops
+//! (EN 1264, simplified — see [`floor`]) and generic fixed-Kv terminals (fan
+//! coils, air heaters).
+//!
+//! Every emitter here is described by a *characteristic*: its heat output as
+//! a strictly increasing function of the logarithmic mean temperature
+//! difference between the water and the room, ΔT_lm = (θs − θr) /
+//! ln((θs − θi)/(θr − θi)) ([`lmtd_k`]). Two coupled problems are solved the
+//! same way for all of them:
+//!
+//! - *check at a load* ([`Characteristic::return_temp_for_load`]): the return
+//!   temperature θr ∈ (θi, θs) at which the emitter delivers a given load, and
+//!   the mass flow q_m = Φ / (c_p·(θs − θr)); or the shortfall when even the
+//!   largest practical flow ([`MIN_WATER_DELTA_K`]) cannot deliver it;
+//! - *output at a flow* ([`Characteristic::output_at_flow`]): the water side
+//!   Φ = q_m·c_p·(θs − θr) and the emitter side Φ(ΔT_lm) must agree; this is
+//!   what the operating solve uses when the real flows differ from design.
+//!
+//! c_p is the IAPWS-IF97 mean specific heat between supply and return
+//! ([`crate::water::mean_cp_j_kg_k`]), never a constant.
+//!
+//! [`EmitterModel`] is what a project stores for one emitter; its
+//! [`EmitterModel::design`] returns the design flow and an
+//! [`InstalledEmitter`] (a concrete emitter with known output characteristic,
+//! body resistance and water content) for the operating solve.
+//!
+//! Reference checks: `tests/tests/reference/emitters.rs`.
+
+pub mod floor;
+pub mod radiator;
+pub mod terminal;
+
+use serde::{Deserialize, Serialize};
+
+use crate::error::{PhysicsError, PhysicsResult, check};
+use crate::friction::{PipeHydraulics, pipe_dp};
+use crate::water::{self, MAX_TEMPERATURE_C, MIN_TEMPERATURE_C};
+
+pub use floor::{FloorLoopDesign, FloorLoopSpec, FloorZone};
+pub use radiator::{RadiatorRating, RadiatorSizing, RadiatorSpec};
+pub use terminal::TerminalSpec;
+
+/// Accepted room (indoor air) temperature range, °C. 5 °C covers
+/// frost-protected spaces; 40 °C is far above any heated room.
+pub const ROOM_TEMPERATURE_RANGE_C: (f64, f64) = (5.0, 40.0);
+
+/// Smallest water temperature drop θs − θr the check at a load will use, K.
+///
+/// Common practice: an emitter that needs less than ~1 K of cooling to meet
+/// its load runs at a flow so large that valve noise and pump power rule it
+/// out; flowrise treats Δθ = 1 K as the practical flow cap and reports a
+/// shortfall beyond it. (When θs − θi < 2 K the cap is (θs − θi)/2.)
+pub const MIN_WATER_DELTA_K: f64 = 1.0;
+
+/// Check that a supply/room pair is physical: both in range, supply > room.
+fn check_supply_room(supply_c: f64, room_c: f64) -> PhysicsResult<()> {
+    check::in_range("supply temperature", supply_c, "°C", MIN_TEMPERATURE_C, MAX_TEMPERATURE_C)?;
+    check::in_range("room temperature", room_c, "°C", ROOM_TEMPERATURE_RANGE_C.0, ROOM_TEMPERATURE_RANGE_C.1)?;
+    if supply_c <= room_c {
+        return Err(PhysicsError::Inconsistent(format!(
+            "supply temperature {supply_c} °C must be above the room temperature {room_c} °C for an emitter to heat"
+        )));
+    }
+    Ok(())
+}
+
+/// Logarithmic mean temperature difference between the water and the room,
+/// K: ΔT_lm = (θs − θr) / ln((θs − θi)/(θr − θi)) (EN 442-2; the same mean
+/// is EN 1264's heating-medium differential temperature ΔθH).
+///
+/// `return_c == supply_c` is the limit of infinite flow and gives θs − θi.
+/// Evaluated as m·y/artanh(y) with m the arithmetic mean of the two
+/// differences and y their relative half-difference, which has no
+/// cancellation near that limit.
+///
+/// (The arithmetic mean (θs + θr)/2 − θi is an older approximation that
+/// overstates the difference at large cooling; EN 442 uses the LMTD and so
+/// does flowrise.)
+///
+/// # Errors
+/// [`PhysicsError`] when a temperature is NaN or out of range (water
+/// [`MIN_TEMPERATURE_C`]..=[`MAX_TEMPERATURE_C`], room
+/// [`ROOM_TEMPERATURE_RANGE_C`]), supply ≤ room, return > supply or
+/// return ≤ room.
+pub fn lmtd_k(supply_c: f64, return_c: f64, room_c: f64) -> PhysicsResult<f64> {
+    check_supply_room(supply_c, room_c)?;
+    check::in_range("return temperature", return_c, "°C", MIN_TEMPERATURE_C, MAX_TEMPERATURE_C)?;
+    if return_c > supply_c {
+        return Err(PhysicsError::Inconsistent(format!(
+            "return temperature {return_c} °C is above the supply temperature {supply_c} °C"
+        )));
+    }
+    if return_c <= room_c {
+        return Err(PhysicsError::Inconsistent(format!(
+            "return temperature {return_c} °C must be above the room temperature {room_c} °C (the water cannot cool below the room)"
+        )));
+    }
+    Ok(lmtd_unchecked(supply_c - room_c, return_c - room_c))
+}
+
+/// LMTD of two positive differences `a` ≥ `b` > 0 (no checks).
+fn lmtd_unchecked(a: f64, b: f64) -> f64 {
+    let mean = 0.5 * (a + b);
+    let y = (a - b) / (a + b);
+    if y.abs() < 1e-8 {
+        // y/artanh(y) = 1 − y²/3 − … ; the y² term is below 1e-16 here.
+        mean
+    } else {
+        mean * y / y.atanh()
+    }
+}
+
+/// Outcome of checking an emitter against a load at a given supply
+/// temperature.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum CheckOutcome {
+    /// The emitter delivers the load.
+    Meets {
+        /// Return temperature at which it does, °C.
+        return_c: f64,
+        /// Mass flow needed, kg/s.
+        mass_flow_kg_s: f64,
+        /// Output, W (equals the load).
+        output_w: f64,
+    },
+    /// Even at the practical flow cap ([`MIN_WATER_DELTA_K`]) the emitter
+    /// falls short.
+    Shortfall {
+        /// Return temperature at the flow cap, °C.
+        return_c: f64,
+        /// Mass flow at the cap, kg/s.
+        mass_flow_kg_s: f64,
+        /// Output delivered at the cap, W.
+        output_w: f64,
+        /// Load minus delivered output, W (> 0).
+        shortfall_w: f64,
+        /// Delivered output / load (0 to 1).
+        fraction_delivered: f64,
+    },
+}
+
+impl CheckOutcome {
+    /// Return temperature, °C.
+    #[must_use]
+    pub fn return_c(&self) -> f64 {
+        match *self {
+            Self::Meets { return_c, .. } | Self::Shortfall { return_c, .. } => return_c,
+        }
+    }
+
+    /// Mass flow, kg/s.
+    #[must_use]
+    pub fn mass_flow_kg_s(&self) -> f64 {
+        match *self {
+            Self::Meets { mass_flow_kg_s, .. } | Self::Shortfall { mass_flow_kg_s, .. } => mass_flow_kg_s,
+        }
+    }
+
+    /// Output delivered, W.
+    #[must_use]
+    pub fn output_w(&self) -> f64 {
+        match *self {
+            Self::Meets { output_w, .. } | Self::Shortfall { output_w, .. } => output_w,
+        }
+    }
+
+    /// Whether the load is met.
+    #[must_use]
+    pub fn meets_load(&self) -> bool {
+        matches!(self, Self::Meets { .. })
+    }
+}
+
+/// Output of an emitter at a given mass flow.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FlowOutput {
+    /// Heat output, W.
+    pub output_w: f64,
+    /// Return temperature, °C.
+    pub return_c: f64,
+}
+
+/// An emitter's heat output as a function of the logarithmic mean
+/// temperature difference water → room.
+///
+/// Implementors guarantee `output_w(0) = 0`, strict increase, and that
+/// `lmtd_for_output_k` is its inverse. The provided methods solve the two
+/// coupled water-side problems.
+pub trait Characteristic {
+    /// Output at ΔT_lm = `lmtd_k` (K, ≥ 0), W.
+    fn output_w(&self, lmtd_k: f64) -> f64;
+
+    /// ΔT_lm at which the output is `output_w` (W, ≥ 0), K.
+    fn lmtd_for_output_k(&self, output_w: f64) -> f64;
+
+    /// Return temperature and mass flow at which the emitter delivers
+    /// `load_w` with supply `supply_c` in a room at `room_c`, or the
+    /// shortfall at the practical flow cap ([`MIN_WATER_DELTA_K`]).
+    /// Zero load gives zero flow and return = room.
+    ///
+    /// Solved on u = ln((θs − θi)/(θr − θi)) ∈ (0, ∞), where
+    /// ΔT_lm/(θs − θi) = (1 − e^(−u))/u is strictly decreasing: a bracketed
+    /// bisection that cannot fail or panic.
+    ///
+    /// # Errors
+    /// [`PhysicsError`] for a non-finite or negative load, or the
+    /// temperatures rejected by [`lmtd_k`].
+    fn return_temp_for_load(&self, load_w: f64, supply_c: f64, room_c: f64) -> PhysicsResult<CheckOutcome> {
+        check::non_negative("heat load", load_w, "W")?;
+        check_supply_room(supply_c, room_c)?;
+        let a = supply_c - room_c;
+        if load_w == 0.0 {
+            return Ok(CheckOutcome::Meets { return_c: room_c, mass_flow_kg_s: 0.0, output_w: 0.0 });
+        }
+        let delta_cap_k = MIN_WATER_DELTA_K.min(0.5 * a);
+        let lmtd_cap_k = lmtd_unchecked(a, a - delta_cap_k);
+        let lmtd_target_k = self.lmtd_for_output_k(load_w);
+        if !lmtd_target_k.is_finite() || lmtd_target_k > lmtd_cap_k {
+            let return_c = supply_c - delta_cap_k;
+            let output_w = self.output_w(lmtd_cap_k);
+            let cp = water::mean_cp_j_kg_k(supply_c, return_c)?;
+            return Ok(CheckOutcome::Shortfall {
+                return_c,
+                mass_flow_kg_s: output_w / (cp * delta_cap_k),
+                output_w,
+                shortfall_w: load_w - output_w,
+                fraction_delivered: output_w / load_w,
+            });
+        }
+        // g(u) = (1 − e^−u)/u, decreasing; find g(u) = r.
+        let r = lmtd_target_k / a;
+        let g = |u: f64| -(-u).exp_m1() / u;
+        let mut lo = -(-delta_cap_k / a).ln_1p(); // g(lo) ≥ r
+        let mut hi = (1.0 / r).max(lo); // g(u) < 1/u ≤ r
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if mid <= lo || mid >= hi {
+                break;
+            }
+            if g(mid) > r {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        let u = 0.5 * (lo + hi);
+        let delta_k = a * -(-u).exp_m1();
+        let return_c = room_c + a * (-u).exp();
+        let return_for_cp = return_c.max(MIN_TEMPERATURE_C);
+        let cp = water::mean_cp_j_kg_k(supply_c, return_for_cp)?;
+        Ok(CheckOutcome::Meets { return_c, mass_flow_kg_s: load_w / (cp * delta_k), output_w: load_w })
+    }
+
+    /// Output and return temperature at mass flow `mass_flow_kg_s` with
+    /// supply `supply_c` in a room at `room_c`: the θr that makes
+    /// q_m·c_p·(θs − θr) equal the characteristic's output. Zero flow gives
+    /// zero output and return = room; the output rises monotonically with
+    /// the flow towards the characteristic's output at ΔT_lm = θs − θi.
+    ///
+    /// Solved by bisection in ln u (u as in
+    /// [`Characteristic::return_temp_for_load`]), where the residual is
+    /// strictly monotone; c_p (IAPWS mean between θs and θr) by an outer
+    /// fixed point (it changes by < 0.5 % over the whole range, so 2–3 passes
+    /// settle it).
+    ///
+    /// # Errors
+    /// [`PhysicsError`] for a non-finite or negative flow or the
+    /// temperatures rejected by [`lmtd_k`].
+    fn output_at_flow(&self, mass_flow_kg_s: f64, supply_c: f64, room_c: f64) -> PhysicsResult<FlowOutput> {
+        check::non_negative("emitter mass flow", mass_flow_kg_s, "kg/s")?;
+        check_supply_room(supply_c, room_c)?;
+        if mass_flow_kg_s == 0.0 {
+            return Ok(FlowOutput { output_w: 0.0, return_c: room_c });
+        }
+        let a = supply_c - room_c;
+        let mut cp = water::mean_cp_j_kg_k(supply_c, room_c + 0.5 * a)?;
+        let mut result = FlowOutput { output_w: 0.0, return_c: room_c };
+        for _ in 0..10 {
+            let capacity_w_k = mass_flow_kg_s * cp;
+            // h(u) increasing in u: water side minus emitter side.
+            let h = |u: f64| {
+                let one_minus_x = -(-u).exp_m1();
+                capacity_w_k * a * one_minus_x - self.output_w(a * one_minus_x / u)
+            };
+            let (mut lo, mut hi) = (1.0_f64, 1.0_f64);
+            let mut bracketed = true;
+            for _ in 0..1100 {
+                if h(lo) <= 0.0 {
+                    break;
+                }
+                lo *= 0.5;
+            }
+            for _ in 0..1100 {
+                if h(hi) >= 0.0 {
+                    break;
+                }
+                hi *= 2.0;
+            }
+            if !(h(lo) <= 0.0 && h(hi) >= 0.0) {
+                bracketed = false;
+            }
+            let delta_k = if bracketed {
+                for _ in 0..200 {
+                    let mid = (lo * hi).sqrt();
+                    if mid <= lo || mid >= hi || hi / lo - 1.0 < 1e-13 {
+                        break;
+                    }
+                    if h(mid) < 0.0 {
+                        lo = mid;
+                    } else {
+                        hi = mid;
+                    }
+                }
+                a * -(-(lo * hi).sqrt()).exp_m1()
+            } else if h(hi) < 0.0 {
+                // Vanishing flow: all the water's heat above the room is given off.
+                a
+            } else {
+                // Enormous flow: the water hardly cools.
+                0.0
+            };
+            let return_c = supply_c - delta_k;
+            let next = FlowOutput { output_w: capacity_w_k * delta_k, return_c };
+            let cp_next = water::mean_cp_j_kg_k(supply_c, return_c.max(MIN_TEMPERATURE_C))?;
+            let settled = (cp_next - cp).abs() <= 1e-10 * cp;
+            cp = cp_next;
+            result = next;
+            if settled {
+                break;
+            }
+        }
+        Ok(result)
+    }
+}
+
+/// The hydraulic resistance of an emitter body itself (valves excluded).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum BodyHydraulics {
+    /// Δp = r·q_m·|q_m| (radiator body, terminal coil given by a Kv).
+    Quadratic {
+        /// Resistance coefficient, Pa·s²/kg².
+        r_pa_s2_kg2: f64,
+    },
+    /// A pipe (the floor loop), Darcy–Weisbach + Colebrook–White.
+    Pipe(PipeHydraulics),
+}
+
+impl BodyHydraulics {
+    /// Quadratic law from a flow coefficient Kv (m³/h at 1 bar):
+    /// Δp in bar = (Q in m³/h / Kv)² with Q = 3600·q_m/ρ, so
+    /// r = 1e5·(3600/(ρ·Kv))².
+    ///
+    /// # Errors
+    /// [`PhysicsError`] for a non-positive Kv or density.
+    pub fn from_kv(kv_m3_h: f64, density_kg_m3: f64) -> PhysicsResult<Self> {
+        check::positive("Kv", kv_m3_h, "m³/h")?;
+        check::positive("water density", density_kg_m3, "kg/m³")?;
+        let k = 3600.0 / (density_kg_m3 * kv_m3_h);
+        Ok(Self::Quadratic { r_pa_s2_kg2: 1e5 * k * k })
+    }
+
+    /// Pressure drop (Pa, sign follows the flow) and its derivative
+    /// (Pa·s/kg) at mass flow `mass_flow_kg_s` (either sign).
+    #[must_use]
+    pub fn dp_pa(&self, mass_flow_kg_s: f64) -> (f64, f64) {
+        match self {
+            Self::Quadratic { r_pa_s2_kg2 } => {
+                (r_pa_s2_kg2 * mass_flow_kg_s * mass_flow_kg_s.abs(), 2.0 * r_pa_s2_kg2 * mass_flow_kg_s.abs())
+            }
+            Self::Pipe(p) => pipe_dp(p, mass_flow_kg_s),
+        }
+    }
+}
+
+/// What a project stores for one emitter.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub enum EmitterModel {
+    /// A panel radiator (existing or to be sized).
+    Radiator(RadiatorSpec),
+    /// A floor-heating loop.
+    FloorLoop(FloorLoopSpec),
+    /// A generic fixed-Kv terminal (fan coil, air heater).
+    Terminal(TerminalSpec),
+}
+
+/// Design temperatures an emitter is designed or checked at.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct DesignTemperatures {
+    /// Supply water temperature, °C.
+    pub supply_c: f64,
+    /// Design return water temperature, °C (used to size radiators; emitters
+    /// that are checked or floor loops get their own return).
+    pub return_c: f64,
+    /// Room temperature, °C.
+    pub room_c: f64,
+}
+
+/// A concrete emitter for the operating solve: known characteristic, body
+/// resistance and water content.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InstalledEmitter {
+    /// Output characteristic.
+    pub characteristic: InstalledCharacteristic,
+    /// Hydraulic resistance of the emitter body.
+    pub body: BodyHydraulics,
+    /// Water content, l.
+    pub water_content_l: f64,
+}
+
+/// The characteristic of an [`InstalledEmitter`].
+#[derive(Debug, Clone, PartialEq)]
+pub enum InstalledCharacteristic {
+    /// EN 442 power law (radiator).
+    Radiator(RadiatorRating),
+    /// Simplified EN 1264 loop.
+    FloorLoop(floor::FloorCharacteristic),
+    /// Power law through stated nominal conditions.
+    Terminal(terminal::TerminalRating),
+}
+
+impl Characteristic for InstalledCharacteristic {
+    fn output_w(&self, lmtd_k: f64) -> f64 {
+        match self {
+            Self::Radiator(c) => c.output_w(lmtd_k),
+            Self::FloorLoop(c) => c.output_w(lmtd_k),
+            Self::Terminal(c) => c.output_w(lmtd_k),
+        }
+    }
+
+    fn lmtd_for_output_k(&self, output_w: f64) -> f64 {
+        match self {
+            Self::Radiator(c) => c.lmtd_for_output_k(output_w),
+            Self::FloorLoop(c) => c.lmtd_for_output_k(output_w),
+            Self::Terminal(c) => c.lmtd_for_output_k(output_w),
+        }
+    }
+}
+
+impl InstalledEmitter {
+    /// Output and return temperature at a mass flow (see
+    /// [`Characteristic::output_at_flow`]).
+    ///
+    /// # Errors
+    /// As [`Characteristic::output_at_flow`].
+    pub fn output_at_flow(&self, mass_flow_kg_s: f64, supply_c: f64, room_c: f64) -> PhysicsResult<FlowOutput> {
+        self.characteristic.output_at_flow(mass_flow_kg_s, supply_c, room_c)
+    }
+
+    /// Return temperature and flow for a load (see
+    /// [`Characteristic::return_temp_for_load`]).
+    ///
+    /// # Errors
+    /// As [`Characteristic::return_temp_for_load`].
+    pub fn return_temp_for_load(&self, load_w: f64, supply_c: f64, room_c: f64) -> PhysicsResult<CheckOutcome> {
+        self.characteristic.return_temp_for_load(load_w, supply_c, room_c)
+    }
+}
+
+/// Extra design results per emitter kind.
+#[derive(Debug, Clone, PartialEq)]
+pub enum EmitterDetail {
+    /// Radiator: required and selected nominal output.
+    Radiator(radiator::RadiatorDesign),
+    /// Floor loop: heat flux, surface temperature, loop length, Δp, flags.
+    FloorLoop(FloorLoopDesign),
+    /// Terminal: nothing beyond the outcome.
+    Terminal,
+}
+
+/// Result of designing one emitter for its load.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EmitterDesign {
+    /// Flow, return temperature and output at design (or the shortfall).
+    pub outcome: CheckOutcome,
+    /// The concrete emitter for the operating solve.
+    pub installed: InstalledEmitter,
+    /// Kind-specific results.
+    pub detail: EmitterDetail,
+}
+
+impl EmitterModel {
+    /// Design the emitter for `load_w` at `temps`: a radiator to size gets
+    /// the nominal output needed at (θs, θr, θi) and a catalog length; an
+    /// existing radiator and a terminal are checked (their return follows
+    /// from the load); a floor loop gets its heat flux, surface temperature,
+    /// return temperature, flow and loop pressure drop.
+    ///
+    /// # Errors
+    /// [`PhysicsError`] for non-physical inputs, an unknown catalog entry or
+    /// a floor loop outside the model's validity range.
+    pub fn design(&self, load_w: f64, temps: &DesignTemperatures) -> PhysicsResult<EmitterDesign> {
+        match self {
+            Self::Radiator(spec) => radiator::design(spec, load_w, temps),
+            Self::FloorLoop(spec) => {
+                let d = floor::design(spec, load_w, temps.supply_c, temps.room_c)?;
+                let installed = InstalledEmitter {
+                    characteristic: InstalledCharacteristic::FloorLoop(d.characteristic),
+                    body: BodyHydraulics::Pipe(d.loop_pipe),
+                    water_content_l: d.water_content_l,
+                };
+                Ok(EmitterDesign { outcome: d.outcome, installed, detail: EmitterDetail::FloorLoop(d) })
+            }
+            Self::Terminal(spec) => {
+                let rating = spec.rating()?;
+                let outcome = rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?;
+                let mean_c = 0.5 * (temps.supply_c + outcome.return_c());
+                let density = water::density_kg_m3(mean_c.max(MIN_TEMPERATURE_C))?;
+                let installed = InstalledEmitter {
+                    characteristic: InstalledCharacteristic::Terminal(rating),
+                    body: BodyHydraulics::from_kv(spec.kv_m3_h, density)?,
+                    water_content_l: spec.water_content_l,
+                };
+                Ok(EmitterDesign { outcome, installed, detail: EmitterDetail::Terminal })
+            }
+        }
+    }
+
+    /// Design mass flow for `load_w` at `temps`, kg/s (see [`Self::design`]).
+    ///
+    /// # Errors
+    /// As [`Self::design`].
+    pub fn design_flow_kg_s(&self, load_w: f64, temps: &DesignTemperatures) -> PhysicsResult<f64> {
+        Ok(self.design(load_w, temps)?.outcome.mass_flow_kg_s())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn lmtd_rejects_non_physical_temperatures_naming_them() {
+        let e = lmtd_k(55.0, 60.0, 20.0).unwrap_err();
+        assert!(e.to_string().contains("60"), "{e}");
+        let e = lmtd_k(55.0, 20.0, 20.0).unwrap_err();
+        assert!(e.to_string().contains("return temperature 20"), "{e}");
+        assert!(lmtd_k(18.0, 17.0, 20.0).is_err());
+        assert!(matches!(lmtd_k(f64::NAN, 45.0, 20.0), Err(PhysicsError::NotFinite { .. })));
+        assert!(matches!(lmtd_k(120.0, 45.0, 20.0), Err(PhysicsError::OutOfRange { .. })));
+        assert!(matches!(lmtd_k(55.0, 45.0, 60.0), Err(PhysicsError::OutOfRange { .. })));
+    }
+
+    #[test]
+    fn lmtd_limit_at_equal_temperatures() {
+        assert!((lmtd_k(60.0, 60.0, 20.0).unwrap() - 40.0).abs() < 1e-12);
+        let near = lmtd_k(60.0, 60.0 - 1e-9, 20.0).unwrap();
+        assert!((near - (40.0 - 0.5e-9)).abs() < 1e-9, "{near}");
+    }
+
+    #[test]
+    fn kv_body_law() {
+        // 1 m³/h through Kv = 1 gives 1 bar (definition of Kv).
+        let rho = 1000.0;
+        let b = BodyHydraulics::from_kv(1.0, rho).unwrap();
+        let (dp, slope) = b.dp_pa(rho / 3600.0);
+        assert!((dp - 1e5).abs() < 1e-6, "{dp}");
+        assert!((slope - 2.0 * dp / (rho / 3600.0)).abs() < 1e-6);
+        assert!(BodyHydraulics::from_kv(0.0, rho).is_err());
+        assert!(BodyHydraulics::from_kv(1.0, f64::NAN).is_err());
+    }
+
+    #[test]
+    fn model_round_trips_through_ron() {
+        let models = vec![
+            EmitterModel::Radiator(RadiatorSpec {
+                type_code: "22".into(),
+                height_mm: 600,
+                sizing: RadiatorSizing::Existing { nominal_output_w: 1750.0, length_mm: 1000 },
+                exponent_n: Some(1.3),
+            }),
+            EmitterModel::Terminal(TerminalSpec {
+                nominal_output_w: 3000.0,
+                nominal_supply_c: 45.0,
+                nominal_return_c: 40.0,
+                nominal_room_c: 20.0,
+                exponent_n: 1.0,
+                kv_m3_h: 1.6,
+                water_content_l: 1.2,
+            }),
+        ];
+        let text = ron::to_string(&models).unwrap();
+        let back: Vec<EmitterModel> = ron::from_str(&text).unwrap();
+        assert_eq!(back, models);
+    }
+
+    #[test]
+    fn existing_radiator_design_checks_and_freezes() {
+        let temps = DesignTemperatures { supply_c: 45.0, return_c: 35.0, room_c: 20.0 };
+        let existing = EmitterModel::Radiator(RadiatorSpec {
+            type_code: "11".into(),
+            height_mm: 600,
+            sizing: RadiatorSizing::Existing { nominal_output_w: 1000.0, length_mm: 1000 },
+            exponent_n: None,
+        });
+        // 1000 W nominal cannot give 900 W at 45 °C supply: a shortfall.
+        let d = existing.design(900.0, &temps).unwrap();
+        assert!(!d.outcome.meets_load());
+        let d = existing.design(300.0, &temps).unwrap();
+        assert!(d.outcome.meets_load());
+        let o = d.installed.output_at_flow(d.outcome.mass_flow_kg_s(), 45.0, 20.0).unwrap();
+        assert!((o.output_w - 300.0).abs() < 1e-6, "{o:?}");
+        let (dp, slope) = d.installed.body.dp_pa(d.outcome.mass_flow_kg_s());
+        assert!(dp > 0.0 && slope > 0.0);
+    }
+
+    #[test]
+    fn checks_reject_bad_loads_and_flows() {
+        let r = RadiatorRating::new(1000.0, 1.3).unwrap();
+        assert!(r.return_temp_for_load(-1.0, 55.0, 20.0).is_err());
+        assert!(r.return_temp_for_load(f64::NAN, 55.0, 20.0).is_err());
+        assert!(r.output_at_flow(-0.01, 55.0, 20.0).is_err());
+        assert!(r.output_at_flow(0.01, 15.0, 20.0).is_err());
+    }
+}

@@ -1,0 +1,870 @@
+//! The network solver: the Global Gradient Algorithm in pressure / mass-flow
+//! form.
+//!
+//! Source: Todini, E. & Pilati, S. (1988) "A gradient algorithm for the
+//! analysis of pipe networks", in Computer Applications in Water Supply,
+//! Vol. 1, Research Studies Press, pp. 1–20. Their unknowns are heads and
+//! volume flows; here they are pressures (Pa) and mass flows (kg/s), with the
+//! elevation term carried per link so that links of different density
+//! (supply and return) give buoyancy.
+//!
+//! # Equations
+//! Link k from node i to node j, mass flow m_k (positive i → j):
+//!
+//! ```text
+//! F_k(m_k) = p_i − p_j + c_k,        c_k = ρ_k · g · (z_i − z_j)
+//! ```
+//!
+//! with F_k the pressure drop of the link in its own direction ([`link_dp`]:
+//! a pipe, a quadratic resistance, or a pump whose drop is minus its rise).
+//! Node i: Σ m_out − Σ m_in = demand_i. The reference node's pressure is
+//! fixed; it absorbs the net demand.
+//!
+//! # One Newton iteration
+//! With D_k = F'_k(m_k) (floored, see below) and the link flow that would
+//! pass at equal end pressures q_k = m_k + (c_k − F_k)/D_k, the new flows are
+//! m'_k = q_k + (p_i − p_j)/D_k. Putting them into continuity gives
+//!
+//! ```text
+//! A · diag(1/D) · Aᵀ · x = d − A · q        (x = p − p_ref)
+//! ```
+//!
+//! a graph Laplacian weighted by the conductances 1/D_k, with the reference
+//! row and column removed: symmetric positive definite for a connected
+//! network. It is factored by `faer`'s sparse Cholesky (AMD ordering, symbolic
+//! analysis once per topology in [`SolverWorkspace`], numeric LLᵀ per
+//! iteration). Because the flows are updated from the solved pressures, every
+//! node balances to the accuracy of the linear solve after *every* iteration;
+//! what is iterated is the link law.
+//!
+//! # Regularisation (why it does not bias the answer)
+//! - The derivative used in the matrix is max(F'_k, [`SolveSettings::min_slope_pa_s_kg`]).
+//!   Only the Jacobian is changed, never the residual F_k − (p_i − p_j + c_k):
+//!   a converged answer satisfies the exact link laws. The floor matters for
+//!   pumps held at constant Δp (F' = 0) and pump curves that turn upwards;
+//!   with the default (1 Pa·s/kg) the extra contraction factor per iteration
+//!   is ~ floor / (system slope), about 1e-4 for a small heating loop.
+//! - A quadratic resistance r·m|m| is replaced below
+//!   [`QUADRATIC_LINEAR_BELOW_KG_S`] by the line r·m₀·m (continuous at m₀).
+//!   This is a change of the law (EPANET-style practice, recalled from memory,
+//!   not verified against the document), bounded by r·m₀²: 1e-3 Pa for an
+//!   extreme r = 1e9 Pa·s²/kg², well below the pressure tolerance.
+//! - A closed link carries no flow and puts nothing in the matrix. A part of
+//!   the network cut off from the reference node by closed links would make
+//!   the matrix singular, so one node of each such part gets its diagonal
+//!   doubled (1 kg/(s·Pa) when it has no open link). Summing the rows of the
+//!   part shows that this anchors that node to the reference pressure
+//!   *exactly* (the part's demand must be zero, checked) without disturbing
+//!   continuity inside it — unlike a tiny conductance in the closed link,
+//!   which would leak a little flow. The parts are listed in
+//!   [`SolveReport::isolated_nodes`]; their pressure level is not defined by
+//!   the physics.
+//!
+//! # Convergence
+//! Both, after the last update: relative flow change Σ|Δm|/Σ|m| ≤
+//! [`SolveSettings::flow_tolerance`], and for every open link
+//! |F_k(m_k) − (p_i − p_j + c_k)| ≤ [`SolveSettings::pressure_tolerance_pa`].
+//! When the relative change grows from one iteration to the next (from the
+//! third on), the step is scaled by [`SolveSettings::damping_factor`]; scaling
+//! both the flows and the pressures keeps continuity, since the previous
+//! iterate already balanced.
+
+mod workspace;
+
+pub use workspace::SolverWorkspace;
+
+use std::time::Instant;
+
+use faer::dyn_stack::MemStack;
+use faer::sparse::SparseColMatRef;
+use faer::{Conj, MatMut, Par, Side};
+use thiserror::Error;
+
+use self::workspace::NONE;
+use super::{GRAVITY_M_S2, HydraulicNetwork, LinkLaw};
+use crate::error::{PhysicsError, PhysicsResult, check};
+use crate::friction::{PipeHydraulics, pipe_dp};
+
+/// Below this |mass flow|, kg/s, a [`LinkLaw::Quadratic`] resistance follows
+/// the straight line r·m₀·m instead of r·m|m| (m₀ = this value), so its
+/// derivative does not vanish at zero flow.
+///
+/// 1e-6 kg/s is 3.6 g/h: no heating circuit is designed near it, and the
+/// change of the law is at most r·m₀² (see the module docs).
+pub const QUADRATIC_LINEAR_BELOW_KG_S: f64 = 1e-6;
+
+/// Below this total |flow|, kg/s, the flow-change criterion becomes absolute
+/// (a network at rest has Σ|m| = 0).
+pub const FLOW_SCALE_FLOOR_KG_S: f64 = 1e-9;
+
+/// How many suspect links a non-convergence diagnostic names at most.
+pub const MAX_SUSPECT_LINKS: usize = 10;
+
+/// Numeric parameters of the solver. Every field: unit, default, reason.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SolveSettings {
+    /// Convergence limit on the relative flow change of the last iteration,
+    /// Σ|Δm_k| / Σ|m_k| (dimensionless). Default 1e-6: one part per million
+    /// of the flows, far below what a balancing valve or a flow meter
+    /// resolves; Newton reaches it one or two iterations after 1e-3.
+    pub flow_tolerance: f64,
+    /// Convergence limit on the pressure balance of every open link,
+    /// |F_k(m_k) − (p_i − p_j + c_k)|, Pa. Default 0.01 Pa: a millionth of a
+    /// typical 10 kPa circuit, and still well above the rounding of the
+    /// pressures (~1e-11 relative).
+    pub pressure_tolerance_pa: f64,
+    /// Most Newton iterations (linear solves) before giving up with a
+    /// diagnostic. Default 100: the Global Gradient Algorithm usually needs
+    /// 5–15 from a cold start and 1–2 from a warm start; 100 leaves room for
+    /// damped steps.
+    pub max_iterations: usize,
+    /// Floor of the link derivative dF/dm used in the matrix, Pa·s/kg.
+    /// Default 1.0: a pump at constant Δp (dF/dm = 0) or a curve turning
+    /// upwards still gives a finite conductance of 1 kg/(s·Pa). Only the
+    /// Jacobian changes, so the converged answer does not (module docs). A
+    /// much smaller floor widens the spread of the conductances and with it
+    /// the rounding of the mass balance (≈ 1e-16 · Δp_max / floor kg/s).
+    pub min_slope_pa_s_kg: f64,
+    /// Starting velocity of a pipe without a given start flow, m/s.
+    /// Default 0.3: mid-range for heating pipes (common practice 0.2–1 m/s).
+    pub initial_velocity_m_s: f64,
+    /// Starting mass flow of a non-pipe link (valve, emitter, pump) without a
+    /// given start flow, kg/s, positive along the link. Default 0.02 kg/s
+    /// (72 kg/h): the order of one radiator circuit (common practice).
+    pub initial_flow_kg_s: f64,
+    /// Step scale (0 < f ≤ 1) applied when the relative flow change grows
+    /// from one iteration to the next, from the third iteration on. Default
+    /// 0.5 (halving, the usual line-search choice); 1 disables damping.
+    pub damping_factor: f64,
+}
+
+impl Default for SolveSettings {
+    fn default() -> Self {
+        Self {
+            flow_tolerance: 1e-6,
+            pressure_tolerance_pa: 0.01,
+            max_iterations: 100,
+            min_slope_pa_s_kg: 1.0,
+            initial_velocity_m_s: 0.3,
+            initial_flow_kg_s: 0.02,
+            damping_factor: 0.5,
+        }
+    }
+}
+
+impl SolveSettings {
+    /// Checks every field.
+    ///
+    /// # Errors
+    /// [`PhysicsError`] naming the first invalid field.
+    pub fn validate(&self) -> PhysicsResult<()> {
+        check::positive("flow tolerance", self.flow_tolerance, "")?;
+        check::positive("pressure tolerance", self.pressure_tolerance_pa, "Pa")?;
+        if self.max_iterations == 0 {
+            return Err(PhysicsError::Inconsistent("maximum iterations must be at least 1".into()));
+        }
+        check::positive("minimum link slope", self.min_slope_pa_s_kg, "Pa·s/kg")?;
+        check::positive("initial pipe velocity", self.initial_velocity_m_s, "m/s")?;
+        check::positive("initial link flow", self.initial_flow_kg_s, "kg/s")?;
+        check::positive("damping factor", self.damping_factor, "")?;
+        check::in_range("damping factor", self.damping_factor, "", f64::MIN_POSITIVE, 1.0)?;
+        Ok(())
+    }
+}
+
+/// An invalid network or input: nothing was solved.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum SolveError {
+    /// The network has no node.
+    #[error("the network has no nodes")]
+    EmptyNetwork,
+    /// The reference node index does not exist.
+    #[error("reference node {reference_node} does not exist (the network has {node_count} nodes)")]
+    ReferenceNodeOutOfRange {
+        /// Given reference node.
+        reference_node: usize,
+        /// Number of nodes.
+        node_count: usize,
+    },
+    /// A link ends at a node that does not exist.
+    #[error("link {link} ends at node {node}, which does not exist (the network has {node_count} nodes)")]
+    LinkEndpointOutOfRange {
+        /// Link index.
+        link: usize,
+        /// The missing node.
+        node: usize,
+        /// Number of nodes.
+        node_count: usize,
+    },
+    /// A link joins a node to itself.
+    #[error("link {link} starts and ends at node {node}; a link must join two different nodes")]
+    SelfLoop {
+        /// Link index.
+        link: usize,
+        /// Its node.
+        node: usize,
+    },
+    /// A node no link path joins to the reference node.
+    #[error("node {node} is not connected to the reference node {reference_node} by any link; connect it or remove it")]
+    NodeNotConnected {
+        /// First unconnected node found.
+        node: usize,
+        /// Reference node.
+        reference_node: usize,
+    },
+    /// A node with a non-finite elevation or demand.
+    #[error("node {node}: {source}")]
+    InvalidNode {
+        /// Node index.
+        node: usize,
+        /// What is wrong.
+        source: PhysicsError,
+    },
+    /// A link with a non-physical parameter.
+    #[error("link {link}: {source}")]
+    InvalidLink {
+        /// Link index.
+        link: usize,
+        /// What is wrong.
+        source: PhysicsError,
+    },
+    /// The reference pressure is not finite.
+    #[error("reference pressure: {0}")]
+    InvalidReferencePressure(PhysicsError),
+    /// A settings field out of range.
+    #[error("solver settings: {0}")]
+    InvalidSettings(PhysicsError),
+    /// The start flows do not match the links.
+    #[error("initial flows: {expected} values expected (one per link), {got} given")]
+    InitialFlowCount {
+        /// Number of links.
+        expected: usize,
+        /// Number of values given.
+        got: usize,
+    },
+    /// A start flow that is NaN or infinite.
+    #[error("initial flow of link {link}: {source}")]
+    InvalidInitialFlow {
+        /// Link index.
+        link: usize,
+        /// What is wrong.
+        source: PhysicsError,
+    },
+    /// Closed links cut off a part of the network that has a net demand:
+    /// water would have to leave a sealed part.
+    #[error(
+        "closed links cut node {node} off from the reference node, and that part has a net demand of {demand_kg_s} kg/s; open a link or remove the demand"
+    )]
+    DemandInIsolatedPart {
+        /// A node of the cut-off part.
+        node: usize,
+        /// Net demand of the part, kg/s.
+        demand_kg_s: f64,
+    },
+    /// The sparse library failed outside the Newton loop (ordering or
+    /// memory).
+    #[error("sparse factorisation failed: {0}")]
+    Factorisation(String),
+}
+
+/// Time spent per stage of one solve, µs.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct SolveTimings {
+    /// Building the workspace (ordering + symbolic factor), 0 when reused.
+    pub symbolic_us: f64,
+    /// Evaluating link laws and filling the matrix and right-hand side.
+    pub assemble_us: f64,
+    /// Numeric Cholesky factorisations.
+    pub factor_us: f64,
+    /// Triangular solves and flow updates.
+    pub solve_us: f64,
+    /// The whole call.
+    pub total_us: f64,
+}
+
+/// Why a solve stopped without converging.
+#[derive(Debug, Clone, PartialEq)]
+pub enum NonConvergenceReason {
+    /// `max_iterations` reached.
+    IterationLimit {
+        /// The limit.
+        max_iterations: usize,
+    },
+    /// A NaN or infinity appeared in the links named in
+    /// [`NonConvergence::suspect_links`] (flow, pressure drop, derivative or
+    /// end pressure).
+    NonFinite,
+    /// The numeric factorisation found a non-positive pivot (should not
+    /// happen with positive conductances; reported rather than hidden).
+    Factorisation {
+        /// The library's message.
+        message: String,
+    },
+}
+
+/// One link a non-convergence diagnostic points at.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SuspectLink {
+    /// Link index.
+    pub link: usize,
+    /// How often its flow step changed sign (oscillation), counting only
+    /// steps larger than the flow tolerance.
+    pub sign_flips: u32,
+    /// Its last step relative to its flow, |Δm|/max(|m|, 1e-9 kg/s).
+    pub last_relative_change: f64,
+}
+
+/// What the solver knows when it stops without converging.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NonConvergence {
+    /// Why it stopped.
+    pub reason: NonConvergenceReason,
+    /// Links that oscillate (most sign flips first) or changed most in the
+    /// last iteration; for [`NonConvergenceReason::NonFinite`], the links
+    /// with a non-finite value. At most [`MAX_SUSPECT_LINKS`].
+    pub suspect_links: Vec<SuspectLink>,
+    /// Relative flow change of the last iteration.
+    pub last_flow_change: f64,
+    /// Largest link pressure-balance residual after the last iteration, Pa.
+    pub last_residual_pa: f64,
+}
+
+/// Result of [`solve`]. Non-convergence is reported here, not as an error.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SolveReport {
+    /// Mass flow per link, kg/s, positive from `from` to `to` (0 for closed
+    /// links).
+    pub flows_kg_s: Vec<f64>,
+    /// Pressure per node, Pa (same gauge as the reference pressure).
+    pub pressures_pa: Vec<f64>,
+    /// Newton iterations done (= linear solves).
+    pub iterations: usize,
+    /// Both convergence criteria met.
+    pub converged: bool,
+    /// Relative flow change Σ|Δm|/Σ|m| of each iteration.
+    pub flow_change_history: Vec<f64>,
+    /// Largest |F_k − (p_i − p_j + c_k)| over open links after each
+    /// iteration, Pa.
+    pub residual_history_pa: Vec<f64>,
+    /// Largest |Σ out − Σ in − demand| over the nodes other than the
+    /// reference node, kg/s.
+    pub max_mass_imbalance_kg_s: f64,
+    /// Nodes cut off from the reference node by closed links (pressure held
+    /// at the reference pressure at one node of each part; see module docs).
+    pub isolated_nodes: Vec<usize>,
+    /// The workspace was (re)built for this solve.
+    pub workspace_rebuilt: bool,
+    /// Stage timings.
+    pub timings: SolveTimings,
+    /// Set when `converged` is false.
+    pub diagnostic: Option<NonConvergence>,
+}
+
+/// Pressure drop of a link law along its direction, Pa, and its derivative
+/// d(Δp)/dm, Pa·s/kg, at mass flow `mass_flow_kg_s` (either sign).
+///
+/// Pipe: [`crate::friction::pipe_dp`]. Quadratic: r·m|m| (linear below
+/// [`QUADRATIC_LINEAR_BELOW_KG_S`]). Pump: −(a0 + a1·m + a2·m²), negative
+/// for a pressure rise; its derivative may be zero or negative (the solver
+/// floors it). The static term ρ·g·Δz is not included.
+///
+/// # Errors
+/// [`PhysicsError::NotFinite`] when the flow is NaN or infinite.
+pub fn link_dp(law: &LinkLaw, mass_flow_kg_s: f64) -> PhysicsResult<(f64, f64)> {
+    check::finite("link mass flow", mass_flow_kg_s, "kg/s")?;
+    Ok(eval_law(law, mass_flow_kg_s))
+}
+
+/// Static pressure term c = ρ·g·(z_from − z_to) of a link, Pa: positive when
+/// the link runs downhill (the water column pushes along it).
+///
+/// # Errors
+/// [`PhysicsError`] for a non-finite or non-positive density or a non-finite
+/// elevation.
+pub fn static_term_pa(density_kg_m3: f64, from_elevation_m: f64, to_elevation_m: f64) -> PhysicsResult<f64> {
+    check::positive("link water density", density_kg_m3, "kg/m³")?;
+    check::finite("node elevation", from_elevation_m, "m")?;
+    check::finite("node elevation", to_elevation_m, "m")?;
+    Ok(density_kg_m3 * GRAVITY_M_S2 * (from_elevation_m - to_elevation_m))
+}
+
+/// The law without checks (hot loop).
+fn eval_law(law: &LinkLaw, m: f64) -> (f64, f64) {
+    match *law {
+        LinkLaw::Pipe(ref pipe) => pipe_dp(pipe, m),
+        LinkLaw::Quadratic { r_pa_s2_kg2: r } => {
+            let a = m.abs();
+            if a >= QUADRATIC_LINEAR_BELOW_KG_S {
+                (r * m * a, 2.0 * r * a)
+            } else {
+                (r * QUADRATIC_LINEAR_BELOW_KG_S * m, r * QUADRATIC_LINEAR_BELOW_KG_S)
+            }
+        }
+        LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2 } => {
+            (-(a0_pa + a1_pa_s_kg * m + a2_pa_s2_kg2 * m * m), -(a1_pa_s_kg + 2.0 * a2_pa_s2_kg2 * m))
+        }
+    }
+}
+
+/// Every node and link value checked (topology is checked by the
+/// workspace).
+fn validate_values(net: &HydraulicNetwork) -> Result<(), SolveError> {
+    check::finite("reference pressure", net.reference_pressure_pa, "Pa").map_err(SolveError::InvalidReferencePressure)?;
+    for (node, n) in net.nodes.iter().enumerate() {
+        check::finite("node elevation", n.elevation_m, "m")
+            .and_then(|_| check::finite("node demand", n.demand_kg_s, "kg/s"))
+            .map_err(|source| SolveError::InvalidNode { node, source })?;
+    }
+    for (link, l) in net.links.iter().enumerate() {
+        let checked = check::positive("link water density", l.density_kg_m3, "kg/m³").and_then(|_| match l.law {
+            LinkLaw::Pipe(ref p) => PipeHydraulics::new(
+                p.length_m,
+                p.inner_diameter_m,
+                p.roughness_m,
+                p.zeta_sum,
+                p.density_kg_m3,
+                p.viscosity_pa_s,
+            )
+            .map(|_| ()),
+            LinkLaw::Quadratic { r_pa_s2_kg2 } => {
+                check::non_negative("resistance coefficient r", r_pa_s2_kg2, "Pa·s²/kg²").map(|_| ())
+            }
+            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2 } => check::finite("pump coefficient a0", a0_pa, "Pa")
+                .and_then(|_| check::finite("pump coefficient a1", a1_pa_s_kg, "Pa·s/kg"))
+                .and_then(|_| check::finite("pump coefficient a2", a2_pa_s2_kg2, "Pa·s²/kg²"))
+                .map(|_| ()),
+        });
+        checked.map_err(|source| SolveError::InvalidLink { link, source })?;
+    }
+    Ok(())
+}
+
+/// Solves the network for link mass flows and node pressures.
+///
+/// `workspace` is reused when it matches `net`'s topology and rebuilt
+/// otherwise. `initial_flows_kg_s` (one per link) warm-starts the iteration —
+/// pass the previous answer after a small edit; without it pipes start at
+/// [`SolveSettings::initial_velocity_m_s`] and other links at
+/// [`SolveSettings::initial_flow_kg_s`]. Closed links always start (and stay)
+/// at zero.
+///
+/// Non-convergence (iteration limit, NaN/inf, failed factorisation) is a
+/// report with `converged == false` and a [`NonConvergence`] diagnostic.
+/// Allocation happens before and after the Newton loop, not inside it.
+///
+/// # Errors
+/// [`SolveError`] for an invalid network, settings or start flows.
+pub fn solve(
+    net: &HydraulicNetwork,
+    settings: &SolveSettings,
+    workspace: &mut SolverWorkspace,
+    initial_flows_kg_s: Option<&[f64]>,
+) -> Result<SolveReport, SolveError> {
+    let t_total = Instant::now();
+    settings.validate().map_err(SolveError::InvalidSettings)?;
+    let mut timings = SolveTimings::default();
+    let workspace_rebuilt = !workspace.matches(net);
+    if workspace_rebuilt {
+        let t = Instant::now();
+        *workspace = SolverWorkspace::new(net)?;
+        timings.symbolic_us = micros(t);
+    }
+    validate_values(net)?;
+    if let Some(init) = initial_flows_kg_s {
+        if init.len() != net.links.len() {
+            return Err(SolveError::InitialFlowCount { expected: net.links.len(), got: init.len() });
+        }
+        for (link, &m) in init.iter().enumerate() {
+            check::finite("initial mass flow", m, "kg/s").map_err(|source| SolveError::InvalidInitialFlow { link, source })?;
+        }
+    }
+
+    let ws = workspace;
+    let isolated_nodes = prepare(ws, net, settings, initial_flows_kg_s)?;
+    let mut state = LoopState::new(settings.max_iterations);
+    let outcome = newton_loop(ws, net, settings, &mut state, &mut timings);
+
+    let max_mass_imbalance_kg_s = mass_imbalance(ws, net);
+    let converged = matches!(outcome, Outcome::Converged);
+    let diagnostic = match outcome {
+        Outcome::Converged => None,
+        Outcome::IterationLimit => Some(NonConvergence {
+            reason: NonConvergenceReason::IterationLimit { max_iterations: settings.max_iterations },
+            suspect_links: suspects(ws, settings),
+            last_flow_change: state.last_flow_change,
+            last_residual_pa: state.last_residual_pa,
+        }),
+        Outcome::NonFinite(suspect_links) => Some(NonConvergence {
+            reason: NonConvergenceReason::NonFinite,
+            suspect_links,
+            last_flow_change: state.last_flow_change,
+            last_residual_pa: state.last_residual_pa,
+        }),
+        Outcome::Factorisation(message) => Some(NonConvergence {
+            reason: NonConvergenceReason::Factorisation { message },
+            suspect_links: suspects(ws, settings),
+            last_flow_change: state.last_flow_change,
+            last_residual_pa: state.last_residual_pa,
+        }),
+    };
+    let flows_kg_s = ws.flow_kg_s.iter().zip(&ws.open).map(|(&m, &open)| if open { m } else { 0.0 }).collect();
+    let pressures_pa = ws.rel_pressure_pa.iter().map(|&x| net.reference_pressure_pa + x).collect();
+    timings.total_us = micros(t_total);
+    Ok(SolveReport {
+        flows_kg_s,
+        pressures_pa,
+        iterations: state.iterations,
+        converged,
+        flow_change_history: state.flow_change_history,
+        residual_history_pa: state.residual_history_pa,
+        max_mass_imbalance_kg_s,
+        isolated_nodes,
+        workspace_rebuilt,
+        timings,
+        diagnostic,
+    })
+}
+
+fn micros(t: Instant) -> f64 {
+    t.elapsed().as_secs_f64() * 1e6
+}
+
+/// Per-solve setup: open flags, static terms, start flows, anchors of the
+/// parts cut off by closed links. Returns the isolated nodes (sorted).
+fn prepare(
+    ws: &mut SolverWorkspace,
+    net: &HydraulicNetwork,
+    settings: &SolveSettings,
+    initial_flows_kg_s: Option<&[f64]>,
+) -> Result<Vec<usize>, SolveError> {
+    for (k, l) in net.links.iter().enumerate() {
+        ws.open[k] = !l.closed;
+        let (zi, zj) = (net.nodes[l.from].elevation_m, net.nodes[l.to].elevation_m);
+        ws.static_pa[k] = l.density_kg_m3 * GRAVITY_M_S2 * (zi - zj);
+        let start = match (initial_flows_kg_s, &l.law) {
+            (Some(init), _) => init[k],
+            (None, LinkLaw::Pipe(p)) => p.density_kg_m3 * settings.initial_velocity_m_s * p.flow_area_m2(),
+            (None, _) => settings.initial_flow_kg_s,
+        };
+        ws.flow_kg_s[k] = if l.closed { 0.0 } else { start };
+    }
+    ws.step_kg_s.iter_mut().for_each(|v| *v = 0.0);
+    ws.last_significant_step_kg_s.iter_mut().for_each(|v| *v = 0.0);
+    ws.sign_flips.iter_mut().for_each(|v| *v = 0);
+    ws.rel_pressure_pa.iter_mut().for_each(|v| *v = 0.0);
+
+    // Parts cut off by closed links: one anchor each.
+    ws.anchors.clear();
+    let mut isolated = Vec::new();
+    let open = std::mem::take(&mut ws.open);
+    let usable = |k: usize| open[k];
+    let mut result = Ok(());
+    if ws.first_unreachable_node(usable).is_some() {
+        for start in 0..ws.node_count {
+            if ws.visited[start] {
+                continue;
+            }
+            ws.flood_from(start, &usable);
+            let demand_kg_s: f64 = ws.queue.iter().map(|&v| net.nodes[v].demand_kg_s).sum();
+            let scale: f64 = ws.queue.iter().map(|&v| net.nodes[v].demand_kg_s.abs()).sum();
+            if demand_kg_s.abs() > 1e-12 * scale.max(1.0) {
+                result = Err(SolveError::DemandInIsolatedPart { node: start, demand_kg_s });
+                break;
+            }
+            ws.anchors.push(start);
+            isolated.extend_from_slice(&ws.queue);
+        }
+    }
+    ws.open = open;
+    result?;
+    isolated.sort_unstable();
+    Ok(isolated)
+}
+
+/// Counters and histories of one solve.
+struct LoopState {
+    iterations: usize,
+    flow_change_history: Vec<f64>,
+    residual_history_pa: Vec<f64>,
+    last_flow_change: f64,
+    last_residual_pa: f64,
+}
+
+impl LoopState {
+    fn new(max_iterations: usize) -> Self {
+        Self {
+            iterations: 0,
+            flow_change_history: Vec::with_capacity(max_iterations),
+            residual_history_pa: Vec::with_capacity(max_iterations),
+            last_flow_change: f64::INFINITY,
+            last_residual_pa: f64::INFINITY,
+        }
+    }
+}
+
+enum Outcome {
+    Converged,
+    IterationLimit,
+    NonFinite(Vec<SuspectLink>),
+    Factorisation(String),
+}
+
+/// Evaluates every open link law at the current flows into `drop_pa` and
+/// `slope_pa_s_kg` (floored) and returns the largest pressure-balance
+/// residual, Pa, or the links with non-finite values.
+fn evaluate_links(
+    ws: &mut SolverWorkspace,
+    net: &HydraulicNetwork,
+    settings: &SolveSettings,
+) -> Result<f64, Vec<SuspectLink>> {
+    let mut max_residual_pa = 0.0f64;
+    let mut bad = false;
+    for (k, l) in net.links.iter().enumerate() {
+        if !ws.open[k] {
+            ws.drop_pa[k] = 0.0;
+            ws.slope_pa_s_kg[k] = settings.min_slope_pa_s_kg;
+            continue;
+        }
+        let (drop_pa, slope) = eval_law(&l.law, ws.flow_kg_s[k]);
+        ws.drop_pa[k] = drop_pa;
+        ws.slope_pa_s_kg[k] = slope.max(settings.min_slope_pa_s_kg);
+        let (i, j) = ws.endpoints[k];
+        let residual = drop_pa - (ws.rel_pressure_pa[i] - ws.rel_pressure_pa[j] + ws.static_pa[k]);
+        if residual.is_finite() && slope.is_finite() && ws.flow_kg_s[k].is_finite() {
+            max_residual_pa = max_residual_pa.max(residual.abs());
+        } else {
+            bad = true;
+        }
+    }
+    if bad { Err(non_finite_links(ws, net)) } else { Ok(max_residual_pa) }
+}
+
+/// Links with a non-finite flow, pressure drop, derivative or end pressure
+/// (allocates; only on the failure path).
+fn non_finite_links(ws: &SolverWorkspace, net: &HydraulicNetwork) -> Vec<SuspectLink> {
+    (0..net.links.len())
+        .filter(|&k| ws.open[k])
+        .filter(|&k| {
+            let (i, j) = ws.endpoints[k];
+            ![ws.flow_kg_s[k], ws.drop_pa[k], ws.slope_pa_s_kg[k], ws.rel_pressure_pa[i], ws.rel_pressure_pa[j]]
+                .iter()
+                .all(|v| v.is_finite())
+        })
+        .take(MAX_SUSPECT_LINKS)
+        .map(|link| SuspectLink {
+            link,
+            sign_flips: ws.sign_flips[link],
+            last_relative_change: f64::NAN,
+        })
+        .collect()
+}
+
+/// The Newton iterations (no allocation inside, except on failure paths and
+/// the preallocated histories).
+fn newton_loop(
+    ws: &mut SolverWorkspace,
+    net: &HydraulicNetwork,
+    settings: &SolveSettings,
+    state: &mut LoopState,
+    timings: &mut SolveTimings,
+) -> Outcome {
+    let t = Instant::now();
+    let first = evaluate_links(ws, net, settings);
+    timings.assemble_us += micros(t);
+    if let Err(links) = first {
+        return Outcome::NonFinite(links);
+    }
+    let n_red = ws.rhs.len();
+    if n_red == 0 {
+        // The reference node alone: nothing to solve.
+        state.last_flow_change = 0.0;
+        state.last_residual_pa = 0.0;
+        return Outcome::Converged;
+    }
+    let mut previous_change = f64::INFINITY;
+    for iteration in 1..=settings.max_iterations {
+        state.iterations = iteration;
+
+        // --- assemble: conductances and right-hand side d − A·q ---
+        let t = Instant::now();
+        ws.values.iter_mut().for_each(|v| *v = 0.0);
+        for (v, node) in net.nodes.iter().enumerate() {
+            let row = ws.reduced_row[v];
+            if row != NONE {
+                ws.rhs[row] = node.demand_kg_s;
+            }
+        }
+        for k in 0..ws.endpoints.len() {
+            if !ws.open[k] {
+                ws.conductance[k] = 0.0;
+                ws.base_flow_kg_s[k] = 0.0;
+                continue;
+            }
+            let w = 1.0 / ws.slope_pa_s_kg[k];
+            let q = ws.flow_kg_s[k] + (ws.static_pa[k] - ws.drop_pa[k]) * w;
+            ws.conductance[k] = w;
+            ws.base_flow_kg_s[k] = q;
+            let (i, j) = ws.endpoints[k];
+            let (ri, rj) = (ws.reduced_row[i], ws.reduced_row[j]);
+            if ri != NONE {
+                ws.values[ws.diag_slot[ri]] += w;
+                ws.rhs[ri] -= q;
+            }
+            if rj != NONE {
+                ws.values[ws.diag_slot[rj]] += w;
+                ws.rhs[rj] += q;
+            }
+            let slot = ws.link_slot[k];
+            if slot != NONE {
+                ws.values[slot] -= w;
+            }
+        }
+        for &node in &ws.anchors {
+            let row = ws.reduced_row[node];
+            if row != NONE {
+                let slot = ws.diag_slot[row];
+                let v = ws.values[slot];
+                ws.values[slot] = if v > 0.0 { 2.0 * v } else { 1.0 };
+            }
+        }
+        timings.assemble_us += micros(t);
+
+        // --- factor and solve ---
+        let (Some(pattern), Some(symbolic), Some(mem)) = (&ws.pattern, &ws.symbolic, &mut ws.stack) else {
+            return Outcome::Factorisation("workspace has no factor".into());
+        };
+        let t = Instant::now();
+        let matrix = SparseColMatRef::new(pattern.as_ref(), &ws.values);
+        let llt = match symbolic.factorize_numeric_llt(
+            &mut ws.factor_values,
+            matrix,
+            Side::Upper,
+            Default::default(),
+            Par::Seq,
+            MemStack::new(mem),
+            Default::default(),
+        ) {
+            Ok(llt) => llt,
+            Err(e) => return Outcome::Factorisation(format!("{e:?}")),
+        };
+        timings.factor_us += micros(t);
+        let t = Instant::now();
+        llt.solve_in_place_with_conj(
+            Conj::No,
+            MatMut::from_column_major_slice_mut(&mut ws.rhs, n_red, 1),
+            Par::Seq,
+            MemStack::new(mem),
+        );
+
+        // --- update pressures and flows ---
+        std::mem::swap(&mut ws.rel_pressure_pa, &mut ws.rel_pressure_old_pa);
+        for (v, x) in ws.rel_pressure_pa.iter_mut().enumerate() {
+            let row = ws.reduced_row[v];
+            *x = if row == NONE { 0.0 } else { ws.rhs[row] };
+        }
+        let mut sum_step = 0.0f64;
+        let mut sum_flow = 0.0f64;
+        for k in 0..ws.endpoints.len() {
+            if !ws.open[k] {
+                ws.step_kg_s[k] = 0.0;
+                continue;
+            }
+            let (i, j) = ws.endpoints[k];
+            let m_new = ws.base_flow_kg_s[k] + ws.conductance[k] * (ws.rel_pressure_pa[i] - ws.rel_pressure_pa[j]);
+            let step = m_new - ws.flow_kg_s[k];
+            ws.step_kg_s[k] = step;
+            sum_step += step.abs();
+            sum_flow += m_new.abs();
+        }
+        let change = sum_step / sum_flow.max(FLOW_SCALE_FLOOR_KG_S);
+        let alpha = if iteration >= 3 && change > previous_change { settings.damping_factor } else { 1.0 };
+        previous_change = change;
+        for k in 0..ws.endpoints.len() {
+            if !ws.open[k] {
+                continue;
+            }
+            let step = alpha * ws.step_kg_s[k];
+            ws.step_kg_s[k] = step;
+            ws.flow_kg_s[k] += step;
+            let significant = step.abs() > settings.flow_tolerance * ws.flow_kg_s[k].abs().max(FLOW_SCALE_FLOOR_KG_S);
+            if significant {
+                if step * ws.last_significant_step_kg_s[k] < 0.0 {
+                    ws.sign_flips[k] = ws.sign_flips[k].saturating_add(1);
+                }
+                ws.last_significant_step_kg_s[k] = step;
+            }
+        }
+        if alpha < 1.0 {
+            for (x, &x_old) in ws.rel_pressure_pa.iter_mut().zip(&ws.rel_pressure_old_pa) {
+                *x = x_old + alpha * (*x - x_old);
+            }
+        }
+        timings.solve_us += micros(t);
+
+        // --- check ---
+        let t = Instant::now();
+        let evaluated = evaluate_links(ws, net, settings);
+        timings.assemble_us += micros(t);
+        state.last_flow_change = change;
+        state.flow_change_history.push(change);
+        let residual_pa = match evaluated {
+            Ok(r) => r,
+            Err(links) => {
+                state.residual_history_pa.push(f64::NAN);
+                state.last_residual_pa = f64::NAN;
+                return Outcome::NonFinite(links);
+            }
+        };
+        state.last_residual_pa = residual_pa;
+        state.residual_history_pa.push(residual_pa);
+        if !change.is_finite() {
+            return Outcome::NonFinite(non_finite_links(ws, net));
+        }
+        if change <= settings.flow_tolerance && residual_pa <= settings.pressure_tolerance_pa {
+            return Outcome::Converged;
+        }
+    }
+    Outcome::IterationLimit
+}
+
+/// Largest |Σ out − Σ in − demand| over non-reference nodes, kg/s
+/// (allocates; after the loop).
+fn mass_imbalance(ws: &SolverWorkspace, net: &HydraulicNetwork) -> f64 {
+    let mut balance: Vec<f64> = net.nodes.iter().map(|n| -n.demand_kg_s).collect();
+    for (k, &(i, j)) in ws.endpoints.iter().enumerate() {
+        if ws.open[k] {
+            balance[i] += ws.flow_kg_s[k];
+            balance[j] -= ws.flow_kg_s[k];
+        }
+    }
+    balance
+        .iter()
+        .enumerate()
+        .filter(|&(v, _)| v != net.reference_node)
+        .map(|(_, b)| b.abs())
+        .fold(0.0, f64::max)
+}
+
+/// Links that oscillate or still move, most suspicious first.
+fn suspects(ws: &SolverWorkspace, settings: &SolveSettings) -> Vec<SuspectLink> {
+    let mut list: Vec<SuspectLink> = (0..ws.endpoints.len())
+        .filter(|&k| ws.open[k])
+        .map(|link| SuspectLink {
+            link,
+            sign_flips: ws.sign_flips[link],
+            last_relative_change: ws.step_kg_s[link].abs() / ws.flow_kg_s[link].abs().max(FLOW_SCALE_FLOOR_KG_S),
+        })
+        .filter(|s| s.sign_flips > 0 || s.last_relative_change > settings.flow_tolerance)
+        .collect();
+    list.sort_by(|a, b| {
+        b.sign_flips
+            .cmp(&a.sign_flips)
+            .then(b.last_relative_change.total_cmp(&a.last_relative_change))
+            .then(a.link.cmp(&b.link))
+    });
+    list.truncate(MAX_SUSPECT_LINKS);
+    list
+}
+
+#[cfg(test)]
+mod tests;

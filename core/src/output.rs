@@ -1,0 +1,203 @@
+//! Machine-readable output of a solve: the stable JSON document of
+//! `flowrise solve --json` (schema in `docs/solve-json.md`), and the readable
+//! text summary.
+
+use serde_json::{Value, json};
+
+use crate::design::{Severity, Side, Solution};
+use crate::project::Project;
+
+/// Append one formatted line to a `String` (writing to a String cannot fail).
+macro_rules! out {
+    ($s:expr, $($arg:tt)*) => {{
+        $s.push_str(&format!($($arg)*));
+        $s.push('\n');
+    }};
+}
+
+/// Version of the JSON schema; bumped when a field changes meaning or goes.
+pub const SOLVE_JSON_SCHEMA: u32 = 1;
+
+fn round(x: f64, digits: i32) -> f64 {
+    if !x.is_finite() {
+        return 0.0;
+    }
+    let f = 10f64.powi(digits);
+    (x * f).round() / f
+}
+
+/// The JSON document of a solve.
+#[must_use]
+pub fn solve_json(p: &Project, sol: &Solution) -> Value {
+    let pump = sol.pump.as_ref();
+    let totals = json!({
+        "heat_load_w": round(sol.heat_load_w, 1),
+        "flow_l_h": round(pump.map_or(0.0, |x| x.operating_flow_m3_h * 1000.0), 1),
+        "design_flow_l_h": round(pump.map_or(0.0, |x| x.design_flow_m3_h * 1000.0), 1),
+        "pump_head_kpa": round(pump.map_or(0.0, |x| x.duty_head_pa / 1000.0), 3),
+        "pump_operating_head_kpa": round(pump.map_or(0.0, |x| x.operating_head_pa / 1000.0), 3),
+        "index_dp_kpa": round(pump.map_or(0.0, |x| x.index_dp_pa / 1000.0), 3),
+        "pump_power_w": round(pump.map_or(0.0, |x| x.hydraulic_power_w), 2),
+        "index_emitter": sol.index_emitter.map(|n| n.to_string()),
+        "water_volume_l": round(sol.water_volume_l, 2),
+        "expansion_vessel_l": round(sol.vessel.as_ref().map_or(0.0, |v| v.nominal_volume_l), 2),
+        "iterations": sol.iterations,
+        "converged": sol.converged,
+        "solve_ms": round(sol.timings.derive_ms + sol.timings.design_ms + sol.timings.operate_ms, 4),
+        "derive_ms": round(sol.timings.derive_ms, 4),
+        "design_ms": round(sol.timings.design_ms, 4),
+        "operate_ms": round(sol.timings.operate_ms, 4),
+        "operate_iterations": sol.iterations,
+    });
+    let emitters: Vec<Value> = sol
+        .emitters
+        .iter()
+        .map(|e| {
+            json!({
+                "id": e.id.to_string(),
+                "name": e.name,
+                "level": e.level,
+                "load_w": round(e.load_w, 1),
+                "room_c": round(e.room_c, 2),
+                "design_flow_l_h": round(e.design_flow_l_h, 2),
+                "flow_l_h": round(e.flow_l_h, 2),
+                "flow_deviation": round(e.flow_deviation, 5),
+                "supply_c": round(e.supply_c, 2),
+                "return_c": round(e.return_c, 2),
+                "design_return_c": round(e.design_return_c, 2),
+                "circuit_dp_kpa": round(e.circuit_dp_open_pa / 1000.0, 3),
+                "valve_dp_kpa": round(e.valve_dp_pa / 1000.0, 3),
+                "kv_needed_m3_h": round(e.kv_needed_m3_h, 4),
+                "presetting": e.presetting,
+                "valve_kv_m3_h": round(e.valve_kv_m3_h, 4),
+                "authority": round(e.authority, 3),
+                "output_w": round(e.output_w, 1),
+                "closed": e.closed,
+            })
+        })
+        .collect();
+    let pipes: Vec<Value> = sol
+        .pipes
+        .iter()
+        .map(|x| {
+            json!({
+                "run": x.run.to_string(),
+                "side": match x.side { Side::Supply => "supply", Side::Return => "return" },
+                "class": x.class.name(),
+                "length_m": round(x.length_m, 3),
+                "series": x.series,
+                "size": x.size,
+                "inner_mm": round(x.inner_mm, 2),
+                "flow_l_h": round(x.flow_l_h, 2),
+                "velocity_m_s": round(x.velocity_m_s, 4),
+                "velocity_limit_m_s": round(x.velocity_limit_m_s, 3),
+                "gradient_pa_m": round(x.gradient_pa_m, 2),
+                "dp_kpa": round(x.dp_pa / 1000.0, 4),
+                "zeta": round(x.zeta, 3),
+            })
+        })
+        .collect();
+    let warnings: Vec<Value> = sol
+        .findings
+        .iter()
+        .map(|f| {
+            json!({
+                "severity": match f.severity { Severity::Error => "error", Severity::Warning => "warning", Severity::Note => "note" },
+                "item": f.item.to_string(),
+                "message": f.message,
+            })
+        })
+        .collect();
+    json!({
+        "schema": SOLVE_JSON_SCHEMA,
+        "project": p.name,
+        "mode": match p.settings.mode { crate::project::Mode::DesignFollowsLayout => "design", crate::project::Mode::Installed => "installed" },
+        "totals": totals,
+        "emitters": emitters,
+        "pipes": pipes,
+        "warnings": warnings,
+    })
+}
+
+/// A readable summary of a solve.
+#[must_use]
+pub fn solve_text(p: &Project, sol: &Solution) -> String {
+    let mut s = String::new();
+    let s_ = &p.settings;
+    out!(s, "{} — {:.0}/{:.0} °C, {} emitters", p.name, s_.supply_c, s_.return_c, sol.emitters.len());
+    if let Some(pump) = &sol.pump {
+        let _w = writeln!(
+            s,
+            "load {:.2} kW · flow {:.0} l/h · pump duty {:.1} kPa (index {} at {:.1} kPa) · operating {:.0} l/h at {:.1} kPa",
+            sol.heat_load_w / 1000.0,
+            pump.design_flow_m3_h * 1000.0,
+            pump.duty_head_pa / 1000.0,
+            sol.index_emitter.map_or_else(|| "—".to_owned(), |n| n.to_string()),
+            pump.index_dp_pa / 1000.0,
+            pump.operating_flow_m3_h * 1000.0,
+            pump.operating_head_pa / 1000.0
+        );
+    }
+    let _w = writeln!(
+        s,
+        "water {:.1} l · expansion vessel ≥ {:.1} l · solve {} iterations, {:.2} ms",
+        sol.water_volume_l,
+        sol.vessel.as_ref().map_or(0.0, |v| v.nominal_volume_l),
+        sol.iterations,
+        sol.timings.derive_ms + sol.timings.design_ms + sol.timings.operate_ms
+    );
+    out!(s, "\nemitters");
+    out!(s, "  {:<6} {:<22} {:>8} {:>8} {:>8} {:>8} {:>6} {:>6} {:>8}", "id", "name", "load W", "l/h", "out W", "ΔpC kPa", "preset", "auth", "ret °C");
+    for e in &sol.emitters {
+        let _w = writeln!(
+            s,
+            "  {:<6} {:<22} {:>8.0} {:>8.1} {:>8.0} {:>8.2} {:>6} {:>6.2} {:>8.1}",
+            e.id.to_string(),
+            truncate(&e.name, 22),
+            e.load_w,
+            e.flow_l_h,
+            e.output_w,
+            e.circuit_dp_open_pa / 1000.0,
+            e.presetting,
+            e.authority,
+            e.return_c
+        );
+    }
+    out!(s, "\npipes");
+    out!(s, "  {:<6} {:<7} {:>7} {:>8} {:>8} {:>7} {:>7} {:>8}", "run", "side", "m", "size", "l/h", "m/s", "Pa/m", "Δp kPa");
+    for x in &sol.pipes {
+        let _w = writeln!(
+            s,
+            "  {:<6} {:<7} {:>7.2} {:>8} {:>8.1} {:>7.3} {:>7.1} {:>8.3}",
+            x.run.to_string(),
+            if x.side == Side::Supply { "supply" } else { "return" },
+            x.length_m,
+            x.size,
+            x.flow_l_h,
+            x.velocity_m_s,
+            x.gradient_pa_m,
+            x.dp_pa / 1000.0
+        );
+    }
+    if !sol.findings.is_empty() {
+        out!(s, "\nfindings");
+        for f in &sol.findings {
+            let tag = match f.severity {
+                Severity::Error => "error",
+                Severity::Warning => "warning",
+                Severity::Note => "note",
+            };
+            out!(s, "  {tag:<7} {:<6} {}", f.item.to_string(), f.message);
+        }
+    }
+    let _w = writeln!(
+        s,
+        "\nDesign aid only: pressures, temperatures, safety devices and materials must follow local codes and licensed practice \
+         (EN 12828 or the local equivalent)."
+    );
+    s
+}
+
+fn truncate(s: &str, n: usize) -> String {
+    if s.chars().count() <= n { s.to_owned() } else { s.chars().take(n - 1).collect::<String>() + "…" }
+}

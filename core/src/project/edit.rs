@@ -1,0 +1,436 @@
+//! Edits: the only way the project document changes.
+//!
+//! Widgets and the CLI build [`Edit`] values; [`Project::apply`] checks an
+//! edit completely before changing anything, so a refused edit leaves the
+//! project exactly as it was. Every refusal names the item and the fix.
+
+use thiserror::Error;
+
+use super::{
+    DesignSettings, Level, LevelId, Node, NodeId, NodeKind, PlanPoint, Project, Run, RunId, RunProps,
+};
+
+/// One change to the project.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Edit {
+    /// Rename the project.
+    Rename(String),
+    /// Replace the design settings.
+    SetSettings(Box<DesignSettings>),
+    /// Add a level.
+    AddLevel {
+        /// Name.
+        name: String,
+        /// Elevation of its pipework, m.
+        elevation_m: f64,
+    },
+    /// Change a level's name and elevation.
+    SetLevel(Level),
+    /// Add a node.
+    AddNode {
+        /// Level.
+        level: LevelId,
+        /// Position.
+        pos: PlanPoint,
+        /// Kind and data.
+        kind: NodeKind,
+    },
+    /// Move nodes by a plan offset (a node, or a whole branch); vertices of
+    /// runs whose both ends move go along.
+    MoveNodes {
+        /// Nodes to move.
+        ids: Vec<NodeId>,
+        /// Offset east, m.
+        dx_m: f64,
+        /// Offset north, m.
+        dy_m: f64,
+    },
+    /// Replace a node's data (kind stays a node; its id and runs stay).
+    SetNodeKind {
+        /// Node.
+        id: NodeId,
+        /// New data.
+        kind: NodeKind,
+    },
+    /// Remove a node and its runs.
+    RemoveNode(NodeId),
+    /// Draw a run between two nodes.
+    AddRun {
+        /// One end.
+        a: NodeId,
+        /// Other end.
+        b: NodeId,
+        /// Bend points between them.
+        vertices: Vec<PlanPoint>,
+    },
+    /// Split a run with a new junction at a point (projected onto the run).
+    SplitRun {
+        /// Run to split.
+        run: RunId,
+        /// Where, on the run's level.
+        at: PlanPoint,
+    },
+    /// Remove a run.
+    RemoveRun(RunId),
+    /// Replace a run's user properties.
+    SetRunProps {
+        /// Run.
+        id: RunId,
+        /// New properties.
+        props: RunProps,
+    },
+    /// Several edits as one undo step (all or nothing).
+    Batch(Vec<Edit>),
+}
+
+/// Why an edit was refused. The project is unchanged.
+#[derive(Debug, Clone, PartialEq, Eq, Error)]
+pub enum EditError {
+    /// The edit names an item that does not exist.
+    #[error("{0} does not exist (it may have been deleted)")]
+    Missing(String),
+    /// The edit's values are not acceptable.
+    #[error("{item}: {message}")]
+    Invalid {
+        /// The item concerned ("run R12", "emitter Bedroom (N4)", "settings").
+        item: String,
+        /// What is wrong and how to fix it.
+        message: String,
+    },
+}
+
+/// What an applied edit created.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct EditOutcome {
+    /// Nodes created.
+    pub nodes: Vec<NodeId>,
+    /// Runs created.
+    pub runs: Vec<RunId>,
+}
+
+fn invalid(item: impl Into<String>, message: impl Into<String>) -> EditError {
+    EditError::Invalid { item: item.into(), message: message.into() }
+}
+
+/// Check a node's data; the message names the field and the fix.
+///
+/// # Errors
+/// [`EditError::Invalid`] naming the node.
+pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError> {
+    let finite_in = |v: f64, lo: f64, hi: f64| v.is_finite() && (lo..=hi).contains(&v);
+    match kind {
+        NodeKind::Junction => Ok(()),
+        NodeKind::Header(h) => {
+            if h.outlets == 0 || h.outlets > 24 {
+                return Err(invalid(label, format!("{} outlets — give 1 to 24", h.outlets)));
+            }
+            Ok(())
+        }
+        NodeKind::Source(s) => {
+            if !finite_in(s.capacity_w, 1.0, 1e8) {
+                return Err(invalid(label, format!("capacity {} W — give 1 W to 100 MW", s.capacity_w)));
+            }
+            if !finite_in(s.kv_m3_h, 0.01, 10_000.0) {
+                return Err(invalid(label, format!("Kv {} m³/h — give 0.01 to 10000", s.kv_m3_h)));
+            }
+            if !finite_in(s.water_content_l, 0.0, 1e6) {
+                return Err(invalid(label, format!("water content {} l — give 0 or more", s.water_content_l)));
+            }
+            crate::pump::PumpCurve::from_three_points(s.pump.curve_points)
+                .map_err(|e| invalid(label, format!("pump curve: {e}")))?;
+            s.pump.control.validate().map_err(|e| invalid(label, format!("pump control: {e}")))?;
+            Ok(())
+        }
+        NodeKind::Emitter(e) => {
+            if !finite_in(e.load_w, 0.0, 1e6) {
+                return Err(invalid(label, format!("load {} W — give 0 to 1000000 W", e.load_w)));
+            }
+            if !finite_in(e.room_c, 5.0, 30.0) {
+                return Err(invalid(label, format!("room temperature {} °C — give 5 to 30 °C", e.room_c)));
+            }
+            e.model.validate().map_err(|err| invalid(label, err.to_string()))?;
+            Ok(())
+        }
+    }
+}
+
+/// Check a run's user properties.
+///
+/// # Errors
+/// [`EditError::Invalid`] naming the run.
+pub fn validate_run_props(id: RunId, props: &RunProps) -> Result<(), EditError> {
+    if let Some(l) = props.length_override_m
+        && !(l.is_finite() && l > 0.0 && l <= 10_000.0)
+    {
+        return Err(invalid(format!("run {id}"), format!("length {l} m — give a length > 0 and ≤ 10000 m")));
+    }
+    if let Some(size) = &props.fixed_size
+        && size.trim().is_empty()
+    {
+        return Err(invalid(format!("run {id}"), "fixed size is empty — pick a size or clear it"));
+    }
+    Ok(())
+}
+
+fn check_point(item: &str, p: PlanPoint) -> Result<(), EditError> {
+    if p.x_m.is_finite() && p.y_m.is_finite() && p.x_m.abs() <= 1e5 && p.y_m.abs() <= 1e5 {
+        Ok(())
+    } else {
+        Err(invalid(item, format!("position ({}, {}) m is not a finite point within 100 km", p.x_m, p.y_m)))
+    }
+}
+
+impl Project {
+    /// Apply an edit. A refused edit leaves the project unchanged.
+    ///
+    /// # Errors
+    /// [`EditError`] naming the item and the fix.
+    pub fn apply(&mut self, edit: Edit) -> Result<EditOutcome, EditError> {
+        // Check on a copy for batches so a failing member leaves no trace;
+        // single edits check before they touch anything.
+        if let Edit::Batch(edits) = edit {
+            let mut trial = self.clone();
+            let mut outcome = EditOutcome::default();
+            for e in edits {
+                let o = trial.apply_one(e)?;
+                outcome.nodes.extend(o.nodes);
+                outcome.runs.extend(o.runs);
+            }
+            *self = trial;
+            self.revision += 1;
+            return Ok(outcome);
+        }
+        let outcome = self.apply_one(edit)?;
+        self.revision += 1;
+        Ok(outcome)
+    }
+
+    fn node_label(&self, id: NodeId) -> Result<String, EditError> {
+        self.node(id).map(Node::label).ok_or_else(|| EditError::Missing(format!("node {id}")))
+    }
+
+    fn check_level(&self, level: LevelId) -> Result<(), EditError> {
+        if self.level(level).is_some() { Ok(()) } else { Err(EditError::Missing(format!("level {level}"))) }
+    }
+
+    #[allow(clippy::too_many_lines)] // reason: one match arm per edit kind reads best in one place
+    fn apply_one(&mut self, edit: Edit) -> Result<EditOutcome, EditError> {
+        let mut outcome = EditOutcome::default();
+        match edit {
+            Edit::Batch(edits) => {
+                for e in edits {
+                    let o = self.apply_one(e)?;
+                    outcome.nodes.extend(o.nodes);
+                    outcome.runs.extend(o.runs);
+                }
+            }
+            Edit::Rename(name) => {
+                if name.trim().is_empty() {
+                    return Err(invalid("project", "name is empty — give the project a name"));
+                }
+                self.name = name;
+            }
+            Edit::SetSettings(settings) => {
+                if let Some(p) = settings.problems().first() {
+                    return Err(invalid(format!("settings: {}", p.field), p.message.clone()));
+                }
+                self.settings = *settings;
+            }
+            Edit::AddLevel { name, elevation_m } => {
+                if !(elevation_m.is_finite() && elevation_m.abs() <= 500.0) {
+                    return Err(invalid(format!("level {name}"), format!("elevation {elevation_m} m — give −500 to 500 m")));
+                }
+                let id = LevelId(self.levels.iter().map(|l| l.id.0 + 1).max().unwrap_or(0));
+                self.levels.push(Level { id, name, elevation_m });
+                self.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
+            }
+            Edit::SetLevel(level) => {
+                if !(level.elevation_m.is_finite() && level.elevation_m.abs() <= 500.0) {
+                    return Err(invalid(
+                        format!("level {}", level.name),
+                        format!("elevation {} m — give −500 to 500 m", level.elevation_m),
+                    ));
+                }
+                let slot = self
+                    .levels
+                    .iter_mut()
+                    .find(|l| l.id == level.id)
+                    .ok_or_else(|| EditError::Missing(format!("level {}", level.id)))?;
+                *slot = level;
+                self.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
+            }
+            Edit::AddNode { level, pos, kind } => {
+                self.check_level(level)?;
+                check_point("new node", pos)?;
+                validate_node_kind(&format!("new {}", kind.word()), &kind)?;
+                if matches!(kind, NodeKind::Source(_)) && !self.sources().is_empty() {
+                    return Err(invalid(
+                        "new heat source",
+                        "the project has a heat source already — one source per network; move or edit it instead",
+                    ));
+                }
+                let id = self.alloc_node_id();
+                self.insert_node(Node { id, level, pos, kind });
+                outcome.nodes.push(id);
+            }
+            Edit::MoveNodes { ids, dx_m, dy_m } => {
+                if !(dx_m.is_finite() && dy_m.is_finite()) {
+                    return Err(invalid("move", "offset is not a finite number"));
+                }
+                for &id in &ids {
+                    let n = self.node(id).ok_or_else(|| EditError::Missing(format!("node {id}")))?;
+                    check_point(&n.label(), PlanPoint::new(n.pos.x_m + dx_m, n.pos.y_m + dy_m))?;
+                }
+                let moved: std::collections::BTreeSet<NodeId> = ids.iter().copied().collect();
+                for &id in &moved {
+                    if let Some(n) = self.node_mut(id) {
+                        n.pos.x_m += dx_m;
+                        n.pos.y_m += dy_m;
+                    }
+                }
+                let runs: Vec<RunId> = self
+                    .runs()
+                    .filter(|r| moved.contains(&r.a) && moved.contains(&r.b))
+                    .map(|r| r.id)
+                    .collect();
+                for id in runs {
+                    if let Some(r) = self.run_mut(id) {
+                        for v in &mut r.vertices {
+                            v.x_m += dx_m;
+                            v.y_m += dy_m;
+                        }
+                    }
+                }
+            }
+            Edit::SetNodeKind { id, kind } => {
+                let label = self.node_label(id)?;
+                validate_node_kind(&label, &kind)?;
+                let old_word = self.node(id).map(|n| n.kind.word());
+                if matches!(kind, NodeKind::Source(_)) && old_word != Some("heat source") && !self.sources().is_empty() {
+                    return Err(invalid(label, "the project has a heat source already — one source per network"));
+                }
+                if matches!(kind, NodeKind::Emitter(_)) && self.runs_at(id).len() > 1 {
+                    return Err(invalid(label, "an emitter connects by one run — remove the other runs first"));
+                }
+                if let Some(n) = self.node_mut(id) {
+                    n.kind = kind;
+                }
+            }
+            Edit::RemoveNode(id) => {
+                self.node_label(id)?;
+                self.take_node(id);
+            }
+            Edit::AddRun { a, b, vertices } => {
+                let la = self.node_label(a)?;
+                let lb = self.node_label(b)?;
+                if a == b {
+                    return Err(invalid(la, "a run needs two different ends — finish it on another node"));
+                }
+                for &v in &vertices {
+                    check_point("new run", v)?;
+                }
+                for (id, label) in [(a, &la), (b, &lb)] {
+                    if let Some(n) = self.node(id)
+                        && matches!(n.kind, NodeKind::Emitter(_))
+                        && !self.runs_at(id).is_empty()
+                    {
+                        return Err(invalid(
+                            label.clone(),
+                            "an emitter connects by one run (its supply + return pair) and has one already — \
+                             start the new run at a junction or header",
+                        ));
+                    }
+                }
+                if self.runs().any(|r| (r.a == a && r.b == b) || (r.a == b && r.b == a)) {
+                    return Err(invalid(format!("{la} – {lb}"), "these two are joined by a run already"));
+                }
+                let id = self.alloc_run_id();
+                let run = Run { id, a, b, vertices, props: RunProps::default() };
+                if !self.insert_run(run) {
+                    return Err(EditError::Missing(format!("an end of run {id}")));
+                }
+                outcome.runs.push(id);
+            }
+            Edit::SplitRun { run, at } => {
+                check_point("split point", at)?;
+                let r = self.run(run).cloned().ok_or_else(|| EditError::Missing(format!("run {run}")))?;
+                if self.is_vertical(&r) {
+                    return Err(invalid(
+                        format!("run {run}"),
+                        "a vertical run cannot be split on a plan — add a level between its ends instead",
+                    ));
+                }
+                let level = self.node(r.a).map(|n| n.level).ok_or_else(|| EditError::Missing(format!("node {}", r.a)))?;
+                let (seg, p) = self.project_onto_run(&r, at);
+                let first: Vec<PlanPoint> = r.vertices[..seg].to_vec();
+                let second: Vec<PlanPoint> = r.vertices[seg..].to_vec();
+                self.take_run(run);
+                let j = self.alloc_node_id();
+                self.insert_node(Node { id: j, level, pos: p, kind: NodeKind::Junction });
+                let r1 = self.alloc_run_id();
+                let r2 = self.alloc_run_id();
+                let mut props1 = r.props.clone();
+                let mut props2 = r.props.clone();
+                if let Some(l) = r.props.length_override_m {
+                    // Share an override in proportion to the drawn lengths.
+                    let total = self.drawn_length_m(&r).max(1e-9);
+                    let l1 = polyline_len(self.node(r.a).map(|n| n.pos).unwrap_or(p), &first, p);
+                    let f = (l1 / total).clamp(0.01, 0.99);
+                    props1.length_override_m = Some(l * f);
+                    props2.length_override_m = Some(l * (1.0 - f));
+                }
+                self.insert_run(Run { id: r1, a: r.a, b: j, vertices: first, props: props1 });
+                self.insert_run(Run { id: r2, a: j, b: r.b, vertices: second, props: props2 });
+                outcome.nodes.push(j);
+                outcome.runs.extend([r1, r2]);
+            }
+            Edit::RemoveRun(id) => {
+                self.take_run(id).ok_or_else(|| EditError::Missing(format!("run {id}")))?;
+            }
+            Edit::SetRunProps { id, props } => {
+                validate_run_props(id, &props)?;
+                let r = self.run_mut(id).ok_or_else(|| EditError::Missing(format!("run {id}")))?;
+                r.props = props;
+            }
+        }
+        Ok(outcome)
+    }
+
+    /// The segment index and the point of run `r`'s polyline nearest `at`.
+    fn project_onto_run(&self, r: &Run, at: PlanPoint) -> (usize, PlanPoint) {
+        let a = self.node(r.a).map_or(at, |n| n.pos);
+        let b = self.node(r.b).map_or(at, |n| n.pos);
+        let mut pts = Vec::with_capacity(r.vertices.len() + 2);
+        pts.push(a);
+        pts.extend_from_slice(&r.vertices);
+        pts.push(b);
+        let mut best = (0, a, f64::INFINITY);
+        for (i, w) in pts.windows(2).enumerate() {
+            let (p, d) = nearest_on_segment(w[0], w[1], at);
+            if d < best.2 {
+                best = (i, p, d);
+            }
+        }
+        (best.0, best.1)
+    }
+}
+
+fn polyline_len(start: PlanPoint, vertices: &[PlanPoint], end: PlanPoint) -> f64 {
+    let mut last = start;
+    let mut len = 0.0;
+    for &v in vertices {
+        len += last.distance_m(v);
+        last = v;
+    }
+    len + last.distance_m(end)
+}
+
+/// Nearest point to `p` on segment `a`–`b`, and its distance, m.
+#[must_use]
+pub fn nearest_on_segment(a: PlanPoint, b: PlanPoint, p: PlanPoint) -> (PlanPoint, f64) {
+    let (dx, dy) = (b.x_m - a.x_m, b.y_m - a.y_m);
+    let len2 = dx * dx + dy * dy;
+    let t = if len2 > 0.0 { (((p.x_m - a.x_m) * dx + (p.y_m - a.y_m) * dy) / len2).clamp(0.0, 1.0) } else { 0.0 };
+    let q = PlanPoint::new(a.x_m + t * dx, a.y_m + t * dy);
+    (q, q.distance_m(p))
+}

@@ -1,0 +1,317 @@
+//! The project file: RON text with a format version, loaded in two steps
+//! (raw [`ProjectFile`] → validated [`Project`]) and saved atomically.
+//!
+//! The fields, units and defaults are documented in `docs/file-format.md`.
+
+use std::collections::BTreeSet;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use serde::{Deserialize, Serialize};
+use thiserror::Error;
+
+use super::edit::{validate_node_kind, validate_run_props};
+use super::{DesignSettings, Level, Node, NodeKind, Project, Run};
+
+/// Format tag at the top of every project file.
+pub const FORMAT_TAG: &str = "flowrise-project";
+/// Format version written by this build; older versions are migrated, newer
+/// ones refused.
+pub const FORMAT_VERSION: u32 = 1;
+/// Largest project file accepted, bytes (guards memory on hostile input).
+pub const MAX_FILE_BYTES: u64 = 256 * 1024 * 1024;
+
+/// The project file as stored (our own layout, not a library's).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ProjectFile {
+    /// Always [`FORMAT_TAG`].
+    pub format: String,
+    /// Format version.
+    pub format_version: u32,
+    /// Project name.
+    pub name: String,
+    /// Design settings (missing fields take their defaults).
+    #[serde(default)]
+    pub settings: DesignSettings,
+    /// Levels.
+    pub levels: Vec<Level>,
+    /// Nodes.
+    pub nodes: Vec<Node>,
+    /// Runs.
+    pub runs: Vec<Run>,
+}
+
+/// Why a project could not be loaded or saved.
+#[derive(Debug, Error)]
+pub enum FileError {
+    /// Reading or writing failed.
+    #[error("{path}: {source}")]
+    Io {
+        /// File.
+        path: PathBuf,
+        /// Cause.
+        source: std::io::Error,
+    },
+    /// The text is not a valid project file.
+    #[error("{path}: line {line}, column {column}: {message}")]
+    Parse {
+        /// File (or "text").
+        path: String,
+        /// 1-based line.
+        line: usize,
+        /// 1-based column.
+        column: usize,
+        /// What the parser found.
+        message: String,
+    },
+    /// A format this build cannot read.
+    #[error("{0}")]
+    Version(String),
+    /// The file parsed but an item in it is invalid.
+    #[error("{item}: {message}")]
+    Invalid {
+        /// The item ("run R12", "node N4", "level L2").
+        item: String,
+        /// What is wrong and how to fix it.
+        message: String,
+    },
+    /// The file is larger than [`MAX_FILE_BYTES`].
+    #[error("{path}: {bytes} bytes is larger than the {max} bytes a project file may have")]
+    TooLarge {
+        /// File.
+        path: PathBuf,
+        /// Its size.
+        bytes: u64,
+        /// The limit.
+        max: u64,
+    },
+}
+
+fn bad(item: impl Into<String>, message: impl Into<String>) -> FileError {
+    FileError::Invalid { item: item.into(), message: message.into() }
+}
+
+impl Project {
+    /// The file struct of this project (sorted by id: deterministic output).
+    #[must_use]
+    pub fn to_file(&self) -> ProjectFile {
+        ProjectFile {
+            format: FORMAT_TAG.to_owned(),
+            format_version: FORMAT_VERSION,
+            name: self.name.clone(),
+            settings: self.settings.clone(),
+            levels: self.levels.clone(),
+            nodes: self.nodes().cloned().collect(),
+            runs: self.runs().cloned().collect(),
+        }
+    }
+
+    /// RON text of this project.
+    ///
+    /// # Errors
+    /// [`FileError::Invalid`] if serialisation fails (non-finite numbers).
+    pub fn to_ron(&self) -> Result<String, FileError> {
+        let cfg = ron::ser::PrettyConfig::new().depth_limit(8).indentor("  ".to_owned());
+        ron::ser::to_string_pretty(&self.to_file(), cfg).map_err(|e| bad("project", format!("cannot write: {e}")))
+    }
+
+    /// Parse and validate project text.
+    ///
+    /// # Errors
+    /// [`FileError`] naming the line or the item and the fix.
+    pub fn from_ron(text: &str) -> Result<Self, FileError> {
+        Self::from_ron_named(text, "text")
+    }
+
+    fn from_ron_named(text: &str, path: &str) -> Result<Self, FileError> {
+        let opts = ron::Options::default();
+        let file: ProjectFile = match opts.from_str(text) {
+            Ok(f) => f,
+            Err(e) => {
+                // A file from a newer build may fail to parse on fields we do
+                // not know: say that, rather than the parse error.
+                if let Ok(head) = opts.from_str::<HeadOnly>(text) {
+                    if head.format != FORMAT_TAG {
+                        return Err(FileError::Version(format!(
+                            "{path}: this is not a flowrise project (format \"{}\")",
+                            head.format
+                        )));
+                    }
+                    if head.format_version > FORMAT_VERSION {
+                        return Err(newer(path, head.format_version));
+                    }
+                }
+                return Err(FileError::Parse {
+                    path: path.to_owned(),
+                    line: e.span.start.line,
+                    column: e.span.start.col,
+                    message: e.code.to_string(),
+                });
+            }
+        };
+        if file.format_version > FORMAT_VERSION {
+            return Err(newer(path, file.format_version));
+        }
+        Self::from_file(file)
+    }
+
+    /// Validate a raw file struct into a project.
+    ///
+    /// # Errors
+    /// [`FileError::Invalid`] naming the first bad item and the fix.
+    pub fn from_file(file: ProjectFile) -> Result<Self, FileError> {
+        if file.format != FORMAT_TAG {
+            return Err(FileError::Version(format!("not a flowrise project (format \"{}\")", file.format)));
+        }
+        if file.format_version == 0 || file.format_version > FORMAT_VERSION {
+            return Err(FileError::Version(format!(
+                "format version {} is not one this build reads (1 to {FORMAT_VERSION})",
+                file.format_version
+            )));
+        }
+        if let Some(p) = file.settings.problems().first() {
+            return Err(bad(format!("settings: {}", p.field), p.message.clone()));
+        }
+        if file.levels.is_empty() {
+            return Err(bad("levels", "the project has no level — add at least one"));
+        }
+        let mut level_ids = BTreeSet::new();
+        for l in &file.levels {
+            if !level_ids.insert(l.id) {
+                return Err(bad(format!("level {}", l.id), "this id is used twice — give each level its own id"));
+            }
+            if !(l.elevation_m.is_finite() && l.elevation_m.abs() <= 500.0) {
+                return Err(bad(
+                    format!("level {} ({})", l.id, l.name),
+                    format!("elevation {} m — give −500 to 500 m", l.elevation_m),
+                ));
+            }
+        }
+        let mut p = Self::new(&file.name);
+        p.settings = file.settings;
+        p.levels = file.levels;
+        p.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
+        let mut sources = 0usize;
+        for n in file.nodes {
+            let label = n.label();
+            if p.node(n.id).is_some() {
+                return Err(bad(format!("node {}", n.id), "this id is used twice — give each node its own id"));
+            }
+            if !level_ids.contains(&n.level) {
+                return Err(bad(label, format!("level {} does not exist — put the node on an existing level", n.level)));
+            }
+            if !(n.pos.x_m.is_finite() && n.pos.y_m.is_finite() && n.pos.x_m.abs() <= 1e5 && n.pos.y_m.abs() <= 1e5) {
+                return Err(bad(label, format!("position ({}, {}) m is not a finite point within 100 km", n.pos.x_m, n.pos.y_m)));
+            }
+            validate_node_kind(&label, &n.kind).map_err(|e| bad(label.clone(), e.to_string()))?;
+            if matches!(n.kind, NodeKind::Source(_)) {
+                sources += 1;
+                if sources > 1 {
+                    return Err(bad(label, "a second heat source — one source per network; remove one"));
+                }
+            }
+            p.insert_node(n);
+        }
+        for r in file.runs {
+            let item = format!("run {}", r.id);
+            if p.run(r.id).is_some() {
+                return Err(bad(item, "this id is used twice — give each run its own id"));
+            }
+            for end in [r.a, r.b] {
+                if p.node(end).is_none() {
+                    return Err(bad(item.clone(), format!("its end {end} does not exist — reconnect or delete the run")));
+                }
+            }
+            if r.a == r.b {
+                return Err(bad(item, "both ends are the same node — delete the run"));
+            }
+            for v in &r.vertices {
+                if !(v.x_m.is_finite() && v.y_m.is_finite() && v.x_m.abs() <= 1e5 && v.y_m.abs() <= 1e5) {
+                    return Err(bad(item, format!("bend point ({}, {}) m is not a finite point", v.x_m, v.y_m)));
+                }
+            }
+            validate_run_props(r.id, &r.props).map_err(|e| bad(item.clone(), e.to_string()))?;
+            let level = p.node(r.a).map(|n| n.level);
+            if r.props.length_override_m.is_none() && p.drawn_length_m(&r) <= 0.0 {
+                let lv = level.map_or_else(String::new, |l| format!(" on level {l}"));
+                return Err(bad(
+                    format!("{item}{lv}"),
+                    "length 0 m — draw its ends apart or give it a length > 0",
+                ));
+            }
+            p.insert_run(r);
+        }
+        for e in p.emitters() {
+            if p.runs_at(e).len() > 1 {
+                let label = p.node(e).map_or_else(|| e.to_string(), Node::label);
+                return Err(bad(label, "an emitter connects by one run but has several — delete the extra runs"));
+            }
+        }
+        Ok(p)
+    }
+
+    /// Load a project file.
+    ///
+    /// # Errors
+    /// [`FileError`] naming the file, line or item and the fix.
+    pub fn load(path: &Path) -> Result<Self, FileError> {
+        let meta = std::fs::metadata(path).map_err(|source| FileError::Io { path: path.to_owned(), source })?;
+        if meta.len() > MAX_FILE_BYTES {
+            return Err(FileError::TooLarge { path: path.to_owned(), bytes: meta.len(), max: MAX_FILE_BYTES });
+        }
+        let text = std::fs::read_to_string(path).map_err(|source| FileError::Io { path: path.to_owned(), source })?;
+        Self::from_ron_named(&text, &path.display().to_string())
+    }
+
+    /// Save atomically: write a temporary file beside `path`, flush it to
+    /// disk, then rename it over `path`. A crash leaves the old file or the
+    /// new one, never a mix.
+    ///
+    /// # Errors
+    /// [`FileError::Io`] when the directory is not writable or the disk full.
+    pub fn save(&self, path: &Path) -> Result<(), FileError> {
+        let text = self.to_ron()?;
+        write_atomic(path, text.as_bytes())
+    }
+}
+
+/// The head of a project file; serde ignores every other field.
+#[derive(Deserialize)]
+struct HeadOnly {
+    format: String,
+    format_version: u32,
+}
+
+fn newer(path: &str, version: u32) -> FileError {
+    FileError::Version(format!(
+        "{path}: written by a newer flowrise (format version {version}; this build reads up to {FORMAT_VERSION}) — \
+         update flowrise to open it"
+    ))
+}
+
+/// Write `bytes` to `path` atomically (temporary file + fsync + rename).
+///
+/// # Errors
+/// [`FileError::Io`] naming the path.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), FileError> {
+    let io = |source| FileError::Io { path: path.to_owned(), source };
+    let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or_else(|| Path::new("."));
+    let name = path.file_name().map_or_else(|| "project".into(), |n| n.to_string_lossy().into_owned());
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let result = (|| {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        drop(f);
+        std::fs::rename(&tmp, path)?;
+        // Make the rename itself durable where the platform allows it.
+        if let Ok(d) = std::fs::File::open(dir) {
+            d.sync_all().ok();
+        }
+        Ok(())
+    })();
+    if result.is_err() {
+        std::fs::remove_file(&tmp).ok();
+    }
+    result.map_err(io)
+}

@@ -1,0 +1,237 @@
+//! Design settings of a project.
+//!
+//! Limits marked "common practice" are rules of thumb of the trade, not code
+//! requirements; the user can change every one of them.
+
+use serde::{Deserialize, Serialize};
+
+/// Class of a pipe run; each class has its own velocity limit and series.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
+pub enum PipeClass {
+    /// Risers and mains from the source to the floors.
+    Main,
+    /// Floor branches between the riser and the rooms.
+    Branch,
+    /// The last run to an emitter (next to the room: noise matters).
+    Connection,
+}
+
+impl PipeClass {
+    /// All classes, in display order.
+    pub const ALL: [Self; 3] = [Self::Main, Self::Branch, Self::Connection];
+
+    /// Display name.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            Self::Main => "riser / main",
+            Self::Branch => "branch",
+            Self::Connection => "emitter connection",
+        }
+    }
+}
+
+/// How the return pipe of a branch is laid.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+pub enum ReturnLayout {
+    /// The return runs back the way the supply came (first emitter = shortest
+    /// circuit).
+    #[default]
+    Direct,
+    /// The return continues in the supply's direction and comes back from the
+    /// last emitter, so all circuits have about equal length.
+    Reverse,
+}
+
+/// What an edit does to sizes and presettings.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+pub enum Mode {
+    /// Sizes and presettings are re-chosen on every edit.
+    #[default]
+    DesignFollowsLayout,
+    /// Sizes and presettings are frozen; the operating solve shows how the
+    /// real flows move.
+    Installed,
+}
+
+/// A value per pipe class.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PerClass<T> {
+    /// Risers and mains.
+    pub main: T,
+    /// Floor branches.
+    pub branch: T,
+    /// Emitter connections.
+    pub connection: T,
+}
+
+impl<T> PerClass<T> {
+    /// The value for `class`.
+    pub fn get(&self, class: PipeClass) -> &T {
+        match class {
+            PipeClass::Main => &self.main,
+            PipeClass::Branch => &self.branch,
+            PipeClass::Connection => &self.connection,
+        }
+    }
+    /// The value for `class`, mutable.
+    pub fn get_mut(&mut self, class: PipeClass) -> &mut T {
+        match class {
+            PipeClass::Main => &mut self.main,
+            PipeClass::Branch => &mut self.branch,
+            PipeClass::Connection => &mut self.connection,
+        }
+    }
+}
+
+/// Design settings.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct DesignSettings {
+    /// Design supply temperature at the source, °C.
+    pub supply_c: f64,
+    /// Design return temperature, °C.
+    pub return_c: f64,
+    /// Default room temperature for new emitters, °C.
+    pub room_c: f64,
+    /// Velocity limit per pipe class, m/s. Defaults 1.2 / 0.8 / 0.5 m/s:
+    /// common practice (lower next to rooms for noise).
+    pub velocity_limit_m_s: PerClass<f64>,
+    /// Pressure-gradient limit for sizing, Pa/m. Default 150 Pa/m: common
+    /// practice (100–200 Pa/m).
+    pub gradient_limit_pa_m: f64,
+    /// Pipe series id per class.
+    pub series: PerClass<String>,
+    /// Margin added to the index-circuit pressure drop for the pump head,
+    /// fraction (default 0.10: common practice).
+    pub head_margin_fraction: f64,
+    /// Return layout where a run does not say otherwise.
+    pub return_layout: ReturnLayout,
+    /// Design follows layout, or installed.
+    pub mode: Mode,
+    /// Default radiator valve family for new emitters.
+    pub valve_family: String,
+    /// Default lockshield family for new emitters.
+    pub lockshield_family: String,
+    /// Minimum pressure drop across a radiator valve at design flow, Pa, for
+    /// the index circuit's valve (default 5 kPa: common practice, gives the
+    /// index valve an authority of about 0.3–0.5).
+    pub min_valve_dp_pa: f64,
+    /// Temperature of the water when the system is filled, °C (expansion).
+    pub fill_temperature_c: f64,
+    /// Static height of the highest point of the system above the
+    /// expansion vessel, m; `None` = from the levels.
+    pub static_height_m: Option<f64>,
+    /// Safety valve set pressure, bar gauge.
+    pub safety_valve_bar: f64,
+}
+
+impl Default for DesignSettings {
+    fn default() -> Self {
+        Self {
+            supply_c: 70.0,
+            return_c: 55.0,
+            room_c: 20.0,
+            velocity_limit_m_s: PerClass { main: 1.2, branch: 0.8, connection: 0.5 },
+            gradient_limit_pa_m: 150.0,
+            series: PerClass {
+                main: "steel-en10255-medium".to_owned(),
+                branch: "multilayer-iso21003".to_owned(),
+                connection: "multilayer-iso21003".to_owned(),
+            },
+            head_margin_fraction: 0.10,
+            return_layout: ReturnLayout::Direct,
+            mode: Mode::DesignFollowsLayout,
+            valve_family: "trv-standard".to_owned(),
+            lockshield_family: "lockshield-standard".to_owned(),
+            min_valve_dp_pa: 5_000.0,
+            fill_temperature_c: 10.0,
+            static_height_m: None,
+            safety_valve_bar: 3.0,
+        }
+    }
+}
+
+/// A problem with the settings, naming the field and the fix.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct SettingsProblem {
+    /// Field name as shown in the settings panel.
+    pub field: &'static str,
+    /// What is wrong and how to fix it.
+    pub message: String,
+}
+
+impl DesignSettings {
+    /// Check the settings; every problem names its field and the fix.
+    #[must_use]
+    pub fn problems(&self) -> Vec<SettingsProblem> {
+        let mut out = Vec::new();
+        let mut bad = |field: &'static str, message: String| out.push(SettingsProblem { field, message });
+        let finite_in = |v: f64, lo: f64, hi: f64| v.is_finite() && (lo..=hi).contains(&v);
+        if !finite_in(self.supply_c, 20.0, 95.0) {
+            bad("supply temperature", format!("{} °C is outside 20–95 °C", self.supply_c));
+        }
+        if !finite_in(self.return_c, 10.0, 90.0) {
+            bad("return temperature", format!("{} °C is outside 10–90 °C", self.return_c));
+        }
+        if self.return_c >= self.supply_c {
+            bad(
+                "return temperature",
+                format!(
+                    "return {} °C must be below supply {} °C — lower the return or raise the supply",
+                    self.return_c, self.supply_c
+                ),
+            );
+        }
+        if !finite_in(self.room_c, 5.0, 30.0) {
+            bad("room temperature", format!("{} °C is outside 5–30 °C", self.room_c));
+        } else if self.room_c >= self.return_c {
+            bad(
+                "room temperature",
+                format!("room {} °C must be below the return {} °C", self.room_c, self.return_c),
+            );
+        }
+        for class in PipeClass::ALL {
+            let v = *self.velocity_limit_m_s.get(class);
+            if !finite_in(v, 0.1, 3.0) {
+                bad("velocity limit", format!("{}: {v} m/s is outside 0.1–3 m/s", class.name()));
+            }
+        }
+        if !finite_in(self.gradient_limit_pa_m, 20.0, 1000.0) {
+            bad("pressure gradient limit", format!("{} Pa/m is outside 20–1000 Pa/m", self.gradient_limit_pa_m));
+        }
+        if !finite_in(self.head_margin_fraction, 0.0, 1.0) {
+            bad("pump head margin", format!("{} is outside 0–100 %", self.head_margin_fraction * 100.0));
+        }
+        if !finite_in(self.min_valve_dp_pa, 0.0, 50_000.0) {
+            bad("minimum valve Δp", format!("{} Pa is outside 0–50 kPa", self.min_valve_dp_pa));
+        }
+        if !finite_in(self.fill_temperature_c, 1.0, 40.0) {
+            bad("fill temperature", format!("{} °C is outside 1–40 °C", self.fill_temperature_c));
+        }
+        if let Some(h) = self.static_height_m
+            && !finite_in(h, 0.0, 200.0)
+        {
+            bad("static height", format!("{h} m is outside 0–200 m"));
+        }
+        if !finite_in(self.safety_valve_bar, 1.0, 10.0) {
+            bad("safety valve pressure", format!("{} bar is outside 1–10 bar", self.safety_valve_bar));
+        }
+        out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn defaults_are_valid_and_impossible_temperatures_are_named() {
+        assert!(DesignSettings::default().problems().is_empty());
+        let s = DesignSettings { return_c: 75.0, ..DesignSettings::default() };
+        let p = s.problems();
+        assert!(p.iter().any(|p| p.field == "return temperature" && p.message.contains("below supply")), "{p:?}");
+        let s = DesignSettings { supply_c: f64::NAN, ..DesignSettings::default() };
+        assert!(s.problems().iter().any(|p| p.field == "supply temperature"));
+    }
+}
