@@ -22,3 +22,5 @@ pub fn repo_root() -> PathBuf {
         .parent()
         .map_or_else(|| PathBuf::from("."), std::path::Path::to_path_buf)
 }
+
+pub mod builder;

@@ -377,6 +377,18 @@ mod tests {
     }
 
     #[test]
+    fn transition_keeps_dp_rising() {
+        // d(Δp)/dṁ ∝ 2f + Re·df/dRe must stay positive for the Newton solver.
+        for rr in [0.0, 1e-4, 1e-3, 1e-2, 0.05] {
+            for i in 0..=200 {
+                let re = LAMINAR_RE_MAX + f64::from(i) * (TURBULENT_RE_MIN - LAMINAR_RE_MAX) / 200.0;
+                let (f, s) = friction_factor_and_slope(re, rr);
+                assert!(f > 0.0 && 2.0 * f + re * s > 0.0, "Re {re} rr {rr}: f {f} slope {s}");
+            }
+        }
+    }
+
+    #[test]
     fn zero_flow_gives_laminar_slope() {
         let p = water_pipe(0.02, 5.0);
         let (dp, slope) = pipe_dp(&p, 0.0);

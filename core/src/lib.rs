@@ -9,12 +9,15 @@
 //! Nothing here depends on a GUI; everything the app shows can be computed
 //! from a project file.
 
+pub mod design;
 pub mod emitters;
 pub mod error;
 pub mod fittings;
 pub mod network;
+pub mod output;
 pub mod friction;
 pub mod pipes;
+pub mod project;
 pub mod pump;
 pub mod valves;
 pub mod vessel;

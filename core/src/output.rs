@@ -126,8 +126,8 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
     let s_ = &p.settings;
     out!(s, "{} — {:.0}/{:.0} °C, {} emitters", p.name, s_.supply_c, s_.return_c, sol.emitters.len());
     if let Some(pump) = &sol.pump {
-        let _w = writeln!(
-            s,
+        out!(
+        s,
             "load {:.2} kW · flow {:.0} l/h · pump duty {:.1} kPa (index {} at {:.1} kPa) · operating {:.0} l/h at {:.1} kPa",
             sol.heat_load_w / 1000.0,
             pump.design_flow_m3_h * 1000.0,
@@ -138,7 +138,7 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
             pump.operating_head_pa / 1000.0
         );
     }
-    let _w = writeln!(
+    out!(
         s,
         "water {:.1} l · expansion vessel ≥ {:.1} l · solve {} iterations, {:.2} ms",
         sol.water_volume_l,
@@ -149,8 +149,8 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
     out!(s, "\nemitters");
     out!(s, "  {:<6} {:<22} {:>8} {:>8} {:>8} {:>8} {:>6} {:>6} {:>8}", "id", "name", "load W", "l/h", "out W", "ΔpC kPa", "preset", "auth", "ret °C");
     for e in &sol.emitters {
-        let _w = writeln!(
-            s,
+        out!(
+        s,
             "  {:<6} {:<22} {:>8.0} {:>8.1} {:>8.0} {:>8.2} {:>6} {:>6.2} {:>8.1}",
             e.id.to_string(),
             truncate(&e.name, 22),
@@ -166,8 +166,8 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
     out!(s, "\npipes");
     out!(s, "  {:<6} {:<7} {:>7} {:>8} {:>8} {:>7} {:>7} {:>8}", "run", "side", "m", "size", "l/h", "m/s", "Pa/m", "Δp kPa");
     for x in &sol.pipes {
-        let _w = writeln!(
-            s,
+        out!(
+        s,
             "  {:<6} {:<7} {:>7.2} {:>8} {:>8.1} {:>7.3} {:>7.1} {:>8.3}",
             x.run.to_string(),
             if x.side == Side::Supply { "supply" } else { "return" },
@@ -190,7 +190,7 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
             out!(s, "  {tag:<7} {:<6} {}", f.item.to_string(), f.message);
         }
     }
-    let _w = writeln!(
+    out!(
         s,
         "\nDesign aid only: pressures, temperatures, safety devices and materials must follow local codes and licensed practice \
          (EN 12828 or the local equivalent)."

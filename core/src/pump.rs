@@ -222,6 +222,14 @@ pub enum PumpControl {
 }
 
 impl PumpControl {
+    /// Check the set-point.
+    ///
+    /// # Errors
+    /// [`PhysicsError`] when a set-point is not positive and finite.
+    pub fn validate(&self) -> PhysicsResult<()> {
+        self.check()
+    }
+
     fn check(&self) -> PhysicsResult<()> {
         match *self {
             Self::FixedSpeed => Ok(()),

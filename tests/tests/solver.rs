@@ -285,9 +285,15 @@ fn a_branch_cut_off_by_closed_valves_is_reported_isolated() {
 /// Two-pipe ladder with direct return: supply chain s_0..s_N, return chain
 /// r_0..r_N, emitter rungs s_i → r_i (i ≥ 1), pump r_0 → s_0, reference
 /// r_0 (pump suction). Chain resistances sized for ~20 Pa per segment at the
-/// design flow, emitters for 10 kPa at 0.02 kg/s, nodes on ten levels 3 m
-/// apart, supply at 70 °C, return at 50 °C densities (demo data).
+/// design flow, emitters for 10 kPa at 0.02 kg/s, the rungs spread over ten
+/// levels 3 m apart (supply and return rise together), supply at 70 °C,
+/// return at 50 °C densities (demo data).
 fn ladder(n: usize) -> HydraulicNetwork {
+    ladder_with_levels(n, |i| 3.0 * ((10 * i / (n + 1)) as f64))
+}
+
+/// As [`ladder`], node pair i at elevation `level_m(i)`.
+fn ladder_with_levels(n: usize, level_m: impl Fn(usize) -> f64) -> HydraulicNetwork {
     let rho_supply = water::density_kg_m3(70.0).unwrap();
     let rho_return = water::density_kg_m3(50.0).unwrap();
     let rho_emitter = water::density_kg_m3(60.0).unwrap();
@@ -297,7 +303,7 @@ fn ladder(n: usize) -> HydraulicNetwork {
     let mut nodes = Vec::with_capacity(2 * n + 2);
     for _chain in 0..2 {
         for i in 0..=n {
-            nodes.push(node(3.0 * ((i % 10) as f64)));
+            nodes.push(node(level_m(i)));
         }
     }
     let head_pa = 10_000.0 + 2.0 * 20.0 * n as f64;
@@ -391,6 +397,21 @@ fn ladder_of_1000_rungs() {
 #[test]
 fn ladder_of_10000_rungs() {
     check_ladder(10_000);
+}
+
+#[test]
+fn thermosiphon_reversal_in_a_zigzag_ladder_converges() {
+    // The chains climb 3 m per rung and drop 27 m every tenth rung; near the
+    // far end the emitters' pressure difference is small and the buoyancy of
+    // the 27 m drop (g·27 m·Δρ ≈ 2.6 kPa) reverses some rungs: Newton must
+    // pass flows through zero.
+    let n = 10_000;
+    let net = ladder_with_levels(n, |i| 3.0 * ((i % 10) as f64));
+    let rep = solve_fresh(&net);
+    assert_balanced(&net, &rep);
+    let reversed = (1..=n).filter(|&i| rep.flows_kg_s[3 * i] < 0.0).count();
+    println!("zigzag ladder: {} iterations, {reversed} reversed rungs", rep.iterations);
+    assert!(reversed > 0, "the case is meant to reverse some rungs");
 }
 
 #[test]

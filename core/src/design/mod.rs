@@ -286,7 +286,8 @@ pub struct Workspace {
 pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> Solution {
     let mut sol = Solution { revision: p.revision, ..Solution::default() };
     let t0 = Instant::now();
-    let mut d = Derivation::new(p, &mut sol.findings);
+    let mut findings = Vec::new();
+    let mut d = Derivation::new(p, &mut findings);
     let ok = d.run(p, opts);
     sol.timings.derive_ms = ms_since(t0);
     if ok {
@@ -297,8 +298,8 @@ pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> So
         d.operate(p, opts, ws, &mut sol);
         sol.timings.operate_ms = ms_since(t2);
     }
-    let Derivation { findings, .. } = d;
-    let mut all = std::mem::take(findings);
+    drop(d);
+    let mut all = findings;
     all.sort_by(|a, b| a.severity.cmp(&b.severity).then(a.item.cmp(&b.item)));
     all.dedup();
     sol.findings = all;
@@ -314,7 +315,6 @@ fn ms_since(t: Instant) -> f64 {
 struct EmitterData {
     id: NodeId,
     s: usize,
-    m: usize,
     r: usize,
     valves_link: usize,
     body_link: usize,
@@ -514,7 +514,6 @@ impl<'f> Derivation<'f> {
             self.emitters.push(EmitterData {
                 id: e,
                 s: ns,
-                m: nm,
                 r: nr,
                 valves_link: vl,
                 body_link: bl,
@@ -746,7 +745,7 @@ impl<'f> Derivation<'f> {
 
         // Lockshields (fully open) in the valve links for the open-valve
         // circuit pressure drops.
-        let dp = |law: &LinkLaw, m: f64| solver::link_dp(law, m).0;
+        let dp = |law: &LinkLaw, m: f64| solver::link_dp(law, m).map_or(0.0, |x| x.0);
         let rho_mean = 0.5 * (sp.density_kg_m3 + rp.density_kg_m3);
         let lockshield_r: Vec<f64> = self
             .emitters
@@ -847,7 +846,8 @@ impl<'f> Derivation<'f> {
 
         // Presettings.
         let mut results = Vec::with_capacity(self.emitters.len());
-        for (i, e) in self.emitters.iter().enumerate() {
+        let emitters = std::mem::take(&mut self.emitters);
+        for (i, e) in emitters.iter().enumerate() {
             let Some(node) = p.node(e.id) else { continue };
             let NodeKind::Emitter(em) = &node.kind else { continue };
             let level = p.level(node.level).map_or_else(String::new, |l| l.name.clone());
@@ -978,6 +978,7 @@ impl<'f> Derivation<'f> {
             }
             results.push(r);
         }
+        self.emitters = emitters;
         results.sort_by_key(|r| r.id);
         sol.emitters = results;
 
@@ -1169,6 +1170,19 @@ impl<'f> Derivation<'f> {
         path
     }
 
+    /// Words for a link of the derived network, for messages.
+    fn describe_link(&self, link: usize) -> String {
+        match self.roles.get(link) {
+            Some(LinkRole::Pipe { run, side: Side::Supply }) => format!("run {run} supply"),
+            Some(LinkRole::Pipe { run, side: Side::Return }) => format!("run {run} return"),
+            Some(LinkRole::EmitterValves(n)) => format!("valves of {n}"),
+            Some(LinkRole::EmitterBody(n)) => format!("emitter {n}"),
+            Some(LinkRole::Source(n)) => format!("heat source {n}"),
+            Some(LinkRole::Pump(n)) => format!("pump of {n}"),
+            None => format!("link {link}"),
+        }
+    }
+
     fn pipe_results(&self, sol: &mut Solution, s: &crate::project::DesignSettings) {
         let (Some(sp), Some(rp)) = (self.supply_props, self.return_props) else { return };
         sol.pipes = self
@@ -1229,10 +1243,21 @@ impl<'f> Derivation<'f> {
         let initial: Vec<f64> = if same_topology { ws.last_flows.clone() } else { self.design_flows.clone() };
         let report = solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(&initial));
         ws.solver = Some(solver_ws);
+        let report = match report {
+            Ok(r) => r,
+            Err(e) => {
+                self.findings.push(Finding::error(ItemRef::Project, format!("network: {e}")));
+                return;
+            }
+        };
         sol.iterations = report.iterations;
         sol.converged = report.converged;
         if !report.converged {
-            let detail = report.diagnostic.as_ref().map_or_else(String::new, |d| format!(": {d}"));
+            let detail = report.diagnostic.as_ref().map_or_else(String::new, |d| {
+                let links: Vec<String> =
+                    d.suspect_links.iter().take(5).map(|s| self.describe_link(s.link)).collect();
+                format!(" (last flow change {:.2e}; links that oscillate: {})", d.last_flow_change, links.join(", "))
+            });
             self.findings.push(Finding::error(
                 ItemRef::Project,
                 format!(

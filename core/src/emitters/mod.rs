@@ -479,6 +479,30 @@ pub struct EmitterDesign {
 }
 
 impl EmitterModel {
+    /// Check the stored data without designing: catalog entries exist,
+    /// outputs, exponents, areas and resistances are in range.
+    ///
+    /// # Errors
+    /// [`PhysicsError`] naming the bad value.
+    pub fn validate(&self) -> PhysicsResult<()> {
+        match self {
+            Self::Radiator(spec) => {
+                let cat = radiator::radiator_catalog()?;
+                let t = cat.find(&spec.type_code)?;
+                t.nominal_w_per_m(spec.height_mm)?;
+                let n = spec.exponent_n.unwrap_or(t.exponent_n);
+                if let RadiatorSizing::Existing { nominal_output_w, .. } = spec.sizing {
+                    RadiatorRating::new(nominal_output_w, n)?;
+                } else {
+                    RadiatorRating::new(1.0, n)?;
+                }
+                Ok(())
+            }
+            Self::FloorLoop(spec) => spec.characteristic().map(|_| ()),
+            Self::Terminal(spec) => spec.rating().map(|_| ()),
+        }
+    }
+
     /// Design the emitter for `load_w` at `temps`: a radiator to size gets
     /// the nominal output needed at (θs, θr, θi) and a catalog length; an
     /// existing radiator and a terminal are checked (their return follows

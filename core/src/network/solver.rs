@@ -38,12 +38,21 @@
 //! what is iterated is the link law.
 //!
 //! # Regularisation (why it does not bias the answer)
-//! - The derivative used in the matrix is max(F'_k, [`SolveSettings::min_slope_pa_s_kg`]).
-//!   Only the Jacobian is changed, never the residual F_k − (p_i − p_j + c_k):
-//!   a converged answer satisfies the exact link laws. The floor matters for
-//!   pumps held at constant Δp (F' = 0) and pump curves that turn upwards;
-//!   with the default (1 Pa·s/kg) the extra contraction factor per iteration
-//!   is ~ floor / (system slope), about 1e-4 for a small heating loop.
+//! - The derivative used in the matrix is max(F'_k, floor), with
+//!   floor = [`SolveSettings::min_slope_ratio`] · S, S = max|F| / max|m|
+//!   over the open links at the current iterate (the network's own ratio of
+//!   pressure scale to flow scale, Pa·s/kg), and never below
+//!   [`MIN_SLOPE_PA_S_KG`]. Only the Jacobian changes, never the residual
+//!   F_k − (p_i − p_j + c_k): a converged answer satisfies the exact link
+//!   laws. The floor matters for pumps held at constant Δp (F' = 0), pump
+//!   curves turning upwards, and quadratic links in their linear zero-flow
+//!   range; a link whose true slope is below the floor converges linearly
+//!   instead of quadratically, with a contraction factor ≈ floor / (slope of
+//!   the rest of the network it sees) ≈ 1e-6. Why scale-aware: the floor
+//!   caps the largest conductance 1/D, and the rounding of the linear solve
+//!   leaves each node out of balance by ≈ ε·Δp_max/floor ≈ 1e-10·m_max
+//!   (ε = 2.2e-16); an absolute floor would either spoil the balance of a
+//!   small loop or slow down the mains of a large network.
 //! - A quadratic resistance r·m|m| is replaced below
 //!   [`QUADRATIC_LINEAR_BELOW_KG_S`] by the line r·m₀·m (continuous at m₀).
 //!   This is a change of the law (EPANET-style practice, recalled from memory,
@@ -97,6 +106,10 @@ pub const QUADRATIC_LINEAR_BELOW_KG_S: f64 = 1e-6;
 /// (a network at rest has Σ|m| = 0).
 pub const FLOW_SCALE_FLOOR_KG_S: f64 = 1e-9;
 
+/// Absolute lower bound of the slope floor, Pa·s/kg (a network at rest has
+/// a slope scale of zero).
+pub const MIN_SLOPE_PA_S_KG: f64 = 1e-9;
+
 /// How many suspect links a non-convergence diagnostic names at most.
 pub const MAX_SUSPECT_LINKS: usize = 10;
 
@@ -118,19 +131,28 @@ pub struct SolveSettings {
     /// 5–15 from a cold start and 1–2 from a warm start; 100 leaves room for
     /// damped steps.
     pub max_iterations: usize,
-    /// Floor of the link derivative dF/dm used in the matrix, Pa·s/kg.
-    /// Default 1.0: a pump at constant Δp (dF/dm = 0) or a curve turning
-    /// upwards still gives a finite conductance of 1 kg/(s·Pa). Only the
-    /// Jacobian changes, so the converged answer does not (module docs). A
-    /// much smaller floor widens the spread of the conductances and with it
-    /// the rounding of the mass balance (≈ 1e-16 · Δp_max / floor kg/s).
-    pub min_slope_pa_s_kg: f64,
+    /// Floor of the link derivative dF/dm used in the matrix, relative to
+    /// the network's slope scale S = max|F| / max|m| (dimensionless; see the
+    /// module docs). Default 1e-6: a pump at constant Δp (dF/dm = 0) gets a
+    /// conductance 1e6 times the network's typical one, which slows nothing
+    /// measurably and keeps the rounding of the mass balance near 1e-10 of
+    /// the largest flow. Only the Jacobian changes, not the answer.
+    pub min_slope_ratio: f64,
     /// Starting velocity of a pipe without a given start flow, m/s.
     /// Default 0.3: mid-range for heating pipes (common practice 0.2–1 m/s).
     pub initial_velocity_m_s: f64,
-    /// Starting mass flow of a non-pipe link (valve, emitter, pump) without a
-    /// given start flow, kg/s, positive along the link. Default 0.02 kg/s
-    /// (72 kg/h): the order of one radiator circuit (common practice).
+    /// Starting pressure drop of a quadratic link without a given start
+    /// flow, Pa: it starts at m = sqrt(Δp₀/r), positive along the link, so a
+    /// low-resistance link (a main) starts with a large flow and a throttled
+    /// emitter with a small one. Default 3000 Pa: mid-range of an emitter
+    /// circuit's pressure drop (common practice 1–10 kPa).
+    pub initial_quadratic_dp_pa: f64,
+    /// Starting mass flow of a pump link, or of a quadratic link with r = 0,
+    /// without a given start flow, kg/s, positive along the link. Default
+    /// 0.1 kg/s (360 kg/h, a small heating loop; common practice). A pump
+    /// starts far from its answer in a large network; its conductance is
+    /// bounded by the slope floor ([`SolveSettings::min_slope_ratio`]), so
+    /// this costs little.
     pub initial_flow_kg_s: f64,
     /// Step scale (0 < f ≤ 1) applied when the relative flow change grows
     /// from one iteration to the next, from the third iteration on. Default
@@ -144,9 +166,10 @@ impl Default for SolveSettings {
             flow_tolerance: 1e-6,
             pressure_tolerance_pa: 0.01,
             max_iterations: 100,
-            min_slope_pa_s_kg: 1.0,
+            min_slope_ratio: 1e-6,
             initial_velocity_m_s: 0.3,
-            initial_flow_kg_s: 0.02,
+            initial_quadratic_dp_pa: 3000.0,
+            initial_flow_kg_s: 0.1,
             damping_factor: 0.5,
         }
     }
@@ -163,8 +186,9 @@ impl SolveSettings {
         if self.max_iterations == 0 {
             return Err(PhysicsError::Inconsistent("maximum iterations must be at least 1".into()));
         }
-        check::positive("minimum link slope", self.min_slope_pa_s_kg, "Pa·s/kg")?;
+        check::in_range("minimum slope ratio", self.min_slope_ratio, "", 1e-15, 1.0)?;
         check::positive("initial pipe velocity", self.initial_velocity_m_s, "m/s")?;
+        check::positive("initial quadratic-link pressure drop", self.initial_quadratic_dp_pa, "Pa")?;
         check::positive("initial link flow", self.initial_flow_kg_s, "kg/s")?;
         check::positive("damping factor", self.damping_factor, "")?;
         check::in_range("damping factor", self.damping_factor, "", f64::MIN_POSITIVE, 1.0)?;
@@ -444,7 +468,8 @@ fn validate_values(net: &HydraulicNetwork) -> Result<(), SolveError> {
 /// `workspace` is reused when it matches `net`'s topology and rebuilt
 /// otherwise. `initial_flows_kg_s` (one per link) warm-starts the iteration —
 /// pass the previous answer after a small edit; without it pipes start at
-/// [`SolveSettings::initial_velocity_m_s`] and other links at
+/// [`SolveSettings::initial_velocity_m_s`], quadratic links at
+/// [`SolveSettings::initial_quadratic_dp_pa`] and pumps at
 /// [`SolveSettings::initial_flow_kg_s`]. Closed links always start (and stay)
 /// at zero.
 ///
@@ -544,6 +569,9 @@ fn prepare(
         let start = match (initial_flows_kg_s, &l.law) {
             (Some(init), _) => init[k],
             (None, LinkLaw::Pipe(p)) => p.density_kg_m3 * settings.initial_velocity_m_s * p.flow_area_m2(),
+            (None, &LinkLaw::Quadratic { r_pa_s2_kg2 }) if r_pa_s2_kg2 > 0.0 => {
+                (settings.initial_quadratic_dp_pa / r_pa_s2_kg2).sqrt()
+            }
             (None, _) => settings.initial_flow_kg_s,
         };
         ws.flow_kg_s[k] = if l.closed { 0.0 } else { start };
@@ -610,33 +638,48 @@ enum Outcome {
 }
 
 /// Evaluates every open link law at the current flows into `drop_pa` and
-/// `slope_pa_s_kg` (floored) and returns the largest pressure-balance
-/// residual, Pa, or the links with non-finite values.
+/// `slope_pa_s_kg` (floored, see the module docs) and returns the largest
+/// pressure-balance residual, Pa, or the links with non-finite values.
 fn evaluate_links(
     ws: &mut SolverWorkspace,
     net: &HydraulicNetwork,
     settings: &SolveSettings,
 ) -> Result<f64, Vec<SuspectLink>> {
     let mut max_residual_pa = 0.0f64;
+    let mut max_drop_pa = 0.0f64;
+    let mut max_flow_kg_s = 0.0f64;
     let mut bad = false;
     for (k, l) in net.links.iter().enumerate() {
         if !ws.open[k] {
             ws.drop_pa[k] = 0.0;
-            ws.slope_pa_s_kg[k] = settings.min_slope_pa_s_kg;
+            ws.slope_pa_s_kg[k] = 1.0;
             continue;
         }
-        let (drop_pa, slope) = eval_law(&l.law, ws.flow_kg_s[k]);
+        let m = ws.flow_kg_s[k];
+        let (drop_pa, slope) = eval_law(&l.law, m);
         ws.drop_pa[k] = drop_pa;
-        ws.slope_pa_s_kg[k] = slope.max(settings.min_slope_pa_s_kg);
+        ws.slope_pa_s_kg[k] = slope;
         let (i, j) = ws.endpoints[k];
         let residual = drop_pa - (ws.rel_pressure_pa[i] - ws.rel_pressure_pa[j] + ws.static_pa[k]);
-        if residual.is_finite() && slope.is_finite() && ws.flow_kg_s[k].is_finite() {
+        if residual.is_finite() && slope.is_finite() && m.is_finite() {
             max_residual_pa = max_residual_pa.max(residual.abs());
+            max_drop_pa = max_drop_pa.max(drop_pa.abs());
+            max_flow_kg_s = max_flow_kg_s.max(m.abs());
         } else {
             bad = true;
         }
     }
-    if bad { Err(non_finite_links(ws, net)) } else { Ok(max_residual_pa) }
+    if bad {
+        return Err(non_finite_links(ws, net));
+    }
+    let scale_pa_s_kg = max_drop_pa / max_flow_kg_s.max(FLOW_SCALE_FLOOR_KG_S);
+    let floor = (settings.min_slope_ratio * scale_pa_s_kg).max(MIN_SLOPE_PA_S_KG);
+    for (slope, &open) in ws.slope_pa_s_kg.iter_mut().zip(&ws.open) {
+        if open {
+            *slope = slope.max(floor);
+        }
+    }
+    Ok(max_residual_pa)
 }
 
 /// Links with a non-finite flow, pressure drop, derivative or end pressure

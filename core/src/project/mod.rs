@@ -18,7 +18,6 @@ use std::fmt;
 
 use petgraph::Undirected;
 use petgraph::stable_graph::{EdgeIndex, NodeIndex, StableGraph};
-use petgraph::visit::EdgeRef;
 use serde::{Deserialize, Serialize};
 
 pub use edit::{Edit, EditError, EditOutcome};

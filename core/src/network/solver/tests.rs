@@ -108,10 +108,12 @@ fn rejects_bad_settings_and_start_flows() {
         SolveSettings { flow_tolerance: 0.0, ..SolveSettings::default() },
         SolveSettings { pressure_tolerance_pa: f64::NAN, ..SolveSettings::default() },
         SolveSettings { max_iterations: 0, ..SolveSettings::default() },
-        SolveSettings { min_slope_pa_s_kg: -1.0, ..SolveSettings::default() },
+        SolveSettings { min_slope_ratio: -1.0, ..SolveSettings::default() },
+        SolveSettings { min_slope_ratio: 2.0, ..SolveSettings::default() },
         SolveSettings { damping_factor: 1.5, ..SolveSettings::default() },
         SolveSettings { damping_factor: 0.0, ..SolveSettings::default() },
         SolveSettings { initial_flow_kg_s: 0.0, ..SolveSettings::default() },
+        SolveSettings { initial_quadratic_dp_pa: -5.0, ..SolveSettings::default() },
         SolveSettings { initial_velocity_m_s: f64::INFINITY, ..SolveSettings::default() },
     ] {
         assert!(matches!(solve(&net, &bad, &mut ws, None), Err(SolveError::InvalidSettings(_))), "{bad:?}");

@@ -1,0 +1,135 @@
+//! Writes the demo projects in `demo-projects/` (invented scenarios).
+//!
+//! Run from the repository root: `cargo run -p flowrise-tests --example make_demos`.
+//! Each file starts with a comment saying what the scenario is and which
+//! findings it exists to show.
+
+#![allow(clippy::unwrap_used)] // reason: a generator run by hand; a failure should stop it loudly
+
+use flowrise_core::emitters::floor::FloorZone;
+use flowrise_core::project::{DesignSettings, Edit, LevelId, Project, ReturnLayout};
+use flowrise_core::pump::PumpControl;
+use flowrise_tests::builder::{Builder, SMALL_PUMP};
+
+fn write(p: &Project, file: &str, comment: &str) {
+    let mut text = String::new();
+    for line in comment.lines() {
+        text.push_str("// ");
+        text.push_str(line);
+        text.push('\n');
+    }
+    text.push_str(&p.to_ron().unwrap());
+    text.push('\n');
+    let path = flowrise_tests::repo_root().join("demo-projects").join(file);
+    std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+    std::fs::write(&path, text).unwrap();
+    println!("wrote {}", path.display());
+}
+
+/// A single flat: wall-hung boiler in the kitchen, six radiators.
+pub fn flat() -> Project {
+    let mut b = Builder::new("Flat 3B, Alder Yard");
+    let g = LevelId(0);
+    let s = b.source(g, 1.0, 1.0, 18_000.0, SMALL_PUMP, PumpControl::ProportionalDp { setpoint_kpa: 20.0 });
+    let hall = b.junction(g, 4.0, 1.0);
+    let mid = b.junction(g, 8.0, 1.0);
+    let far = b.junction(g, 12.0, 1.0);
+    let kitchen = b.radiator(g, 1.0, 4.0, "Kitchen", 900.0, 20.0);
+    let living = b.radiator(g, 4.0, 7.5, "Living room", 1850.0, 20.0);
+    let hallr = b.radiator(g, 6.0, 0.0, "Hall", 500.0, 18.0);
+    let bed1 = b.radiator(g, 8.0, 7.0, "Bedroom 1", 1100.0, 20.0);
+    let bath = b.radiator(g, 12.0, 4.0, "Bathroom", 650.0, 24.0);
+    let bed2 = b.radiator(g, 15.5, 1.0, "Bedroom 2", 800.0, 20.0);
+    b.run(s, hall);
+    b.run_via(s, kitchen, &[]);
+    b.run(hall, mid);
+    b.run(mid, far);
+    b.run(hall, living);
+    b.run_via(mid, hallr, &[(6.0, 1.0)]);
+    b.run(mid, bed1);
+    b.run(far, bath);
+    b.run(far, bed2);
+    b.p
+}
+
+/// Four storeys over a basement plant room: heat pump, riser, one header
+/// per flat feeding radiators and a bathroom floor loop.
+pub fn block() -> Project {
+    let mut b = Builder::new("Rowan Court — four-storey block");
+    let mut settings = DesignSettings { supply_c: 55.0, return_c: 45.0, ..DesignSettings::default() };
+    settings.series.main = "steel-en10255-medium".to_owned();
+    b.p.apply(Edit::SetSettings(Box::new(settings))).unwrap();
+    let basement = b.level("Basement", -3.0);
+    let floors: Vec<LevelId> = ["Ground floor", "First floor", "Second floor", "Third floor"]
+        .iter()
+        .enumerate()
+        .map(|(i, n)| if i == 0 { LevelId(0) } else { b.level(n, 3.0 * i as f64) })
+        .collect();
+    let hp = b.source(basement, 0.0, 2.0, 24_000.0, [(0.5, 75.0), (2.5, 62.0), (5.0, 25.0)], PumpControl::ConstantDp { setpoint_kpa: 40.0 });
+    let foot = b.junction(basement, 2.0, 2.0);
+    b.run(hp, foot);
+    let mut below = foot;
+    for (i, &lv) in floors.iter().enumerate() {
+        let riser = b.junction(lv, 2.0, 2.0);
+        b.run(below, riser);
+        below = riser;
+        let header = b.header(lv, 5.0, 2.0, &format!("Flat {} header", i + 1), 6);
+        b.run(riser, header);
+        let top = i == floors.len() - 1;
+        let living = b.radiator(lv, 9.0, 7.0, "Living room", if top { 1700.0 } else { 1400.0 }, 20.0);
+        let bed = b.radiator(lv, 12.0, 2.0, "Bedroom", if top { 1000.0 } else { 800.0 }, 20.0);
+        let kitchen = b.radiator(lv, 5.0, 6.0, "Kitchen", 600.0, 20.0);
+        let bath = b.floor_loop(lv, 8.0, -1.0, "Bathroom floor", 380.0, 24.0, 5.5, FloorZone::Bathroom);
+        b.run_via(header, living, &[(9.0, 2.0)]);
+        b.run(header, bed);
+        b.run(header, kitchen);
+        b.run_via(header, bath, &[(5.0, -1.0)]);
+    }
+    b.p
+}
+
+/// An office floor: substation heat exchanger at one end, a corridor branch
+/// with reverse return to eight offices.
+pub fn office() -> Project {
+    let mut b = Builder::new("Office floor, Quarry Lane 7");
+    let settings = DesignSettings { supply_c: 70.0, return_c: 50.0, return_layout: ReturnLayout::Reverse, ..DesignSettings::default() };
+    b.p.apply(Edit::SetSettings(Box::new(settings))).unwrap();
+    let g = LevelId(0);
+    let s = b.source(g, 0.0, 0.0, 30_000.0, [(0.3, 80.0), (1.5, 68.0), (3.0, 35.0)], PumpControl::ConstantDp { setpoint_kpa: 40.0 });
+    let mut prev = s;
+    for i in 0..8 {
+        let x = 4.0 + 5.0 * f64::from(i);
+        let j = b.junction(g, x, 0.0);
+        b.run(prev, j);
+        let office = b.radiator(g, x, 4.0, &format!("Office {}", i + 1), 1200.0 + 100.0 * f64::from(i % 3), 21.0);
+        b.run(j, office);
+        prev = j;
+    }
+    b.p
+}
+
+fn main() {
+    write(
+        &flat(),
+        "flat-six-radiators.ron",
+        "Demo (invented scenario): a single-storey flat with a wall-hung boiler in the\n\
+         kitchen and six radiators to be sized, 70/55 °C, multilayer pipe to the rooms.\n\
+         Expected findings: none.",
+    );
+    write(
+        &block(),
+        "apartment-block-heat-pump.ron",
+        "Demo (invented scenario): a four-storey block of flats over a basement plant\n\
+         room. A heat pump at 55/45 °C feeds a steel riser; each flat has a header with\n\
+         three radiators (to be sized) and a bathroom floor loop.\n\
+         Expected findings: none.",
+    );
+    write(
+        &office(),
+        "office-reverse-return.ron",
+        "Demo (invented scenario): an office floor fed from a district-heating\n\
+         substation at 70/50 °C; one corridor branch to eight offices laid with\n\
+         reverse return, so every circuit has about the same length.\n\
+         Expected findings: none.",
+    );
+}
