@@ -40,7 +40,7 @@ impl Builder {
             capacity_w,
             kv_m3_h: 4.0,
             water_content_l: 3.0,
-            pump: PumpSpec { curve_points: curve, control },
+            pump: PumpSpec { curve_points: curve, control, design_flow_m3_h: None },
         });
         self.node(level, x, y, kind)
     }

@@ -10,7 +10,7 @@ use flowrise_core::output::{solve_json, solve_text};
 use flowrise_core::project::{Mode, NodeId, Project};
 
 /// Exit code for invalid input (the message is on stderr).
-const EXIT_INVALID: u8 = 2;
+pub const EXIT_INVALID: u8 = 2;
 
 #[derive(Debug, Parser)]
 #[command(name = "flowrise", version, about = "Design two-pipe hydronic heating networks", args_conflicts_with_subcommands = true)]
@@ -23,6 +23,46 @@ struct Cli {
 
 #[derive(Debug, Subcommand)]
 enum Command {
+    /// Supply-temperature sweep: how low can the supply go with these emitters?
+    Sweep {
+        /// Project file (.ron).
+        file: PathBuf,
+        /// Highest supply temperature, °C.
+        #[arg(long, default_value_t = 75.0)]
+        from: f64,
+        /// Lowest supply temperature, °C.
+        #[arg(long, default_value_t = 35.0)]
+        to: f64,
+        /// Step, K.
+        #[arg(long, default_value_t = 1.0)]
+        step: f64,
+        /// Size upgrades for this supply temperature, °C (default: --to).
+        #[arg(long)]
+        target: Option<f64>,
+        /// Keep the design's presettings and pump set-point instead of re-balancing.
+        #[arg(long)]
+        frozen: bool,
+        /// Print JSON.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Part load: close valves and solve for each pump control mode.
+    PartLoad {
+        /// Project file (.ron).
+        file: PathBuf,
+        /// Close these emitters' valves (N12,N15).
+        #[arg(long, value_delimiter = ',')]
+        close: Vec<String>,
+        /// Close this fraction of the valves, chosen by --seed.
+        #[arg(long)]
+        fraction: Option<f64>,
+        /// Seed for --fraction.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// Print JSON.
+        #[arg(long)]
+        json: bool,
+    },
     /// Design and solve a project; print a summary or JSON.
     Solve {
         /// Project file (.ron).
@@ -37,10 +77,36 @@ enum Command {
         #[arg(long, value_delimiter = ',')]
         close: Vec<String>,
     },
+    /// Write the parts list of the solved design as CSV (stdout without -o).
+    Parts {
+        /// Project file (.ron).
+        file: PathBuf,
+        /// Output file (.csv).
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+    },
+    /// Write the design report as one self-contained HTML file (stdout without -o).
+    Report {
+        /// Project file (.ron).
+        file: PathBuf,
+        /// Output file (.html).
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+    },
+    /// Generate a building (riser, floors, branches, emitters) as a project file.
+    Generate(perf::GenerateArgs),
+    /// Export the derived network (design state) in the EPANET input format.
+    ExportNetwork(perf::ExportArgs),
+    /// Time the stages on a project (for tests/epanet/bench_side_by_side.py).
+    #[command(hide = true)]
+    BenchSolve(perf::BenchArgs),
 }
 
+#[path = "cli_perf.rs"]
+mod perf;
+
 /// Parse an emitter id: `N12` or `12`.
-fn parse_node_id(text: &str) -> Result<NodeId, String> {
+pub fn parse_node_id(text: &str) -> Result<NodeId, String> {
     let t = text.trim();
     let digits = t.strip_prefix('N').or_else(|| t.strip_prefix('n')).unwrap_or(t);
     digits.parse::<u32>().map(NodeId).map_err(|_| format!("\"{t}\" is not an emitter id — give ids like N12 or 12"))
@@ -50,16 +116,59 @@ pub fn main() -> ExitCode {
     let cli = Cli::parse();
     match cli.command {
         Some(Command::Solve { file, json, installed, close }) => solve(&file, json, installed, &close),
-        None => {
-            if let Some(file) = cli.file {
-                eprintln!("flowrise: the drawing window is not built yet; for headless work use `flowrise solve {}`", file.display());
-            } else {
-                println!("flowrise {} — design two-pipe hydronic heating networks", env!("CARGO_PKG_VERSION"));
-                println!("usage: flowrise solve FILE [--json] [--installed] [--close ID,ID…]   (see --help)");
+        Some(Command::Parts { file, output }) => export(&file, output.as_deref(), Export::Parts),
+        Some(Command::Report { file, output }) => export(&file, output.as_deref(), Export::Report),
+        Some(Command::Generate(args)) => perf::generate(&args),
+        Some(Command::ExportNetwork(args)) => perf::export_network(&args),
+        Some(Command::BenchSolve(args)) => perf::bench_solve(&args),
+        Some(Command::Sweep { file, from, to, step, target, frozen, json }) => {
+            let spec = flowrise_core::sweep::SweepSpec { from_c: from, to_c: to, step_k: step, frozen_presettings: frozen, target_c: target };
+            crate::cli_sweep::run_sweep(&file, &spec, json)
+        }
+        Some(Command::PartLoad { file, close, fraction, seed, json }) => {
+            crate::cli_sweep::run_part_load(&file, &close, fraction, seed, json)
+        }
+        None => open_window(cli.file.as_deref()),
+    }
+}
+
+/// Open the drawing window on `file`, or on the embedded demo project.
+fn open_window(file: Option<&std::path::Path>) -> ExitCode {
+    let start = match file {
+        Some(path) => match Project::load(path) {
+            Ok(project) => flowrise::gui::StartProject { project, path: Some(path.to_path_buf()) },
+            Err(e) => {
+                eprintln!("flowrise: {e}");
+                return ExitCode::from(EXIT_INVALID);
             }
-            ExitCode::SUCCESS
+        },
+        None => match flowrise::gui::StartProject::default_demo() {
+            Ok(start) => start,
+            Err(e) => {
+                eprintln!("flowrise: the built-in demo project does not load: {e}");
+                return ExitCode::FAILURE;
+            }
+        },
+    };
+    match flowrise::gui::run_window(start) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(flowrise::gui::WindowError::NoDisplay) => {
+            eprintln!("flowrise: no display found; use `flowrise solve FILE` for headless work");
+            ExitCode::from(EXIT_INVALID)
+        }
+        Err(flowrise::gui::WindowError::Platform(e)) => {
+            eprintln!("flowrise: the window could not open ({e}); use `flowrise solve FILE` for headless work");
+            ExitCode::FAILURE
         }
     }
+}
+
+/// Load a project or print the error and return the exit code.
+pub fn load_or_exit(file: &std::path::Path) -> Result<Project, ExitCode> {
+    Project::load(file).map_err(|e| {
+        eprintln!("flowrise: {e}");
+        ExitCode::from(EXIT_INVALID)
+    })
 }
 
 fn solve(file: &std::path::Path, json: bool, installed: bool, close: &[String]) -> ExitCode {
@@ -107,6 +216,61 @@ fn solve(file: &std::path::Path, json: bool, installed: bool, close: &[String]) 
             eprintln!("flowrise: {}: {}", f.item, f.message);
         }
         return ExitCode::from(EXIT_INVALID);
+    }
+    ExitCode::SUCCESS
+}
+
+/// What `export` writes.
+#[derive(Debug, Clone, Copy)]
+enum Export {
+    Parts,
+    Report,
+}
+
+/// `flowrise parts` / `flowrise report`: solve, then write the parts CSV or
+/// the HTML report. An invalid file or a design with errors writes nothing
+/// and exits 2 with the errors on stderr.
+fn export(file: &std::path::Path, output: Option<&std::path::Path>, what: Export) -> ExitCode {
+    let project = match Project::load(file) {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("flowrise: {e}");
+            return ExitCode::from(EXIT_INVALID);
+        }
+    };
+    let sol = solve_project(&project, &SolveOptions::default(), &mut Workspace::default());
+    if sol.has_errors() {
+        for f in sol.findings.iter().filter(|f| f.severity == flowrise_core::design::Severity::Error) {
+            eprintln!("flowrise: {}: {}", f.item, f.message);
+        }
+        eprintln!("flowrise: the design has errors; nothing written");
+        return ExitCode::from(EXIT_INVALID);
+    }
+    let parts = match flowrise_core::parts::parts_list(&project, &sol, &flowrise_core::parts::PartsOptions::default()) {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("flowrise: parts list: {e}");
+            return ExitCode::from(EXIT_INVALID);
+        }
+    };
+    let text = match what {
+        Export::Parts => match flowrise_core::parts::parts_csv(&parts) {
+            Ok(t) => t,
+            Err(e) => {
+                eprintln!("flowrise: {e}");
+                return ExitCode::FAILURE;
+            }
+        },
+        Export::Report => flowrise_core::report::report_html(&project, &sol, &parts),
+    };
+    match output {
+        Some(path) => {
+            if let Err(e) = std::fs::write(path, text) {
+                eprintln!("flowrise: cannot write {}: {e}", path.display());
+                return ExitCode::from(EXIT_INVALID);
+            }
+        }
+        None => print!("{text}"),
     }
     ExitCode::SUCCESS
 }

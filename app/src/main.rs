@@ -1,9 +1,11 @@
 //! flowrise: design two-pipe hydronic heating networks.
 //!
-//! The binary is a thin adapter: every command loads a project with
-//! `flowrise-core`, runs the engine and prints. `anyhow` lives only here.
+//! The binary is a thin adapter: subcommands load a project with
+//! `flowrise-core`, run the engine and print; with no subcommand it opens
+//! the drawing window ([`flowrise::gui`]). `anyhow` lives only here.
 
 mod cli;
+mod cli_sweep;
 
 fn main() -> std::process::ExitCode {
     cli::main()

@@ -7,6 +7,8 @@
 //! at every node, pressure around every link and so around every loop) hold
 //! for any correct solution.
 
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // reason: test code
+
 use flowrise_core::friction::{PipeHydraulics, pipe_dp};
 use flowrise_core::network::solver::{
     NonConvergenceReason, SolveReport, SolveSettings, SolverWorkspace, link_dp, solve,
@@ -169,7 +171,8 @@ fn buoyancy_drives_a_loop_without_pump() {
     let rho_hot = water::density_kg_m3(70.0).unwrap();
     let rho_cold = water::density_kg_m3(40.0).unwrap();
     let rs = [2.0e5, 1.0e5, 3.0e5, 1.5e5];
-    let mut links = vec![link(0, 1, quad(rs[0])), link(1, 2, quad(rs[1])), link(2, 3, quad(rs[2])), link(3, 0, quad(rs[3]))];
+    let mut links =
+        vec![link(0, 1, quad(rs[0])), link(1, 2, quad(rs[1])), link(2, 3, quad(rs[2])), link(3, 0, quad(rs[3]))];
     links[0].density_kg_m3 = rho_hot;
     links[1].density_kg_m3 = rho_hot;
     links[2].density_kg_m3 = rho_cold;

@@ -74,6 +74,14 @@ pub struct SolveOptions {
     /// Use a continuous presetting (Kv exactly as needed, within the valve's
     /// range) instead of the nearest step — for checking the balancing.
     pub continuous_presetting: bool,
+    /// Matched physics for the outside cross-check against EPANET
+    /// (`tests/epanet/crosscheck.py`): the operating solve gives every link
+    /// the density, and every pipe the viscosity, of water at the mean design
+    /// temperature (so buoyancy vanishes) and EPANET's Darcy–Weisbach friction
+    /// factor ([`crate::friction::FrictionLaw::SwameeJainEpanet`]). Sizing
+    /// and presettings are designed as usual; only the operating solve's link
+    /// laws change. Not for design work.
+    pub matched_physics: bool,
     /// Solver settings.
     pub solver: SolveSettings,
 }
@@ -295,9 +303,14 @@ pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> So
         d.design(p, opts, &mut sol);
         sol.timings.design_ms = ms_since(t1);
         let t2 = Instant::now();
+        if opts.matched_physics {
+            d.match_physics(p);
+        }
         d.operate(p, opts, ws, &mut sol);
         sol.timings.operate_ms = ms_since(t2);
     }
+    sol.network = std::mem::take(&mut d.net);
+    sol.roles = std::mem::take(&mut d.roles);
     drop(d);
     let mut all = findings;
     all.sort_by(|a, b| a.severity.cmp(&b.severity).then(a.item.cmp(&b.item)));
@@ -421,6 +434,7 @@ impl<'f> Derivation<'f> {
         self.supply_props = Some(sp);
         self.return_props = Some(rp);
         let mean_rho = 0.5 * (sp.density_kg_m3 + rp.density_kg_m3);
+        let Ok(mp) = water::properties(0.5 * (s.supply_c + s.return_c)) else { return false };
 
         // Node pairs for the source and every reachable non-emitter node.
         let order = self.topo.order.clone();
@@ -506,7 +520,14 @@ impl<'f> Derivation<'f> {
             };
             let vl = self.add_link(ns, nm, mean_rho, LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 }, LinkRole::EmitterValves(e));
             let body_law = match design.as_ref().map(|d| d.installed.body) {
-                Some(crate::emitters::BodyHydraulics::Pipe(ph)) => LinkLaw::Pipe(ph),
+                // A floor loop's pipe at the network's mean water temperature
+                // (not the emitter's own design mean, which jumps when the
+                // emitter reaches its flow cap): the loop's resistance then
+                // moves smoothly with the supply temperature.
+                Some(crate::emitters::BodyHydraulics::Pipe(ph)) => LinkLaw::Pipe(
+                    PipeHydraulics::new(ph.length_m, ph.inner_diameter_m, ph.roughness_m, ph.zeta_sum, mp.density_kg_m3, mp.viscosity_pa_s)
+                        .unwrap_or(ph),
+                ),
                 Some(crate::emitters::BodyHydraulics::Quadratic { r_pa_s2_kg2 }) => LinkLaw::Quadratic { r_pa_s2_kg2 },
                 None => LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 },
             };
@@ -682,7 +703,10 @@ impl<'f> Derivation<'f> {
                 }
             };
             let m = flows[link].abs();
-            let fixed = p.run(run).and_then(|r| r.props.fixed_size.clone());
+            let fixed = p.run(run).and_then(|r| match side {
+                Side::Supply => r.props.fixed_size.clone(),
+                Side::Return => r.props.fixed_return_size.clone().or_else(|| r.props.fixed_size.clone()),
+            });
             let v_lim = *s.velocity_limit_m_s.get(class);
             let size = if let Some(label) = fixed {
                 if let Some(ix) = series.sizes.iter().position(|z| z.label == label) {
@@ -716,7 +740,21 @@ impl<'f> Derivation<'f> {
         }
 
         // Pipe laws with local losses (bends from geometry, tees from
-        // topology with the design flow split).
+        // topology). The tee split is taken from the downstream heat loads,
+        // not the design flows, so ζ does not jump when an emitter reaches
+        // its flow cap at a low supply temperature (the sweep).
+        let load_split: Vec<(usize, usize, f64)> = self
+            .emitters
+            .iter()
+            .map(|e| {
+                let load = p.node(e.id).map_or(0.0, |n| match &n.kind {
+                    NodeKind::Emitter(em) if e.flow_kg_s > 0.0 => em.load_w,
+                    _ => 0.0,
+                });
+                (e.s, e.r, load)
+            })
+            .collect();
+        let split = self.tree_flows(&load_split);
         for i in 0..self.pipes.len() {
             let pd = &self.pipes[i];
             let Some(series) = pd.series else { continue };
@@ -727,7 +765,7 @@ impl<'f> Derivation<'f> {
                 // Foot and head of a riser: two bends (assumption, stated).
                 zeta += 2.0 * fittings::Fitting::BEND_90.zeta().unwrap_or(0.3);
             }
-            zeta += self.tee_zeta(pd.run, pd.side, &flows).max(0.0);
+            zeta += self.tee_zeta(pd.run, pd.side, &split).max(0.0);
             let zeta = zeta.max(0.0);
             let law = PipeHydraulics::new(
                 pd.length_m.max(0.01),
@@ -983,8 +1021,20 @@ impl<'f> Derivation<'f> {
         sol.emitters = results;
 
         // Pump law for the operating solve.
-        if let Ok((a0, a1, a2)) =
-            crate::pump::to_mass_flow_coefficients(&curve, &self.control, rp.density_kg_m3, total.max(1e-9))
+        // In installed mode the proportional-Δp line keeps the design flow it
+        // was set for (stored by `freeze_edit`).
+        let stored_design_kg_s = match p.node(source).map(|n| &n.kind) {
+            Some(NodeKind::Source(src)) if s.mode == Mode::Installed => {
+                src.pump.design_flow_m3_h.map(|q| q * rp.density_kg_m3 / 3600.0)
+            }
+            _ => None,
+        };
+        if let Ok((a0, a1, a2)) = crate::pump::to_mass_flow_coefficients(
+            &curve,
+            &self.control,
+            rp.density_kg_m3,
+            stored_design_kg_s.unwrap_or(total).max(1e-9),
+        )
         {
             self.net.links[self.pump_link].law = LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2 };
         }
@@ -1120,6 +1170,22 @@ impl<'f> Derivation<'f> {
                 ));
             }
             _ => {}
+        }
+    }
+
+    /// Matched physics ([`SolveOptions::matched_physics`]): one density and
+    /// viscosity (water at the mean design temperature) and EPANET's friction
+    /// law on every link of the derived network.
+    fn match_physics(&mut self, p: &Project) {
+        let mean_c = 0.5 * (p.settings.supply_c + p.settings.return_c);
+        let Ok(w) = water::properties(mean_c) else { return };
+        for k in &mut self.net.links {
+            k.density_kg_m3 = w.density_kg_m3;
+            if let LinkLaw::Pipe(h) = &mut k.law {
+                h.density_kg_m3 = w.density_kg_m3;
+                h.viscosity_pa_s = w.viscosity_pa_s;
+                h.friction_law = crate::friction::FrictionLaw::SwameeJainEpanet;
+            }
         }
     }
 
@@ -1277,7 +1343,10 @@ impl<'f> Derivation<'f> {
         // Emitter outputs at the real flows.
         let Some(sp) = self.supply_props else { return };
         for e in &self.emitters {
-            let Some(r) = sol.emitters.iter_mut().find(|r| r.id == e.id) else { continue };
+            // `sol.emitters` is sorted by id: binary search, not a scan (a
+            // scan made this loop O(n²) — seconds at 50,000 emitters).
+            let Ok(ix) = sol.emitters.binary_search_by_key(&e.id, |r| r.id) else { continue };
+            let Some(r) = sol.emitters.get_mut(ix) else { continue };
             let m = flows[e.valves_link].max(0.0);
             r.flow_kg_s = m;
             r.flow_l_h = m / sp.density_kg_m3 * 3.6e6;
@@ -1363,7 +1432,7 @@ fn fill_pipe_flows(sol: &mut Solution, net: &HydraulicNetwork, flows: &[f64]) {
 
 /// Bends along a run's polyline: a turn of 60° or more counts as a 90°
 /// bend, 20–60° as half of one (a 45° bend), less as straight.
-fn bend_count(p: &Project, run: &crate::project::Run) -> f64 {
+pub fn bend_count(p: &Project, run: &crate::project::Run) -> f64 {
     let (Some(a), Some(b)) = (p.node(run.a), p.node(run.b)) else { return 0.0 };
     let mut pts = vec![a.pos];
     pts.extend_from_slice(&run.vertices);
@@ -1399,4 +1468,49 @@ fn choose_size(series: &PipeSeries, m: f64, props: &WaterProperties, v_lim: f64,
         }
     }
     (series.sizes.len().saturating_sub(1), false)
+}
+
+/// The edit that freezes a solved design into the project and switches to
+/// installed mode: every run gets its supply pipe's size as a fixed size,
+/// every emitter its presetting, a controlled pump its duty head as
+/// set-point. Radiators keep their sizing so the design flows stay the same.
+#[must_use]
+pub fn freeze_edit(p: &Project, sol: &Solution) -> crate::project::Edit {
+    use crate::project::{Edit, RunProps};
+    let mut edits = Vec::new();
+    for run in p.runs() {
+        if let Some(pr) = sol.run_pipes(run.id).find(|x| x.side == Side::Supply) {
+            let ret = sol.run_pipes(run.id).find(|x| x.side == Side::Return).map(|x| x.size.clone());
+            let fixed_return_size = ret.filter(|r| *r != pr.size);
+            let props = RunProps { fixed_size: Some(pr.size.clone()), fixed_return_size, ..run.props.clone() };
+            if props != run.props {
+                edits.push(Edit::SetRunProps { id: run.id, props });
+            }
+        }
+    }
+    for e in &sol.emitters {
+        let Some(node) = p.node(e.id) else { continue };
+        let NodeKind::Emitter(em) = &node.kind else { continue };
+        if e.presetting == "—" || e.presetting.is_empty() {
+            continue;
+        }
+        let mut em = em.clone();
+        em.valves.presetting = Some(e.presetting.clone());
+        edits.push(Edit::SetNodeKind { id: e.id, kind: NodeKind::Emitter(em) });
+    }
+    if let (Some(pump), Some(src)) = (&sol.pump, p.sources().first().and_then(|&s| p.node(s)))
+        && let NodeKind::Source(source) = &src.kind
+    {
+        let mut source = source.clone();
+        source.pump.design_flow_m3_h = Some(pump.design_flow_m3_h);
+        source.pump.control = match source.pump.control {
+            PumpControl::ConstantDp { .. } => PumpControl::ConstantDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
+            PumpControl::ProportionalDp { .. } => PumpControl::ProportionalDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
+            PumpControl::FixedSpeed => PumpControl::FixedSpeed,
+        };
+        edits.push(Edit::SetNodeKind { id: src.id, kind: NodeKind::Source(source) });
+    }
+    let settings = crate::project::DesignSettings { mode: Mode::Installed, ..p.settings.clone() };
+    edits.push(Edit::SetSettings(Box::new(settings)));
+    Edit::Batch(edits)
 }

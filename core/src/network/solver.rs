@@ -55,9 +55,10 @@
 //!   small loop or slow down the mains of a large network.
 //! - A quadratic resistance r·m|m| is replaced below
 //!   [`QUADRATIC_LINEAR_BELOW_KG_S`] by the line r·m₀·m (continuous at m₀).
-//!   This is a change of the law (EPANET-style practice, recalled from memory,
-//!   not verified against the document), bounded by r·m₀²: 1e-3 Pa for an
-//!   extreme r = 1e9 Pa·s²/kg², well below the pressure tolerance.
+//!   This is a change of the law (common practice in network-hydraulics
+//!   solvers, recalled from memory, not verified against a document),
+//!   bounded by r·m₀²: 1e-3 Pa for an extreme r = 1e9 Pa·s²/kg², well below
+//!   the pressure tolerance.
 //! - A closed link carries no flow and puts nothing in the matrix. A part of
 //!   the network cut off from the reference node by closed links would make
 //!   the matrix singular, so one node of each such part gets its diagonal
@@ -433,7 +434,8 @@ fn eval_law(law: &LinkLaw, m: f64) -> (f64, f64) {
 /// Every node and link value checked (topology is checked by the
 /// workspace).
 fn validate_values(net: &HydraulicNetwork) -> Result<(), SolveError> {
-    check::finite("reference pressure", net.reference_pressure_pa, "Pa").map_err(SolveError::InvalidReferencePressure)?;
+    check::finite("reference pressure", net.reference_pressure_pa, "Pa")
+        .map_err(SolveError::InvalidReferencePressure)?;
     for (node, n) in net.nodes.iter().enumerate() {
         check::finite("node elevation", n.elevation_m, "m")
             .and_then(|_| check::finite("node demand", n.demand_kg_s, "kg/s"))
@@ -500,7 +502,8 @@ pub fn solve(
             return Err(SolveError::InitialFlowCount { expected: net.links.len(), got: init.len() });
         }
         for (link, &m) in init.iter().enumerate() {
-            check::finite("initial mass flow", m, "kg/s").map_err(|source| SolveError::InvalidInitialFlow { link, source })?;
+            check::finite("initial mass flow", m, "kg/s")
+                .map_err(|source| SolveError::InvalidInitialFlow { link, source })?;
         }
     }
 
@@ -694,11 +697,7 @@ fn non_finite_links(ws: &SolverWorkspace, net: &HydraulicNetwork) -> Vec<Suspect
                 .all(|v| v.is_finite())
         })
         .take(MAX_SUSPECT_LINKS)
-        .map(|link| SuspectLink {
-            link,
-            sign_flips: ws.sign_flips[link],
-            last_relative_change: f64::NAN,
-        })
+        .map(|link| SuspectLink { link, sign_flips: ws.sign_flips[link], last_relative_change: f64::NAN })
         .collect()
 }
 
@@ -880,12 +879,7 @@ fn mass_imbalance(ws: &SolverWorkspace, net: &HydraulicNetwork) -> f64 {
             balance[j] -= ws.flow_kg_s[k];
         }
     }
-    balance
-        .iter()
-        .enumerate()
-        .filter(|&(v, _)| v != net.reference_node)
-        .map(|(_, b)| b.abs())
-        .fold(0.0, f64::max)
+    balance.iter().enumerate().filter(|&(v, _)| v != net.reference_node).map(|(_, b)| b.abs()).fold(0.0, f64::max)
 }
 
 /// Links that oscillate or still move, most suspicious first.

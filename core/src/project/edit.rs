@@ -139,6 +139,11 @@ pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError>
             crate::pump::PumpCurve::from_three_points(s.pump.curve_points)
                 .map_err(|e| invalid(label, format!("pump curve: {e}")))?;
             s.pump.control.validate().map_err(|e| invalid(label, format!("pump control: {e}")))?;
+            if let Some(q) = s.pump.design_flow_m3_h
+                && !finite_in(q, 1e-6, 10_000.0)
+            {
+                return Err(invalid(label, format!("pump design flow {q} m³/h — give a flow > 0")));
+            }
             Ok(())
         }
         NodeKind::Emitter(e) => {

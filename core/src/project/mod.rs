@@ -97,6 +97,11 @@ pub struct PumpSpec {
     pub curve_points: [(f64, f64); 3],
     /// How the pump is controlled.
     pub control: PumpControl,
+    /// Design flow the proportional-Δp line refers to, m³/h; written when a
+    /// design is frozen (installed mode) so the control line stays where it
+    /// was set. `None` = the current design flow.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub design_flow_m3_h: Option<f64>,
 }
 
 /// A heat source (boiler, heat pump, substation heat exchanger) with its
@@ -211,6 +216,10 @@ pub struct RunProps {
     pub class: Option<PipeClass>,
     /// Fixed pipe size label ("DN20", "16x2"); `None` = sized by design.
     pub fixed_size: Option<String>,
+    /// Fixed size of the return pipe when it differs from the supply's
+    /// (reverse return); `None` = as `fixed_size`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub fixed_return_size: Option<String>,
     /// Return layout from this run downstream; `None` = inherited.
     pub return_layout: Option<ReturnLayout>,
 }

@@ -92,6 +92,7 @@ fn rejects_non_physical_values() {
         zeta_sum: 0.0,
         density_kg_m3: 980.0,
         viscosity_pa_s: 4e-4,
+        friction_law: crate::friction::FrictionLaw::ColebrookWhite,
     });
     assert!(matches!(run(&net), Err(SolveError::InvalidLink { link: 1, .. })));
 
@@ -180,12 +181,7 @@ fn workspace_is_reused_and_rebuilt_on_topology_change() {
 
 #[test]
 fn single_node_is_trivially_solved() {
-    let net = HydraulicNetwork {
-        nodes: vec![node(2.0)],
-        links: vec![],
-        reference_node: 0,
-        reference_pressure_pa: 1e5,
-    };
+    let net = HydraulicNetwork { nodes: vec![node(2.0)], links: vec![], reference_node: 0, reference_pressure_pa: 1e5 };
     let r = run(&net).unwrap();
     assert!(r.converged);
     assert_eq!(r.iterations, 0);

@@ -211,13 +211,9 @@ impl SolverWorkspace {
 
         if n_red > 0 {
             let pattern = SymbolicSparseColMat::new_checked(n_red, n_red, col_ptr, None, row_idx);
-            let symbolic = factorize_symbolic_cholesky(
-                pattern.as_ref(),
-                Side::Upper,
-                SymmetricOrdering::Amd,
-                Default::default(),
-            )
-            .map_err(|e| SolveError::Factorisation(format!("symbolic analysis: {e:?}")))?;
+            let symbolic =
+                factorize_symbolic_cholesky(pattern.as_ref(), Side::Upper, SymmetricOrdering::Amd, Default::default())
+                    .map_err(|e| SolveError::Factorisation(format!("symbolic analysis: {e:?}")))?;
             let req = StackReq::any_of(&[
                 symbolic.factorize_numeric_llt_scratch::<f64>(Par::Seq, Default::default()),
                 symbolic.solve_in_place_scratch::<f64>(1, Par::Seq),

@@ -1,0 +1,46 @@
+//! One headless frame of the flowrise window on the largest demo project:
+//! layout, solve, paint and tessellation (`egui::Context::run_ui` +
+//! `Context::tessellate`), no GPU.
+//!
+//! Run: `cargo bench -p flowrise --bench frame`.
+
+use criterion::{Criterion, criterion_group, criterion_main};
+use flowrise::gui::FlowriseApp;
+use flowrise_core::project::Project;
+
+const LARGEST: &str = include_str!("../../demo-projects/apartment-block-heat-pump.ron");
+
+fn raw_input() -> egui::RawInput {
+    egui::RawInput {
+        screen_rect: Some(egui::Rect::from_min_size(egui::Pos2::ZERO, egui::vec2(1440.0, 900.0))),
+        ..egui::RawInput::default()
+    }
+}
+
+fn frame(ctx: &egui::Context, app: &mut FlowriseApp) -> usize {
+    let out = ctx.run_ui(raw_input(), |ui| app.ui(ui));
+    ctx.tessellate(out.shapes, out.pixels_per_point).len()
+}
+
+fn bench(c: &mut Criterion) {
+    let Ok(project) = Project::from_ron(LARGEST) else { return };
+    let ctx = egui::Context::default();
+    flowrise::gui::theme::apply_style(&ctx);
+
+    // A frame whose project changed: the solve runs inside it.
+    let mut app = FlowriseApp::new(project.clone(), None);
+    app.set_background_solve(false);
+    frame(&ctx, &mut app);
+    c.bench_function("frame with solve (apartment block)", |b| {
+        b.iter(|| {
+            app.replace_project(project.clone(), None);
+            frame(&ctx, &mut app)
+        });
+    });
+
+    // A frame with nothing changed: layout + paint + tessellation only.
+    c.bench_function("frame, results cached (apartment block)", |b| b.iter(|| frame(&ctx, &mut app)));
+}
+
+criterion_group!(benches, bench);
+criterion_main!(benches);

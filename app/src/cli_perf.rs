@@ -1,0 +1,268 @@
+//! `generate`, `export-network` and the hidden `bench-solve` subcommands.
+
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+use std::time::Instant;
+
+use clap::{Args, ValueEnum};
+use flowrise_core::design::{Severity, SolveOptions, Workspace, solve_project};
+use flowrise_core::export::{ExportOptions, PumpExport, flows_json, network_to_inp};
+use flowrise_core::generate::{BuildingSpec, generate_building};
+use flowrise_core::project::{Edit, NodeKind, Project};
+
+use super::EXIT_INVALID;
+
+/// Arguments of `flowrise generate`.
+#[derive(Debug, Args)]
+pub struct GenerateArgs {
+    /// Number of floors (levels).
+    #[arg(long)]
+    floors: u32,
+    /// Emitters per floor.
+    #[arg(long)]
+    per_floor: u32,
+    /// Radiator branches as reverse-return chains.
+    #[arg(long)]
+    reverse_return: bool,
+    /// One header with floor loops per floor.
+    #[arg(long)]
+    headers: bool,
+    /// Seed of the loads and room temperatures.
+    #[arg(long, default_value_t = 1)]
+    seed: u64,
+    /// Project file to write (.ron).
+    #[arg(short = 'o', long = "output")]
+    output: PathBuf,
+}
+
+/// Pump representation in the export.
+#[derive(Debug, Clone, Copy, ValueEnum)]
+enum PumpArg {
+    /// A curve when exact, else a fixed head rise.
+    Auto,
+    /// Always a three-point curve.
+    Curve,
+    /// Always a fixed head rise at the operating point.
+    FixedRise,
+}
+
+/// Arguments of `flowrise export-network`.
+#[derive(Debug, Args)]
+pub struct ExportArgs {
+    /// Project file (.ron).
+    file: PathBuf,
+    /// Network file to write (.inp).
+    #[arg(short = 'o', long = "output")]
+    output: PathBuf,
+    /// How to write the pump.
+    #[arg(long, value_enum, default_value = "auto")]
+    pump: PumpArg,
+    /// EPANET accuracy option written to the file.
+    #[arg(long, default_value_t = 0.001)]
+    accuracy: f64,
+    /// Solve with matched physics (one viscosity and density, EPANET's friction law).
+    #[arg(long, hide = true)]
+    matched: bool,
+    /// Also write flowrise's operating flows of every link as JSON here.
+    #[arg(long, hide = true)]
+    flows_json: Option<PathBuf>,
+}
+
+/// Arguments of `flowrise bench-solve`.
+#[derive(Debug, Args)]
+pub struct BenchArgs {
+    /// Project file (.ron).
+    file: PathBuf,
+    /// Repetitions per measurement.
+    #[arg(long, default_value_t = 5)]
+    repeat: usize,
+    /// Matched physics.
+    #[arg(long)]
+    matched: bool,
+    /// Solver flow tolerance (relative flow change).
+    #[arg(long)]
+    flow_tolerance: Option<f64>,
+}
+
+fn load(path: &Path) -> Result<Project, ExitCode> {
+    Project::load(path).map_err(|e| {
+        eprintln!("flowrise: {e}");
+        ExitCode::from(EXIT_INVALID)
+    })
+}
+
+/// `flowrise generate`.
+pub fn generate(a: &GenerateArgs) -> ExitCode {
+    let spec = BuildingSpec {
+        floors: a.floors,
+        per_floor: a.per_floor,
+        reverse_return: a.reverse_return,
+        headers: a.headers,
+        seed: a.seed,
+    };
+    let project = match generate_building(&spec) {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("flowrise: generate: {e}");
+            return ExitCode::from(EXIT_INVALID);
+        }
+    };
+    if let Err(e) = project.save(&a.output) {
+        eprintln!("flowrise: {e}");
+        return ExitCode::FAILURE;
+    }
+    eprintln!("flowrise: wrote {} ({} emitters, {} runs)", a.output.display(), project.emitters().len(), project.run_count());
+    ExitCode::SUCCESS
+}
+
+/// `flowrise export-network`.
+pub fn export_network(a: &ExportArgs) -> ExitCode {
+    let project = match load(&a.file) {
+        Ok(p) => p,
+        Err(code) => return code,
+    };
+    let opts = SolveOptions { matched_physics: a.matched, ..SolveOptions::default() };
+    let sol = solve_project(&project, &opts, &mut Workspace::default());
+    if sol.has_errors() {
+        for f in sol.findings.iter().filter(|f| f.severity == Severity::Error) {
+            eprintln!("flowrise: {}: {}", f.item, f.message);
+        }
+        return ExitCode::from(EXIT_INVALID);
+    }
+    let pump = match a.pump {
+        PumpArg::Auto => PumpExport::Auto,
+        PumpArg::Curve => PumpExport::Curve,
+        PumpArg::FixedRise => PumpExport::FixedRise,
+    };
+    let eo = ExportOptions { pump, accuracy: a.accuracy, ..ExportOptions::default() };
+    let text = match network_to_inp(&sol, &project.name, &eo) {
+        Ok(t) => t,
+        Err(e) => {
+            eprintln!("flowrise: export-network: {e}");
+            return ExitCode::from(EXIT_INVALID);
+        }
+    };
+    if let Err(e) = flowrise_core::project::file::write_atomic(&a.output, text.as_bytes()) {
+        eprintln!("flowrise: {e}");
+        return ExitCode::FAILURE;
+    }
+    if let Some(path) = &a.flows_json {
+        let doc = match flows_json(&sol, &eo) {
+            Ok(d) => d,
+            Err(e) => {
+                eprintln!("flowrise: export-network: {e}");
+                return ExitCode::from(EXIT_INVALID);
+            }
+        };
+        let bytes = match serde_json::to_vec(&doc) {
+            Ok(b) => b,
+            Err(e) => {
+                eprintln!("flowrise: cannot write JSON: {e}");
+                return ExitCode::FAILURE;
+            }
+        };
+        if let Err(e) = flowrise_core::project::file::write_atomic(path, &bytes) {
+            eprintln!("flowrise: {e}");
+            return ExitCode::FAILURE;
+        }
+    }
+    ExitCode::SUCCESS
+}
+
+fn median(v: &mut [f64]) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    if n % 2 == 1 { v[n / 2] } else { 0.5 * (v[n / 2 - 1] + v[n / 2]) }
+}
+
+fn ms_since(t: Instant) -> f64 {
+    t.elapsed().as_secs_f64() * 1e3
+}
+
+/// `flowrise bench-solve`: medians of load, cold solve stages and the warm
+/// edit → results cycle of a drag, as JSON on stdout.
+pub fn bench_solve(a: &BenchArgs) -> ExitCode {
+    let repeat = a.repeat.max(1);
+    let mut load_ms = Vec::new();
+    let mut project = None;
+    for _ in 0..repeat.min(3) {
+        let t = Instant::now();
+        match load(&a.file) {
+            Ok(p) => project = Some(p),
+            Err(code) => return code,
+        }
+        load_ms.push(ms_since(t));
+    }
+    let Some(mut project) = project else { return ExitCode::FAILURE };
+    let mut opts = SolveOptions { matched_physics: a.matched, ..SolveOptions::default() };
+    if let Some(tol) = a.flow_tolerance {
+        opts.solver.flow_tolerance = tol;
+    }
+    let (mut derive, mut design, mut operate, mut total, mut iters) = (vec![], vec![], vec![], vec![], vec![]);
+    for _ in 0..repeat {
+        let t = Instant::now();
+        let sol = solve_project(&project, &opts, &mut Workspace::default());
+        total.push(ms_since(t));
+        derive.push(sol.timings.derive_ms);
+        design.push(sol.timings.design_ms);
+        operate.push(sol.timings.operate_ms);
+        iters.push(sol.iterations as f64);
+        if sol.has_errors() {
+            eprintln!("flowrise: bench-solve: the project has error findings");
+            return ExitCode::from(EXIT_INVALID);
+        }
+    }
+    // Warm: a drag moves one emitter by ±5 cm (its connection's length
+    // changes); each step is edit → derive → design → operate with the same
+    // workspace (symbolic factor reused, warm start).
+    let mover = project.nodes().find(|n| matches!(n.kind, NodeKind::Emitter(_))).map(|n| n.id);
+    let mut ws = Workspace::default();
+    let _ = solve_project(&project, &opts, &mut ws);
+    let (mut w_operate, mut w_total, mut w_iters) = (vec![], vec![], vec![]);
+    if let Some(id) = mover {
+        for i in 0..repeat {
+            let dx = if i % 2 == 0 { 0.05 } else { -0.05 };
+            let t = Instant::now();
+            if project.apply(Edit::MoveNodes { ids: vec![id], dx_m: dx, dy_m: 0.0 }).is_err() {
+                break;
+            }
+            let sol = solve_project(&project, &opts, &mut ws);
+            w_total.push(ms_since(t));
+            w_operate.push(sol.timings.operate_ms);
+            w_iters.push(sol.iterations as f64);
+        }
+    }
+    let doc = serde_json::json!({
+        "file": a.file.display().to_string(),
+        "emitters": project.emitters().len(),
+        "repeat": repeat,
+        "matched_physics": a.matched,
+        "flow_tolerance": opts.solver.flow_tolerance,
+        "load_ms": median(&mut load_ms),
+        "cold": {
+            "derive_ms": median(&mut derive),
+            "design_ms": median(&mut design),
+            "operate_ms": median(&mut operate),
+            "total_ms": median(&mut total),
+            "iterations": median(&mut iters),
+        },
+        "warm_drag": {
+            "operate_ms": median(&mut w_operate),
+            "edit_to_results_ms": median(&mut w_total),
+            "iterations": median(&mut w_iters),
+        },
+    });
+    match serde_json::to_string_pretty(&doc) {
+        Ok(t) => {
+            println!("{t}");
+            ExitCode::SUCCESS
+        }
+        Err(e) => {
+            eprintln!("flowrise: cannot write JSON: {e}");
+            ExitCode::FAILURE
+        }
+    }
+}

@@ -1,0 +1,142 @@
+//! User actions: one enum with label, shortcut and tooltip, used by the
+//! menus, the keyboard handler and the tests alike.
+
+use egui::{Key, KeyboardShortcut, Modifiers};
+
+use super::canvas::Tool;
+
+/// Something the user can ask for from a menu, a button or a key.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Action {
+    /// Start a new, empty project.
+    New,
+    /// Open a project file.
+    Open,
+    /// Save to the current file (asks for one when there is none).
+    Save,
+    /// Save to a new file.
+    SaveAs,
+    /// Undo the last change.
+    Undo,
+    /// Redo the last undone change.
+    Redo,
+    /// Pick a canvas tool.
+    Tool(Tool),
+    /// Show or hide the size/flow/presetting labels.
+    ToggleLabels,
+    /// Fit the view to the level's drawing.
+    FitView,
+    /// Show or hide the riser elevation strip.
+    ToggleElevation,
+    /// Open the design settings.
+    Settings,
+    /// Open the About window with the cautions.
+    About,
+}
+
+impl Action {
+    /// Actions that have a keyboard shortcut, in the order they are checked.
+    pub const WITH_KEYS: [Self; 16] = [
+        Self::New,
+        Self::Open,
+        Self::SaveAs,
+        Self::Save,
+        Self::Redo,
+        Self::Undo,
+        Self::Tool(Tool::Select),
+        Self::Tool(Tool::Run),
+        Self::Tool(Tool::Emitter),
+        Self::Tool(Tool::Header),
+        Self::Tool(Tool::Source),
+        Self::Tool(Tool::Riser),
+        Self::Tool(Tool::Split),
+        Self::Tool(Tool::Erase),
+        Self::ToggleLabels,
+        Self::FitView,
+    ];
+
+    /// Words on the button or menu entry (also the accessible label).
+    #[must_use]
+    pub fn label(self) -> &'static str {
+        match self {
+            Self::New => "New",
+            Self::Open => "Open…",
+            Self::Save => "Save",
+            Self::SaveAs => "Save as…",
+            Self::Undo => "Undo",
+            Self::Redo => "Redo",
+            Self::Tool(t) => t.word(),
+            Self::ToggleLabels => "Labels",
+            Self::FitView => "Fit view",
+            Self::ToggleElevation => "Riser view",
+            Self::Settings => "Design settings",
+            Self::About => "About and cautions",
+        }
+    }
+
+    /// Keyboard shortcut, if any.
+    #[must_use]
+    pub fn shortcut(self) -> Option<KeyboardShortcut> {
+        let cmd = |key| Some(KeyboardShortcut::new(Modifiers::COMMAND, key));
+        let plain = |key| Some(KeyboardShortcut::new(Modifiers::NONE, key));
+        match self {
+            Self::New => cmd(Key::N),
+            Self::Open => cmd(Key::O),
+            Self::Save => cmd(Key::S),
+            Self::SaveAs => Some(KeyboardShortcut::new(Modifiers::COMMAND | Modifiers::SHIFT, Key::S)),
+            Self::Undo => cmd(Key::Z),
+            Self::Redo => Some(KeyboardShortcut::new(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z)),
+            Self::Tool(t) => plain(t.key()),
+            Self::ToggleLabels => plain(Key::L),
+            Self::FitView => plain(Key::F),
+            Self::ToggleElevation | Self::Settings | Self::About => None,
+        }
+    }
+
+    /// True when the shortcut is a bare letter (ignored while typing).
+    #[must_use]
+    pub fn is_plain_key(self) -> bool {
+        self.shortcut().is_some_and(|s| s.modifiers.is_none())
+    }
+
+    /// Tooltip: what the action does.
+    #[must_use]
+    pub fn tooltip(self) -> &'static str {
+        match self {
+            Self::New => "Start a new project with one level",
+            Self::Open => "Open a flowrise project (.ron)",
+            Self::Save => "Save the project to its file",
+            Self::SaveAs => "Save the project to a new file",
+            Self::Undo => "Undo the last change (a whole drag is one step)",
+            Self::Redo => "Redo the change you undid",
+            Self::Tool(t) => t.tooltip(),
+            Self::ToggleLabels => "Show pipe sizes and flows on runs, load and presetting at emitters",
+            Self::FitView => "Fit the drawing of this level into the canvas",
+            Self::ToggleElevation => "Show the riser across all levels beside the plan",
+            Self::Settings => "Temperatures, velocity and gradient limits, pipe series, pump margin",
+            Self::About => "What flowrise is for, and the cautions that go with its results",
+        }
+    }
+
+    /// Label with the shortcut, for menus ("Save  Ctrl+S").
+    #[must_use]
+    pub fn menu_text(self, ctx: &egui::Context) -> String {
+        match self.shortcut() {
+            Some(s) => format!("{}    {}", self.label(), ctx.format_shortcut(&s)),
+            None => self.label().to_owned(),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shortcuts_are_unique() {
+        let keys: Vec<_> = Action::WITH_KEYS.iter().filter_map(|a| a.shortcut()).collect();
+        for (i, a) in keys.iter().enumerate() {
+            assert!(!keys[i + 1..].contains(a), "{a:?} is used twice");
+        }
+    }
+}

@@ -1,0 +1,58 @@
+//! The riser (elevation) strip: levels as horizontal bands, vertical runs as
+//! lines between them, placed by their plan x. A simple side view from the
+//! south; it shows what crosses the levels, not the plan.
+
+use egui::{Align2, Color32, FontId, Painter, Rect, Stroke, pos2};
+use flowrise_core::design::{Side, Solution};
+use flowrise_core::project::Project;
+
+use crate::gui::theme::{self, ColourBy};
+
+/// Draw the elevation of all vertical runs into `rect`.
+pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, colour_by: ColourBy) {
+    painter.rect_filled(rect, 0, theme::PAPER);
+    painter.text(rect.left_top() + egui::vec2(8.0, 6.0), Align2::LEFT_TOP, "Riser view (from the south)", FontId::proportional(12.0), theme::INK);
+    let levels = &project.levels;
+    if levels.is_empty() {
+        return;
+    }
+    let z_min = levels.iter().map(|l| l.elevation_m).fold(f64::INFINITY, f64::min);
+    let z_max = levels.iter().map(|l| l.elevation_m).fold(f64::NEG_INFINITY, f64::max);
+    let span = (z_max - z_min).max(3.0);
+    let top = rect.top() + 40.0;
+    let bottom = rect.bottom() - 30.0;
+    let y_of = |z: f64| bottom - ((z - z_min) / span) as f32 * (bottom - top);
+    for l in levels {
+        let y = y_of(l.elevation_m);
+        painter.line_segment([pos2(rect.left() + 6.0, y), pos2(rect.right() - 6.0, y)], Stroke::new(1.0, theme::GRID_MAJOR));
+        painter.text(pos2(rect.left() + 8.0, y - 2.0), Align2::LEFT_BOTTOM, format!("{}  {:+.1} m", l.name, l.elevation_m), FontId::proportional(10.5), theme::INK);
+    }
+    let vertical: Vec<_> = project.runs().filter(|r| project.is_vertical(r)).collect();
+    if vertical.is_empty() {
+        painter.text(rect.center(), Align2::CENTER_CENTER, "no risers yet", FontId::proportional(12.0), theme::NO_RESULT);
+        return;
+    }
+    let xs: Vec<f64> = vertical.iter().filter_map(|r| project.node(r.a)).map(|n| n.pos.x_m).collect();
+    let x_min = xs.iter().copied().fold(f64::INFINITY, f64::min);
+    let x_max = xs.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let x_span = (x_max - x_min).max(1.0);
+    let left = rect.left() + 60.0;
+    let right = rect.right() - 40.0;
+    let x_of = |x: f64| if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { 0.5 * (left + right) };
+    let limit = project.settings.gradient_limit_pa_m;
+    for r in vertical {
+        let (Some(a), Some(b)) = (project.node(r.a), project.node(r.b)) else { continue };
+        let x = x_of(a.pos.x_m);
+        let (ya, yb) = (y_of(project.elevation_m(a.id)), y_of(project.elevation_m(b.id)));
+        let value = colour_by.run_value(sol, r.id, limit);
+        let (stroke, _) = theme::run_stroke(value, 40.0);
+        painter.line_segment([pos2(x, ya), pos2(x, yb)], Stroke::new(stroke.width + 2.0, theme::CASING));
+        painter.line_segment([pos2(x, ya), pos2(x, yb)], stroke);
+        for y in [ya, yb] {
+            painter.circle_filled(pos2(x, y), 3.5, theme::INK);
+        }
+        if let Some(p) = sol.run_pipes(r.id).find(|p| p.side == Side::Supply) {
+            painter.text(pos2(x + 6.0, 0.5 * (ya + yb)), Align2::LEFT_CENTER, &p.size, FontId::proportional(10.5), Color32::from_rgb(0x26, 0x2b, 0x33));
+        }
+    }
+}

@@ -1,0 +1,297 @@
+//! The plan canvas: one level at a time, level tabs along its lower edge and
+//! an optional riser strip beside it.
+//!
+//! Per frame: map the pointer to plan space once, resolve what is under it
+//! ([`hit`]), handle zoom/pan/drag, draw ([`draw`]), then turn clicks into
+//! edits through the active tool ([`tools`]). Everything here is transient
+//! state ([`CanvasState`]) and is never saved.
+
+pub mod draw;
+pub mod elevation;
+pub mod hit;
+pub mod tools;
+pub mod view;
+
+use egui::{Align2, FontId, Pos2, Sense, Shape, Stroke, Ui};
+use flowrise_core::design::Solution;
+use flowrise_core::project::{Edit, LevelId, NodeId, PlanPoint, Project};
+
+pub use tools::Tool;
+use tools::RunDraft;
+pub use view::View;
+
+use super::theme::{self, ColourBy};
+use super::{Intents, Selection};
+
+/// A drag in progress.
+#[derive(Debug, Clone, PartialEq)]
+enum Drag {
+    /// Panning the view.
+    Pan,
+    /// Moving nodes: the grabbed node's start position, the offset applied so far.
+    Move { ids: Vec<NodeId>, grabbed_start: PlanPoint, pointer_start: PlanPoint, applied: (f64, f64) },
+}
+
+/// Transient canvas state (never saved).
+#[derive(Debug, Clone)]
+pub struct CanvasState {
+    /// Pan and zoom.
+    pub view: View,
+    /// Level shown.
+    pub level: LevelId,
+    /// Active tool.
+    pub tool: Tool,
+    /// Outlets of headers placed with the header tool.
+    pub header_outlets: u32,
+    /// Run being drawn.
+    pub draft: Option<RunDraft>,
+    drag: Option<Drag>,
+    /// What is under the pointer.
+    pub hover: Option<hit::Hit>,
+    /// Pointer position on the plan, m.
+    pub pointer_plan: Option<PlanPoint>,
+    /// Fit the view on the next frame (after open or on request).
+    pub fit_pending: bool,
+}
+
+impl Default for CanvasState {
+    fn default() -> Self {
+        Self {
+            view: View::default(),
+            level: LevelId(0),
+            tool: Tool::Select,
+            header_outlets: 4,
+            draft: None,
+            drag: None,
+            hover: None,
+            pointer_plan: None,
+            fit_pending: true,
+        }
+    }
+}
+
+impl CanvasState {
+    /// Fresh state for a newly opened project: its source's level, fitted.
+    #[must_use]
+    pub fn for_project(project: &Project) -> Self {
+        let level = project
+            .sources()
+            .first()
+            .and_then(|&s| project.node(s))
+            .map(|n| n.level)
+            .or_else(|| project.levels.first().map(|l| l.id))
+            .unwrap_or(LevelId(0));
+        Self { level, ..Self::default() }
+    }
+
+    /// Fit the view to the drawing of the current level.
+    pub fn fit(&mut self, project: &Project) {
+        let mut pts: Vec<PlanPoint> = project.nodes().filter(|n| n.level == self.level).map(|n| n.pos).collect();
+        for r in project.runs() {
+            if project.node(r.a).is_some_and(|n| n.level == self.level) {
+                pts.extend(r.vertices.iter().copied());
+            }
+        }
+        if pts.is_empty() {
+            pts.push(PlanPoint::new(0.0, 0.0));
+        }
+        let min = pts.iter().fold(PlanPoint::new(f64::INFINITY, f64::INFINITY), |m, p| PlanPoint::new(m.x_m.min(p.x_m), m.y_m.min(p.y_m)));
+        let max = pts.iter().fold(PlanPoint::new(f64::NEG_INFINITY, f64::NEG_INFINITY), |m, p| PlanPoint::new(m.x_m.max(p.x_m), m.y_m.max(p.y_m)));
+        self.view.fit(min, max);
+    }
+
+    /// Centre the view on a plan point (and show its level).
+    pub fn centre_on(&mut self, level: LevelId, at: PlanPoint) {
+        self.level = level;
+        self.view.centre = at;
+    }
+
+    /// Cancel the tool in progress (Esc).
+    pub fn cancel(&mut self) {
+        self.draft = None;
+    }
+
+    /// True while a node drag is in progress.
+    #[must_use]
+    pub fn is_moving(&self) -> bool {
+        matches!(self.drag, Some(Drag::Move { .. }))
+    }
+}
+
+/// What the canvas shows besides the plan.
+#[derive(Debug, Clone, Copy)]
+pub struct CanvasOptions {
+    /// Metric of the run colours.
+    pub colour_by: ColourBy,
+    /// Labels on.
+    pub show_labels: bool,
+    /// Riser strip open.
+    pub show_elevation: bool,
+}
+
+/// Show the canvas with its level tabs and riser strip.
+pub fn show(
+    ui: &mut Ui,
+    project: &Project,
+    sol: &Solution,
+    opts: CanvasOptions,
+    state: &mut CanvasState,
+    selection: Selection,
+    out: &mut Intents,
+) {
+    egui::Panel::bottom("level_tabs").show(ui, |ui| level_tabs(ui, project, state, out));
+    if opts.show_elevation {
+        egui::Panel::right("riser_strip").resizable(true).default_size(260.0).show(ui, |ui| {
+            let rect = ui.available_rect_before_wrap();
+            ui.allocate_rect(rect, Sense::hover());
+            elevation::draw(ui.painter(), rect, project, sol, opts.colour_by);
+        });
+    }
+    let rect = ui.available_rect_before_wrap();
+    let resp = ui.allocate_rect(rect, Sense::click_and_drag());
+    state.view.rect = rect;
+    if state.fit_pending {
+        state.fit(project);
+        state.fit_pending = false;
+    }
+    let painter = ui.painter_at(rect);
+
+    // Pointer → plan once per frame; hit-test.
+    let pointer = resp.hover_pos().or_else(|| if resp.dragged() { resp.interact_pointer_pos() } else { None });
+    state.pointer_plan = pointer.map(|p| state.view.plan_from_screen(p));
+    state.hover = pointer.and_then(|p| hit::hit_test(project, state.level, &state.view, p));
+
+    // Zoom about the pointer.
+    if let Some(p) = resp.hover_pos() {
+        let (scroll, zoom) = ui.input(|i| (i.smooth_scroll_delta.y, i.zoom_delta()));
+        let factor = zoom * (scroll * 0.0015).exp();
+        if (factor - 1.0).abs() > 1e-4 {
+            state.view.zoom_about(p, factor);
+        }
+    }
+
+    handle_drag(ui, &resp, project, state, out);
+    handle_clicks(&resp, project, state, out);
+
+    // Draw.
+    painter.rect_filled(rect, 0, theme::PAPER);
+    state.view.draw_grid(&painter, theme::GRID_MINOR, theme::GRID_MAJOR);
+    let flagged = draw::flagged_items(sol);
+    let scene = draw::PlanScene {
+        project,
+        sol,
+        level: state.level,
+        view: &state.view,
+        colour_by: opts.colour_by,
+        show_labels: opts.show_labels,
+        selection,
+        hover: state.hover,
+        flagged: &flagged,
+    };
+    draw::draw_runs(&painter, &scene);
+    draw::draw_nodes(&painter, &scene);
+    draw_draft(&painter, project, state);
+    draw::draw_legend(&painter, rect, opts.colour_by);
+    draw::draw_scale_bar(&painter, &state.view, rect.left_bottom());
+    if project.node_count() == 0 {
+        painter.text(rect.center(), Align2::CENTER_CENTER, "Empty level — place a heat source (Q), then draw runs (R) to emitters (E)", FontId::proportional(14.0), theme::INK);
+    }
+    if let Some(p) = state.pointer_plan {
+        painter.text(rect.right_bottom() + egui::vec2(-10.0, -8.0), Align2::RIGHT_BOTTOM, format!("x {:.2} m   y {:.2} m", p.x_m, p.y_m), FontId::monospace(11.0), theme::INK);
+    }
+}
+
+fn handle_drag(ui: &Ui, resp: &egui::Response, project: &Project, state: &mut CanvasState, out: &mut Intents) {
+    if resp.drag_started() {
+        let origin = ui.input(|i| i.pointer.press_origin()).or(resp.interact_pointer_pos()).unwrap_or(Pos2::ZERO);
+        let shift = ui.input(|i| i.modifiers.shift);
+        let grabbed = if state.tool == Tool::Select { hit::hit_node(project, state.level, &state.view, origin) } else { None };
+        state.drag = Some(match grabbed.and_then(|id| project.node(id)) {
+            Some(node) => {
+                let ids = if shift { tools::branch_of(project, node.id) } else { vec![node.id] };
+                out.select = Some(Selection::Node(node.id));
+                out.drag_begin = true;
+                Drag::Move { ids, grabbed_start: node.pos, pointer_start: state.view.plan_from_screen(origin), applied: (0.0, 0.0) }
+            }
+            None => Drag::Pan,
+        });
+    }
+    if resp.dragged() {
+        match &mut state.drag {
+            Some(Drag::Pan) => state.view.pan_by_screen(resp.drag_delta()),
+            Some(Drag::Move { ids, grabbed_start, pointer_start, applied }) => {
+                if let Some(p) = resp.interact_pointer_pos().map(|q| state.view.plan_from_screen(q)) {
+                    let target = state.view.snap(PlanPoint::new(grabbed_start.x_m + p.x_m - pointer_start.x_m, grabbed_start.y_m + p.y_m - pointer_start.y_m));
+                    let total = (target.x_m - grabbed_start.x_m, target.y_m - grabbed_start.y_m);
+                    let (dx_m, dy_m) = (total.0 - applied.0, total.1 - applied.1);
+                    if dx_m.abs() > 1e-9 || dy_m.abs() > 1e-9 {
+                        out.edit_during_drag(Edit::MoveNodes { ids: ids.clone(), dx_m, dy_m });
+                        *applied = total;
+                    }
+                }
+            }
+            None => {}
+        }
+    }
+    if resp.drag_stopped() {
+        if state.is_moving() {
+            out.drag_end = true;
+        }
+        state.drag = None;
+    }
+}
+
+fn handle_clicks(resp: &egui::Response, project: &Project, state: &mut CanvasState, out: &mut Intents) {
+    if resp.secondary_clicked() {
+        state.cancel();
+        return;
+    }
+    let Some(pos) = resp.interact_pointer_pos() else { return };
+    let at_plan = state.view.plan_from_screen(pos);
+    let hit = hit::hit_test(project, state.level, &state.view, pos);
+    if resp.double_clicked() && state.tool == Tool::Run && hit.is_none() {
+        tools::run_double_click(project, state.level, state.view.snap(at_plan), &mut state.draft, out);
+        return;
+    }
+    if resp.clicked() {
+        let at = state.view.snap(at_plan);
+        tools::click(state.tool, project, state.level, at, hit, &mut state.draft, state.header_outlets, out);
+    }
+}
+
+fn draw_draft(painter: &egui::Painter, project: &Project, state: &CanvasState) {
+    let Some(d) = &state.draft else { return };
+    let Some(start) = project.node(d.start) else { return };
+    let mut pts: Vec<Pos2> = std::iter::once(start.pos).chain(d.vertices.iter().copied()).map(|p| state.view.screen_from_plan(p)).collect();
+    if let Some(p) = state.pointer_plan {
+        pts.push(state.view.screen_from_plan(state.view.snap(p)));
+    }
+    painter.extend(Shape::dashed_line(&pts, Stroke::new(2.5, theme::HOVER), 8.0, 4.0));
+    for &p in &pts[1..] {
+        painter.circle_filled(p, 3.0, theme::HOVER);
+    }
+}
+
+fn level_tabs(ui: &mut Ui, project: &Project, state: &mut CanvasState, out: &mut Intents) {
+    ui.horizontal(|ui| {
+        ui.label("Level:");
+        let mut levels: Vec<_> = project.levels.iter().collect();
+        levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
+        for l in levels {
+            let count = project.nodes().filter(|n| n.level == l.id).count();
+            let text = format!("{} ({count})", l.name);
+            if ui.selectable_label(state.level == l.id, text).on_hover_text(format!("elevation {:+.2} m", l.elevation_m)).clicked() {
+                state.level = l.id;
+                state.draft = None;
+                state.fit_pending = true;
+            }
+        }
+        if ui.button("+ Level").on_hover_text("Add a level 3 m above the highest one").clicked() {
+            let top = project.levels.iter().map(|l| l.elevation_m).fold(0.0_f64, f64::max);
+            let n = project.levels.len();
+            out.edit(Edit::AddLevel { name: format!("Level {n}"), elevation_m: top + 3.0 });
+        }
+        ui.separator();
+        ui.label(egui::RichText::new(state.tool.tooltip()).small().weak());
+    });
+}

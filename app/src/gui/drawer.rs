@@ -1,0 +1,207 @@
+//! The drawer (bottom, collapsible): pipes and emitters tables, findings,
+//! the pump chart and the index-circuit pressure profile.
+
+use std::collections::BTreeMap;
+
+use egui::{Grid, RichText, ScrollArea, Ui};
+use egui_plot::{Legend, Line, Plot, Points};
+use flowrise_core::design::{ItemRef, LinkRole, Side, Solution};
+use flowrise_core::project::Project;
+
+use super::{Intents, inspector, theme};
+
+/// Drawer tabs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Tab {
+    /// Pipes table.
+    Pipes,
+    /// Emitters table.
+    #[default]
+    Emitters,
+    /// Findings list.
+    Findings,
+    /// Pump chart.
+    Pump,
+    /// Index-circuit pressure profile.
+    Profile,
+}
+
+impl Tab {
+    const ALL: [Self; 5] = [Self::Emitters, Self::Pipes, Self::Findings, Self::Pump, Self::Profile];
+    fn name(self) -> &'static str {
+        match self {
+            Self::Pipes => "Pipes",
+            Self::Emitters => "Emitters",
+            Self::Findings => "Findings",
+            Self::Pump => "Pump chart",
+            Self::Profile => "Index circuit profile",
+        }
+    }
+}
+
+/// Drawer state (transient).
+#[derive(Debug, Default)]
+pub struct DrawerState {
+    /// Tab shown.
+    pub tab: Tab,
+}
+
+/// Show the drawer.
+pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st: &mut DrawerState, out: &mut Intents) {
+    let panel = egui::Panel::bottom("drawer").resizable(*open).min_size(30.0);
+    let panel = if *open { panel.default_size(230.0) } else { panel.exact_size(30.0) };
+    panel.show(ui, |ui| {
+        ui.horizontal(|ui| {
+            let arrow = if *open { "Hide drawer" } else { "Show drawer" };
+            if ui.small_button(arrow).on_hover_text("Open or close the drawer").clicked() {
+                *open = !*open;
+            }
+            for t in Tab::ALL {
+                if ui.selectable_label(*open && st.tab == t, t.name()).clicked() {
+                    st.tab = t;
+                    *open = true;
+                }
+            }
+        });
+        if !*open {
+            return;
+        }
+        ui.separator();
+        match st.tab {
+            Tab::Pipes => pipes_table(ui, project, sol, out),
+            Tab::Emitters => emitters_table(ui, sol, out),
+            Tab::Findings => {
+                ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| inspector::findings_list(ui, sol, out));
+            }
+            Tab::Pump => pump_chart(ui, sol),
+            Tab::Profile => profile_chart(ui, sol),
+        }
+    });
+}
+
+fn header(ui: &mut Ui, cols: &[&str]) {
+    for c in cols {
+        ui.label(RichText::new(*c).strong());
+    }
+    ui.end_row();
+}
+
+fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents) {
+    ScrollArea::both().auto_shrink([false, false]).show(ui, |ui| {
+        Grid::new("pipes_table").striped(true).num_columns(10).show(ui, |ui| {
+            header(ui, &["Run", "Side", "Class", "Size", "Length m", "Flow l/h", "v m/s", "v limit", "R Pa/m", "Δp kPa"]);
+            for p in &sol.pipes {
+                if ui.selectable_label(false, p.run.to_string()).on_hover_text("Select and centre").clicked() {
+                    out.centre_on = Some(ItemRef::Run(p.run));
+                }
+                ui.label(if p.side == Side::Supply { "supply" } else { "return" });
+                ui.label(p.class.name());
+                ui.label(&p.size);
+                ui.label(format!("{:.1}", p.length_m));
+                ui.label(format!("{:.0}", p.flow_l_h));
+                let over = p.velocity_m_s > p.velocity_limit_m_s;
+                let v = RichText::new(format!("{:.2}", p.velocity_m_s));
+                ui.label(if over { v.color(theme::ERROR) } else { v });
+                ui.label(format!("{:.1}", p.velocity_limit_m_s));
+                let r = RichText::new(format!("{:.0}", p.gradient_pa_m));
+                ui.label(if p.gradient_pa_m > project.settings.gradient_limit_pa_m { r.color(theme::WARNING) } else { r });
+                ui.label(format!("{:.2}", p.dp_pa / 1000.0));
+                ui.end_row();
+            }
+        });
+    });
+}
+
+fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
+    ScrollArea::both().auto_shrink([false, false]).show(ui, |ui| {
+        Grid::new("emitters_table").striped(true).num_columns(10).show(ui, |ui| {
+            header(ui, &["Emitter", "Level", "Load W", "Output W", "Design l/h", "Flow l/h", "Return °C", "Presetting", "Authority", "Circuit kPa"]);
+            for e in &sol.emitters {
+                let mark = if sol.index_emitter == Some(e.id) { " (index)" } else { "" };
+                if ui.selectable_label(false, format!("{}{mark}", e.name)).on_hover_text("Select and centre").clicked() {
+                    out.centre_on = Some(ItemRef::Node(e.id));
+                }
+                ui.label(&e.level);
+                ui.label(format!("{:.0}", e.load_w));
+                let o = RichText::new(format!("{:.0}", e.output_w));
+                ui.label(if e.output_w + 1.0 < e.load_w && !e.closed { o.color(theme::ERROR) } else { o });
+                ui.label(format!("{:.1}", e.design_flow_l_h));
+                ui.label(format!("{:.1}", e.flow_l_h));
+                ui.label(format!("{:.1}", e.return_c));
+                ui.label(&e.presetting);
+                let a = RichText::new(format!("{:.2}", e.authority));
+                ui.label(if e.authority < 0.3 { a.color(theme::WARNING) } else { a });
+                ui.label(format!("{:.1}", e.circuit_dp_open_pa / 1000.0));
+                ui.end_row();
+            }
+        });
+    });
+}
+
+fn pump_chart(ui: &mut Ui, sol: &Solution) {
+    let Some(p) = &sol.pump else {
+        ui.label("No pump result yet — the network needs a source with a run to an emitter.");
+        return;
+    };
+    let Some(curve) = &p.curve else {
+        ui.label("No pump curve.");
+        return;
+    };
+    let q_max = curve.max_flow_m3_h().max(p.operating_flow_m3_h * 1.3);
+    let n = 60;
+    let pump: Vec<[f64; 2]> = (0..=n)
+        .filter_map(|i| {
+            let q = q_max * f64::from(i) / f64::from(n);
+            curve.head_kpa(q).ok().filter(|h| *h >= 0.0).map(|h| [q, h])
+        })
+        .collect();
+    let (q_op, h_op) = (p.operating_flow_m3_h, p.operating_head_pa / 1000.0);
+    let k = if q_op > 1e-9 { h_op / (q_op * q_op) } else { 0.0 };
+    let system: Vec<[f64; 2]> = (0..=n).map(|i| q_max * f64::from(i) / f64::from(n)).map(|q| [q, k * q * q]).take_while(|pt| pt[1] <= curve.shutoff_head_kpa() * 1.2).collect();
+    Plot::new("pump_chart")
+        .legend(Legend::default())
+        .x_axis_label("flow m³/h")
+        .y_axis_label("head kPa")
+        .include_y(0.0)
+        .include_x(0.0)
+        .allow_scroll(false)
+        .show(ui, |pu| {
+            pu.line(Line::new("pump curve (full speed)", pump).color(theme::ACCENT).width(2.0));
+            pu.line(Line::new("system curve Δp = k·Q²", system).color(theme::INK).width(1.5));
+            pu.points(Points::new("operating point", vec![[q_op, h_op]]).radius(6.0).color(theme::SELECT));
+            pu.points(Points::new("duty point (design + margin)", vec![[p.design_flow_m3_h, p.duty_head_pa / 1000.0]]).radius(6.0).shape(egui_plot::MarkerShape::Diamond).color(theme::WARNING));
+        });
+}
+
+fn profile_chart(ui: &mut Ui, sol: &Solution) {
+    if sol.index_path.is_empty() || sol.node_pressures_pa.is_empty() {
+        ui.label("No index circuit yet.");
+        return;
+    }
+    let lengths: BTreeMap<usize, f64> = sol.pipes.iter().map(|p| (p.link, p.length_m)).collect();
+    let mut pts = Vec::new();
+    let mut valves = Vec::new();
+    let mut x = 0.0;
+    for (i, &l) in sol.index_path.iter().enumerate() {
+        let Some(link) = sol.network.links.get(l) else { continue };
+        let p_from = sol.node_pressures_pa.get(link.from).copied().unwrap_or(0.0) / 1000.0;
+        let p_to = sol.node_pressures_pa.get(link.to).copied().unwrap_or(0.0) / 1000.0;
+        if i == 0 {
+            pts.push([x, p_from]);
+        }
+        x += lengths.get(&l).copied().unwrap_or(0.0);
+        pts.push([x, p_to]);
+        if matches!(sol.roles.get(l), Some(LinkRole::EmitterValves(_))) {
+            valves.push([x, p_to]);
+        }
+    }
+    Plot::new("index_profile")
+        .legend(Legend::default())
+        .x_axis_label("distance along the index circuit, m (supply out, return back)")
+        .y_axis_label("pressure kPa (gauge)")
+        .allow_scroll(false)
+        .show(ui, |pu| {
+            pu.line(Line::new("pressure", pts).color(theme::ACCENT).width(2.0));
+            pu.points(Points::new("index emitter valve", valves).radius(5.0).color(theme::SELECT));
+        });
+}

@@ -1,0 +1,120 @@
+//! Files and the native window: open/save dialogs, the unsaved-changes
+//! prompt and starting eframe.
+
+use std::path::PathBuf;
+
+use flowrise_core::project::Project;
+
+use super::{FlowriseApp, PREFS_KEY, Prefs, theme};
+
+/// The embedded default demo project.
+pub const DEFAULT_DEMO: &str = include_str!("../../../demo-projects/apartment-block-heat-pump.ron");
+
+/// The project the window opens with.
+#[derive(Debug)]
+pub struct StartProject {
+    /// The document.
+    pub project: Project,
+    /// Its file, if any.
+    pub path: Option<PathBuf>,
+}
+
+impl StartProject {
+    /// The embedded demo (not tied to a file: Save asks where).
+    ///
+    /// # Errors
+    /// The load error text if the embedded file does not load.
+    pub fn default_demo() -> Result<Self, String> {
+        Project::from_ron(DEFAULT_DEMO).map(|project| Self { project, path: None }).map_err(|e| e.to_string())
+    }
+}
+
+/// Why the window did not open.
+#[derive(Debug)]
+pub enum WindowError {
+    /// No X11 or Wayland display.
+    NoDisplay,
+    /// The windowing system or OpenGL refused.
+    Platform(String),
+}
+
+fn has_display() -> bool {
+    ["DISPLAY", "WAYLAND_DISPLAY"].iter().any(|v| std::env::var_os(v).is_some_and(|s| !s.is_empty()))
+}
+
+/// Open the window and run until it closes.
+///
+/// # Errors
+/// [`WindowError`] when there is no display or the window cannot open.
+pub fn run_window(start: StartProject) -> Result<(), WindowError> {
+    if !has_display() {
+        return Err(WindowError::NoDisplay);
+    }
+    let options = eframe::NativeOptions {
+        viewport: egui::ViewportBuilder::default().with_inner_size([1440.0, 900.0]).with_min_inner_size([900.0, 600.0]).with_title("flowrise"),
+        ..eframe::NativeOptions::default()
+    };
+    eframe::run_native(
+        "flowrise",
+        options,
+        Box::new(move |cc| {
+            theme::apply_style(&cc.egui_ctx);
+            let mut app = FlowriseApp::new(start.project, start.path);
+            if let Some(prefs) = cc.storage.and_then(|s| eframe::get_value::<Prefs>(s, PREFS_KEY)) {
+                app.prefs = prefs;
+            }
+            Ok(Box::new(app))
+        }),
+    )
+    .map_err(|e| WindowError::Platform(e.to_string()))
+}
+
+/// Ask for a project file to open.
+#[must_use]
+pub fn pick_open() -> Option<PathBuf> {
+    rfd::FileDialog::new().add_filter("flowrise project", &["ron"]).set_title("Open a flowrise project").pick_file()
+}
+
+/// Ask where to save.
+#[must_use]
+pub fn pick_save(name: &str) -> Option<PathBuf> {
+    let file: String = name.chars().map(|c| if c.is_alphanumeric() || c == '-' { c } else { '_' }).collect();
+    rfd::FileDialog::new()
+        .add_filter("flowrise project", &["ron"])
+        .set_title("Save the flowrise project")
+        .set_file_name(format!("{file}.ron"))
+        .save_file()
+        .map(|p| if p.extension().is_none() { p.with_extension("ron") } else { p })
+}
+
+/// Answer of the unsaved-changes prompt.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PromptChoice {
+    /// Save, then go on.
+    Save,
+    /// Go on without saving.
+    Discard,
+    /// Stay.
+    Cancel,
+}
+
+/// The unsaved-changes prompt; returns the choice once made.
+pub fn unsaved_prompt(ctx: &egui::Context, name: &str) -> Option<PromptChoice> {
+    let mut choice = None;
+    egui::Modal::new(egui::Id::unique("unsaved_prompt")).show(ctx, |ui| {
+        ui.heading("Unsaved changes");
+        ui.label(format!("“{name}” has changes that are not saved."));
+        ui.horizontal(|ui| {
+            if ui.button("Save").clicked() {
+                choice = Some(PromptChoice::Save);
+            }
+            if ui.button("Discard").clicked() {
+                choice = Some(PromptChoice::Discard);
+            }
+            if ui.button("Cancel").clicked() {
+                choice = Some(PromptChoice::Cancel);
+            }
+        });
+    });
+    choice
+}

@@ -1,0 +1,631 @@
+//! The flowrise window.
+//!
+//! [`FlowriseApp::ui`] draws everything from `&mut self` and an
+//! [`egui::Ui`]; the `eframe::App` impl and the kittest tests both call it.
+//!
+//! Three kinds of state are kept apart:
+//! - **the document** — the [`Project`] (saved to its file), its path, the
+//!   last saved copy (for the unsaved mark) and the undo [`history`];
+//! - **UI preferences** — [`Prefs`], kept in eframe's storage between
+//!   sessions (recent files, labels, colour-by, open panels);
+//! - **transient state** — canvas view, tool in progress, hover, selection,
+//!   inspector text buffers, status line, open windows; never saved.
+//!
+//! Each frame: solve if the project changed (see [`solve`]), draw the
+//! panels (they receive what they need and push [`Intents`]: edits, actions,
+//! selection), then apply the edits with `Project::apply` in one place.
+
+pub mod actions;
+pub mod canvas;
+mod drawer;
+mod fields;
+mod files;
+mod history;
+mod inspector;
+mod settings_panel;
+mod solve;
+pub mod theme;
+mod tool_column;
+mod top_bar;
+
+use std::path::PathBuf;
+use std::sync::Arc;
+
+use egui::{Color32, RichText, Ui};
+use flowrise_core::design::{ItemRef, Solution};
+use flowrise_core::project::{Edit, NodeId, PlanPoint, Project, RunId};
+use serde::{Deserialize, Serialize};
+
+pub use actions::Action;
+pub use canvas::{CanvasState, Tool};
+pub use files::{StartProject, WindowError, run_window};
+pub use theme::ColourBy;
+
+/// The caution shown in the status line and the About window (DESIGN.md §5).
+pub const CAUTION: &str = "Design aid only — pressures, temperatures, materials and safety devices must follow local codes and licensed practice (EN 12828 or the local equivalent). Hot surfaces can burn.";
+
+/// What is selected.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Selection {
+    /// Nothing: the inspector shows the design settings.
+    #[default]
+    None,
+    /// A node.
+    Node(NodeId),
+    /// A run.
+    Run(RunId),
+}
+
+/// Select what an edit creates.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SelectNew {
+    /// Keep the selection.
+    Nothing,
+    /// Select the last node created.
+    Node,
+    /// Select the first run created.
+    Run,
+}
+
+/// An edit waiting to be applied after the frame is drawn.
+#[derive(Debug, Clone)]
+pub struct QueuedEdit {
+    /// The edit.
+    pub edit: Edit,
+    /// Inspector field that asked for it (a refusal is shown beside it).
+    pub field: Option<String>,
+    /// Part of a drag: no undo step of its own.
+    pub during_drag: bool,
+    /// What to select afterwards.
+    pub select_new: SelectNew,
+}
+
+/// A status-line message.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Status {
+    /// Text.
+    pub text: String,
+    /// Shown in red.
+    pub error: bool,
+}
+
+/// What the panels ask for during one frame; applied after drawing.
+#[derive(Debug, Default)]
+pub struct Intents {
+    /// Edits in order.
+    pub edits: Vec<QueuedEdit>,
+    /// Actions in order.
+    pub actions: Vec<Action>,
+    /// New selection.
+    pub select: Option<Selection>,
+    /// Centre the canvas on this item.
+    pub centre_on: Option<ItemRef>,
+    /// A node drag started: take one undo snapshot now.
+    pub drag_begin: bool,
+    /// The node drag ended.
+    pub drag_end: bool,
+    /// Status message.
+    pub status: Option<Status>,
+}
+
+impl Intents {
+    fn push(&mut self, edit: Edit, select_new: SelectNew) {
+        self.edits.push(QueuedEdit { edit, field: None, during_drag: false, select_new });
+    }
+    /// Queue an edit.
+    pub fn edit(&mut self, edit: Edit) {
+        self.push(edit, SelectNew::Nothing);
+    }
+    /// Queue an edit and select the node it creates.
+    pub fn edit_select(&mut self, edit: Edit) {
+        self.push(edit, SelectNew::Node);
+    }
+    /// Queue an edit and select the run it creates.
+    pub fn edit_select_run(&mut self, edit: Edit) {
+        self.push(edit, SelectNew::Run);
+    }
+    /// Queue an edit from an inspector field.
+    pub fn edit_field(&mut self, edit: Edit, field: &str) {
+        self.edits.push(QueuedEdit { edit, field: Some(field.to_owned()), during_drag: false, select_new: SelectNew::Nothing });
+    }
+    /// Queue one step of a drag (no undo step of its own).
+    pub fn edit_during_drag(&mut self, edit: Edit) {
+        self.edits.push(QueuedEdit { edit, field: None, during_drag: true, select_new: SelectNew::Nothing });
+    }
+    /// Show an error in the status line.
+    pub fn status_error(&mut self, text: impl Into<String>) {
+        self.status = Some(Status { text: text.into(), error: true });
+    }
+    /// Show a note in the status line.
+    pub fn status_note(&mut self, text: impl Into<String>) {
+        self.status = Some(Status { text: text.into(), error: false });
+    }
+}
+
+/// UI preferences, kept in eframe storage between sessions.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct Prefs {
+    /// Recently opened or saved files, newest first.
+    pub recent: Vec<PathBuf>,
+    /// Labels on the canvas.
+    pub show_labels: bool,
+    /// Metric of the run colours.
+    pub colour_by: ColourBy,
+    /// Riser strip open.
+    pub show_elevation: bool,
+    /// Bottom drawer open.
+    pub drawer_open: bool,
+}
+
+impl Default for Prefs {
+    fn default() -> Self {
+        Self { recent: Vec::new(), show_labels: true, colour_by: ColourBy::default(), show_elevation: false, drawer_open: true }
+    }
+}
+
+/// Storage key of [`Prefs`].
+pub const PREFS_KEY: &str = "flowrise-prefs";
+
+/// Why the unsaved-changes prompt is open.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Pending {
+    Close,
+    New,
+    Open,
+}
+
+/// The flowrise application.
+#[derive(Debug)]
+pub struct FlowriseApp {
+    // ---- the document
+    project: Project,
+    path: Option<PathBuf>,
+    saved: Project,
+    history: history::History,
+    // ---- results
+    solver: solve::SolveRunner,
+    // ---- UI preferences (eframe storage)
+    /// Preferences.
+    pub prefs: Prefs,
+    // ---- transient state
+    canvas: CanvasState,
+    selection: Selection,
+    inspector: fields::FieldState,
+    drawer: drawer::DrawerState,
+    status: Option<Status>,
+    show_about: bool,
+    show_settings: bool,
+    pending: Option<Pending>,
+    allow_close: bool,
+}
+
+impl FlowriseApp {
+    /// An app showing `project` (loaded from `path`, if any).
+    #[must_use]
+    pub fn new(project: Project, path: Option<PathBuf>) -> Self {
+        let canvas = CanvasState::for_project(&project);
+        Self {
+            saved: project.clone(),
+            project,
+            path,
+            history: history::History::default(),
+            solver: solve::SolveRunner::default(),
+            prefs: Prefs::default(),
+            canvas,
+            selection: Selection::None,
+            inspector: fields::FieldState::default(),
+            drawer: drawer::DrawerState::default(),
+            status: None,
+            show_about: false,
+            show_settings: false,
+            pending: None,
+            allow_close: false,
+        }
+    }
+
+    /// The document.
+    #[must_use]
+    pub fn project(&self) -> &Project {
+        &self.project
+    }
+
+    /// The latest results (may be one revision behind while a worker runs).
+    #[must_use]
+    pub fn solution(&self) -> &Solution {
+        self.solver.latest()
+    }
+
+    /// The current selection.
+    #[must_use]
+    pub fn selection(&self) -> Selection {
+        self.selection
+    }
+
+    /// Select an item (tests, findings).
+    pub fn select(&mut self, selection: Selection) {
+        self.selection = selection;
+    }
+
+    /// The canvas state (view, level, tool).
+    #[must_use]
+    pub fn canvas(&self) -> &CanvasState {
+        &self.canvas
+    }
+
+    /// The canvas state, mutable (tests pick the level this way).
+    pub fn canvas_mut(&mut self) -> &mut CanvasState {
+        &mut self.canvas
+    }
+
+    /// Screen position of a plan point on the canvas as drawn in the last frame.
+    #[must_use]
+    pub fn screen_from_plan(&self, p: PlanPoint) -> egui::Pos2 {
+        self.canvas.view.screen_from_plan(p)
+    }
+
+    /// Solve on the UI thread only (deterministic tests and benchmarks).
+    pub fn set_background_solve(&mut self, on: bool) {
+        self.solver.background = on;
+    }
+
+    /// True when the document differs from the saved file.
+    #[must_use]
+    pub fn is_dirty(&self) -> bool {
+        self.project != self.saved
+    }
+
+    /// Replace the document (New/Open): fresh history, view and results.
+    pub fn replace_project(&mut self, project: Project, path: Option<PathBuf>) {
+        self.canvas = CanvasState::for_project(&project);
+        self.saved = project.clone();
+        self.project = project;
+        self.path = path;
+        self.history.clear();
+        self.solver.reset();
+        self.selection = Selection::None;
+        self.inspector = fields::FieldState::default();
+    }
+
+    /// Draw the whole window and apply what the user asked for.
+    pub fn ui(&mut self, ui: &mut Ui) {
+        let ctx = ui.ctx().clone();
+        let mut out = Intents::default();
+        self.handle_keys(&ctx, &mut out);
+        self.handle_close_request(&ctx);
+        let busy = self.solver.ensure(&self.project);
+        let sol = Arc::clone(self.solver.latest());
+        let stale = sol.revision != self.project.revision;
+
+        let recent = self.prefs.recent.clone();
+        egui::Panel::top("top_strip").show(ui, |ui| {
+            let model = top_bar::TopBar {
+                name: &self.project.name,
+                dirty: self.is_dirty(),
+                mode: self.project.settings.mode,
+                can_undo: self.history.can_undo(),
+                can_redo: self.history.can_redo(),
+                stale,
+                solve_ms: self.solver.last_ms(),
+                recent: &recent,
+            };
+            top_bar::show(ui, &model, &self.project, &sol, &mut self.prefs, &mut out);
+        });
+        egui::Panel::bottom("status_line").show(ui, |ui| status_line(ui, self.status.as_ref()));
+        egui::Panel::left("tool_column").resizable(false).exact_size(112.0).show(ui, |ui| {
+            tool_column::show(ui, &mut self.canvas.tool, &mut self.canvas.header_outlets, &mut out);
+        });
+        egui::Panel::right("inspector").resizable(true).default_size(330.0).show(ui, |ui| {
+            inspector::show(ui, &self.project, &sol, self.selection, &mut self.inspector, &mut out);
+        });
+        drawer::show(ui, &self.project, &sol, &mut self.prefs.drawer_open, &mut self.drawer, &mut out);
+        egui::CentralPanel::no_frame().show(ui, |ui| {
+            let opts = canvas::CanvasOptions {
+                colour_by: self.prefs.colour_by,
+                show_labels: self.prefs.show_labels,
+                show_elevation: self.prefs.show_elevation,
+            };
+            canvas::show(ui, &self.project, &sol, opts, &mut self.canvas, self.selection, &mut out);
+        });
+        self.windows(&ctx, &mut out);
+        self.apply(out, &ctx);
+        if busy {
+            ctx.request_repaint_after(std::time::Duration::from_millis(30));
+        }
+    }
+
+    fn windows(&mut self, ctx: &egui::Context, out: &mut Intents) {
+        if self.show_about {
+            egui::Window::new("About flowrise").open(&mut self.show_about).collapsible(false).show(ctx, |ui| {
+                ui.heading("flowrise");
+                ui.label(format!("version {}", env!("CARGO_PKG_VERSION")));
+                ui.label("Draws two-pipe hydronic heating networks and re-solves the whole design on every edit: emitters, pipe sizes, index circuit, pump duty and valve presettings.");
+                ui.add_space(6.0);
+                ui.label(RichText::new(CAUTION).color(theme::WARNING));
+                ui.label("Values marked “common practice” are rules of thumb, not code requirements.");
+            });
+        }
+        if self.show_settings {
+            let mut open = true;
+            egui::Window::new("Design settings").open(&mut open).default_width(380.0).show(ctx, |ui| {
+                settings_panel::show(ui, &self.project, &sol_ref(&self.solver), &mut self.inspector, out);
+            });
+            self.show_settings = open;
+        }
+        if let Some(pending) = self.pending {
+            let choice = files::unsaved_prompt(ctx, &self.project.name);
+            match choice {
+                Some(files::PromptChoice::Save) => {
+                    if self.save(false) {
+                        self.pending = None;
+                        self.after_prompt(pending, ctx);
+                    }
+                }
+                Some(files::PromptChoice::Discard) => {
+                    self.pending = None;
+                    self.saved = self.project.clone();
+                    self.after_prompt(pending, ctx);
+                }
+                Some(files::PromptChoice::Cancel) => self.pending = None,
+                None => {}
+            }
+        }
+    }
+
+    fn after_prompt(&mut self, pending: Pending, ctx: &egui::Context) {
+        match pending {
+            Pending::Close => {
+                self.allow_close = true;
+                ctx.send_viewport_cmd(egui::ViewportCommand::Close);
+            }
+            Pending::New => self.replace_project(Project::new("Untitled project"), None),
+            Pending::Open => self.open_dialog(),
+        }
+    }
+
+    fn handle_close_request(&mut self, ctx: &egui::Context) {
+        if ctx.input(|i| i.viewport().close_requested()) && !self.allow_close && self.is_dirty() {
+            ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
+            self.pending = Some(Pending::Close);
+        }
+    }
+
+    fn handle_keys(&mut self, ctx: &egui::Context, out: &mut Intents) {
+        let typing = ctx.egui_wants_keyboard_input();
+        for a in Action::WITH_KEYS {
+            if typing && a.is_plain_key() {
+                continue;
+            }
+            if let Some(sc) = a.shortcut()
+                && ctx.input_mut(|i| i.consume_shortcut(&sc))
+            {
+                out.actions.push(a);
+            }
+        }
+        if !typing {
+            if ctx.input(|i| i.key_pressed(egui::Key::Escape)) {
+                self.canvas.cancel();
+            }
+            if ctx.input(|i| i.key_pressed(egui::Key::Delete)) {
+                match self.selection {
+                    Selection::Node(id) => out.edit(Edit::RemoveNode(id)),
+                    Selection::Run(id) => out.edit(Edit::RemoveRun(id)),
+                    Selection::None => {}
+                }
+                out.select = Some(Selection::None);
+            }
+        }
+    }
+
+    /// Apply the frame's intents: edits (one undo step each, one per drag),
+    /// selection, centring, actions.
+    fn apply(&mut self, out: Intents, ctx: &egui::Context) {
+        if out.drag_begin {
+            self.history.push(self.project.clone());
+        }
+        if let Some(s) = out.select {
+            self.selection = s;
+        }
+        let mut changed = false;
+        for q in out.edits {
+            let before = (!q.during_drag).then(|| self.project.clone());
+            match self.project.apply(q.edit) {
+                Ok(outcome) => {
+                    changed = true;
+                    if let Some(b) = before {
+                        self.history.push(b);
+                    }
+                    if let Some(f) = &q.field {
+                        self.inspector.clear_error(f);
+                    }
+                    match q.select_new {
+                        SelectNew::Node => {
+                            if let Some(&n) = outcome.nodes.last() {
+                                self.selection = Selection::Node(n);
+                            }
+                        }
+                        SelectNew::Run => {
+                            if let Some(&r) = outcome.runs.first() {
+                                self.selection = Selection::Run(r);
+                            }
+                        }
+                        SelectNew::Nothing => {}
+                    }
+                }
+                Err(e) => match &q.field {
+                    Some(f) => self.inspector.set_error(f, e.to_string()),
+                    None => self.status = Some(Status { text: e.to_string(), error: true }),
+                },
+            }
+        }
+        if out.drag_end {
+            self.history.drop_if_unchanged(&self.project);
+        }
+        if let Some(s) = out.status {
+            self.status = Some(s);
+        }
+        if let Some(item) = out.centre_on {
+            self.centre_on(item);
+        }
+        for a in out.actions {
+            self.run_action(a, ctx);
+        }
+        // Drop a selection whose item is gone.
+        match self.selection {
+            Selection::Node(id) if self.project.node(id).is_none() => self.selection = Selection::None,
+            Selection::Run(id) if self.project.run(id).is_none() => self.selection = Selection::None,
+            _ => {}
+        }
+        if changed {
+            ctx.request_repaint();
+        }
+    }
+
+    /// Select an item and centre the canvas on it.
+    pub fn centre_on(&mut self, item: ItemRef) {
+        match item {
+            ItemRef::Node(id) => {
+                if let Some(n) = self.project.node(id) {
+                    self.canvas.centre_on(n.level, n.pos);
+                    self.selection = Selection::Node(id);
+                }
+            }
+            ItemRef::Run(id) => {
+                if let Some(r) = self.project.run(id)
+                    && let (Some(a), Some(b)) = (self.project.node(r.a), self.project.node(r.b))
+                {
+                    let mid = PlanPoint::new(0.5 * (a.pos.x_m + b.pos.x_m), 0.5 * (a.pos.y_m + b.pos.y_m));
+                    self.canvas.centre_on(a.level, mid);
+                    self.selection = Selection::Run(id);
+                }
+            }
+            ItemRef::Settings | ItemRef::Project => {
+                self.selection = Selection::None;
+                self.show_settings = true;
+            }
+        }
+    }
+
+    /// Carry out an action.
+    pub fn run_action(&mut self, a: Action, ctx: &egui::Context) {
+        match a {
+            Action::New | Action::Open if self.is_dirty() => {
+                self.pending = Some(if a == Action::New { Pending::New } else { Pending::Open });
+            }
+            Action::New => self.replace_project(Project::new("Untitled project"), None),
+            Action::Open => self.open_dialog(),
+            Action::Save => {
+                self.save(false);
+            }
+            Action::SaveAs => {
+                self.save(true);
+            }
+            Action::Undo => self.undo(),
+            Action::Redo => self.redo(),
+            Action::Tool(t) => {
+                self.canvas.tool = t;
+                self.canvas.cancel();
+            }
+            Action::ToggleLabels => self.prefs.show_labels = !self.prefs.show_labels,
+            Action::FitView => self.canvas.fit_pending = true,
+            Action::ToggleElevation => self.prefs.show_elevation = !self.prefs.show_elevation,
+            Action::Settings => self.show_settings = true,
+            Action::About => self.show_about = true,
+        }
+        ctx.request_repaint();
+    }
+
+    fn restore(&mut self, mut p: Project) {
+        // A restored snapshot gets a new revision so results are never mistaken
+        // for the ones of the state it replaced.
+        p.revision = self.project.revision + 1;
+        self.project = p;
+        self.inspector = fields::FieldState::default();
+    }
+
+    /// Undo one step.
+    pub fn undo(&mut self) {
+        if let Some(p) = self.history.undo(&self.project) {
+            self.restore(p);
+        }
+    }
+
+    /// Redo one step.
+    pub fn redo(&mut self) {
+        if let Some(p) = self.history.redo(&self.project) {
+            self.restore(p);
+        }
+    }
+
+    fn open_dialog(&mut self) {
+        if let Some(path) = files::pick_open() {
+            self.open_path(path);
+        }
+    }
+
+    /// Open a project file (errors go to the status line).
+    pub fn open_path(&mut self, path: PathBuf) {
+        match Project::load(&path) {
+            Ok(p) => {
+                self.remember(&path);
+                self.replace_project(p, Some(path));
+            }
+            Err(e) => self.status = Some(Status { text: format!("cannot open {}: {e}", path.display()), error: true }),
+        }
+    }
+
+    /// Save; `as_new` asks for a file. Returns true when saved.
+    fn save(&mut self, as_new: bool) -> bool {
+        let path = match (&self.path, as_new) {
+            (Some(p), false) => p.clone(),
+            _ => match files::pick_save(&self.project.name) {
+                Some(p) => p,
+                None => return false,
+            },
+        };
+        match self.project.save(&path) {
+            Ok(()) => {
+                self.saved = self.project.clone();
+                self.remember(&path);
+                self.status = Some(Status { text: format!("saved {}", path.display()), error: false });
+                self.path = Some(path);
+                true
+            }
+            Err(e) => {
+                self.status = Some(Status { text: format!("cannot save {}: {e}", path.display()), error: true });
+                false
+            }
+        }
+    }
+
+    fn remember(&mut self, path: &std::path::Path) {
+        self.prefs.recent.retain(|p| p != path);
+        self.prefs.recent.insert(0, path.to_path_buf());
+        self.prefs.recent.truncate(8);
+    }
+}
+
+fn sol_ref(solver: &solve::SolveRunner) -> Arc<Solution> {
+    Arc::clone(solver.latest())
+}
+
+fn status_line(ui: &mut Ui, status: Option<&Status>) {
+    ui.horizontal(|ui| {
+        if let Some(s) = status {
+            let c = if s.error { theme::ERROR } else { theme::INK };
+            ui.label(RichText::new(&s.text).color(c));
+            ui.separator();
+        }
+        ui.label(RichText::new(format!("Caution: {CAUTION}")).small().color(Color32::from_rgb(0x7a, 0x5a, 0x10)));
+    });
+}
+
+impl eframe::App for FlowriseApp {
+    fn ui(&mut self, ui: &mut Ui, _frame: &mut eframe::Frame) {
+        FlowriseApp::ui(self, ui);
+    }
+
+    fn save(&mut self, storage: &mut dyn eframe::Storage) {
+        eframe::set_value(storage, PREFS_KEY, &self.prefs);
+    }
+}

@@ -1,0 +1,102 @@
+//! Design settings: temperatures, velocity limits per class, gradient
+//! limit, pipe series per class, pump head margin, return layout, mode.
+//! Every change is one `Edit::SetSettings`; a refused one shows its reason
+//! beside the field.
+
+use egui::{Grid, RichText, Ui};
+use flowrise_core::design::{Solution, freeze_edit};
+use flowrise_core::pipes;
+use flowrise_core::project::{DesignSettings, Edit, Mode, PipeClass, Project, ReturnLayout};
+
+use super::Intents;
+use super::fields::FieldState;
+
+fn set(out: &mut Intents, s: DesignSettings, field: &str) {
+    out.edit_field(Edit::SetSettings(Box::new(s)), field);
+}
+
+/// The edit that switches between the two modes.
+#[must_use]
+pub fn mode_edit(project: &Project, sol: &Solution, mode: Mode) -> Edit {
+    match mode {
+        Mode::Installed => freeze_edit(project, sol),
+        Mode::DesignFollowsLayout => Edit::SetSettings(Box::new(DesignSettings { mode, ..project.settings.clone() })),
+    }
+}
+
+/// Show the settings form.
+pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState, out: &mut Intents) {
+    let s = &project.settings;
+    Grid::new("settings_fields").num_columns(3).spacing([8.0, 4.0]).show(ui, |ui| {
+        if let Some(v) = fs.number(ui, "set.supply", "Supply", "°C", s.supply_c, (20.0, 95.0), 1) {
+            set(out, DesignSettings { supply_c: v, ..s.clone() }, "set.supply");
+        }
+        if let Some(v) = fs.number(ui, "set.return", "Return", "°C", s.return_c, (10.0, 90.0), 1) {
+            set(out, DesignSettings { return_c: v, ..s.clone() }, "set.return");
+        }
+        if let Some(v) = fs.number(ui, "set.room", "Default room", "°C", s.room_c, (5.0, 30.0), 1) {
+            set(out, DesignSettings { room_c: v, ..s.clone() }, "set.room");
+        }
+        for class in PipeClass::ALL {
+            let key = format!("set.v.{class:?}");
+            let v0 = *s.velocity_limit_m_s.get(class);
+            if let Some(v) = fs.number(ui, &key, &format!("Velocity limit, {}", class.name()), "m/s", v0, (0.1, 3.0), 2) {
+                let mut s2 = s.clone();
+                *s2.velocity_limit_m_s.get_mut(class) = v;
+                set(out, s2, &key);
+            }
+        }
+        if let Some(v) = fs.number(ui, "set.grad", "Gradient limit", "Pa/m", s.gradient_limit_pa_m, (20.0, 1000.0), 0) {
+            set(out, DesignSettings { gradient_limit_pa_m: v, ..s.clone() }, "set.grad");
+        }
+        if let Some(v) = fs.number(ui, "set.margin", "Pump head margin", "%", s.head_margin_fraction * 100.0, (0.0, 100.0), 0) {
+            set(out, DesignSettings { head_margin_fraction: v / 100.0, ..s.clone() }, "set.margin");
+        }
+        if let Some(v) = fs.number(ui, "set.minvalve", "Min. valve Δp", "kPa", s.min_valve_dp_pa / 1000.0, (0.0, 50.0), 1) {
+            set(out, DesignSettings { min_valve_dp_pa: v * 1000.0, ..s.clone() }, "set.minvalve");
+        }
+        let all_series = pipes::builtin_series().unwrap_or_default();
+        for class in PipeClass::ALL {
+            let label_id = ui.label(format!("Series, {}", class.name())).id;
+            let mut id = s.series.get(class).clone();
+            let name_of = |id: &str| all_series.iter().find(|x| x.id == id).map_or_else(|| id.to_owned(), |x| x.name.clone());
+            egui::ComboBox::from_id_salt(format!("set.series.{class:?}")).selected_text(name_of(&id)).width(170.0).show_ui(ui, |ui| {
+                for x in all_series {
+                    ui.selectable_value(&mut id, x.id.clone(), &x.name).on_hover_text(&x.standard);
+                }
+            })
+            .response
+            .labelled_by(label_id);
+            ui.end_row();
+            if &id != s.series.get(class) {
+                let mut s2 = s.clone();
+                *s2.series.get_mut(class) = id;
+                set(out, s2, "set.series");
+            }
+        }
+        ui.label("Return layout");
+        let mut layout = s.return_layout;
+        ui.horizontal(|ui| {
+            ui.radio_value(&mut layout, ReturnLayout::Direct, "direct");
+            ui.radio_value(&mut layout, ReturnLayout::Reverse, "reverse");
+        });
+        ui.end_row();
+        if layout != s.return_layout {
+            set(out, DesignSettings { return_layout: layout, ..s.clone() }, "set.layout");
+        }
+        ui.label("Mode");
+        let mut mode = s.mode;
+        ui.horizontal(|ui| {
+            ui.radio_value(&mut mode, Mode::DesignFollowsLayout, "design follows layout");
+            ui.radio_value(&mut mode, Mode::Installed, "installed");
+        });
+        ui.end_row();
+        if mode != s.mode {
+            out.edit_field(mode_edit(project, sol, mode), "set.mode");
+        }
+    });
+    if let Some(e) = fs.error("set.series").or(fs.error("set.mode")).or(fs.error("set.layout")) {
+        ui.label(RichText::new(e).color(super::theme::ERROR));
+    }
+    ui.label(RichText::new("Limits are common practice, not code requirements; change them to suit the job.").small().weak());
+}

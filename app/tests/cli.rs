@@ -1,0 +1,85 @@
+//! The `flowrise` command line on the real binary: exit codes, the JSON
+//! schema of `solve --json` on every demo project.
+
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // reason: test code
+
+use std::path::PathBuf;
+
+fn repo_root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).parent().unwrap().to_path_buf()
+}
+
+fn demo_paths() -> Vec<PathBuf> {
+    let mut v: Vec<PathBuf> = std::fs::read_dir(repo_root().join("demo-projects"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "ron"))
+        .collect();
+    v.sort();
+    v
+}
+
+/// The real binary, built by cargo for this test.
+fn flowrise() -> std::process::Command {
+    let mut c = std::process::Command::new(env!("CARGO_BIN_EXE_flowrise"));
+    c.current_dir(repo_root());
+    c
+}
+
+#[test]
+fn cli_solve_json_matches_the_documented_schema_on_every_demo() {
+    let schema_doc = std::fs::read_to_string(repo_root().join("docs/solve-json.md")).unwrap();
+    for path in demo_paths() {
+        let out = flowrise().args(["solve", "--json"]).arg(&path).output().unwrap();
+        assert!(out.status.success(), "{}: {}", path.display(), String::from_utf8_lossy(&out.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        let check = |obj: &serde_json::Value, section: &str, keys: &[&str]| {
+            for k in keys {
+                assert!(obj.get(k).is_some(), "{}: {section}.{k} missing", path.display());
+                assert!(schema_doc.contains(&format!("`{k}`")), "docs/solve-json.md does not document {section}.{k}");
+            }
+        };
+        check(
+            &v["totals"],
+            "totals",
+            &["heat_load_w", "flow_l_h", "pump_head_kpa", "index_emitter", "water_volume_l", "expansion_vessel_l", "iterations", "solve_ms", "derive_ms", "design_ms", "operate_ms", "operate_iterations"],
+        );
+        let e = &v["emitters"][0];
+        check(
+            e,
+            "emitters[]",
+            &["id", "name", "level", "load_w", "room_c", "flow_l_h", "supply_c", "return_c", "circuit_dp_kpa", "valve_dp_kpa", "presetting", "authority", "output_w"],
+        );
+        let p = &v["pipes"][0];
+        check(
+            p,
+            "pipes[]",
+            &["run", "side", "length_m", "series", "size", "inner_mm", "flow_l_h", "velocity_m_s", "velocity_limit_m_s", "gradient_pa_m", "dp_kpa"],
+        );
+        assert!(v["warnings"].is_array());
+        assert!(v["totals"]["pump_head_kpa"].as_f64().unwrap() > 0.0);
+        assert!(v["totals"]["index_emitter"].as_str().unwrap().starts_with('N'));
+        let n_emitters = v["emitters"].as_array().unwrap().len();
+        let p = flowrise_core::project::Project::load(&path).unwrap();
+        assert_eq!(n_emitters, p.emitters().len());
+    }
+}
+
+#[test]
+fn cli_exit_codes() {
+    let demo = &demo_paths()[0];
+    let out = flowrise().args(["solve"]).arg(demo).output().unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    assert!(String::from_utf8_lossy(&out.stdout).contains("local codes"));
+    let dir = std::env::temp_dir().join(format!("flowrise-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let bad = dir.join("bad.ron");
+    std::fs::write(&bad, "(format: \"flowrise-project\", format_version: 1, name: \"x\"").unwrap();
+    let out = flowrise().args(["solve"]).arg(&bad).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("bad.ron"));
+    let out = flowrise().args(["solve", "--close", "N99999"]).arg(demo).output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    std::fs::remove_dir_all(&dir).ok();
+}
+

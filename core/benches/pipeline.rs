@@ -1,0 +1,70 @@
+//! Criterion benchmarks of the engine on generated buildings of 100, 1,000,
+//! 10,000 and 50,000 emitters (see DEVELOPERS.md, "Benchmarks", and
+//! docs/benchmarks.md for the recorded figures).
+//!
+//! Per size: the full pipeline from a cold start (derive + design + operate
+//! with a new workspace), the warm edit → results cycle of a drag (move one
+//! emitter by ±5 cm, solve with the same workspace: symbolic factor reused,
+//! warm start), load (parse + validate the RON text) and save (write the RON
+//! text), and the parts list of a solved project. Sample counts are small so
+//! a full run fits in about ten minutes on two cores.
+//!
+//! Run: `cargo bench -p flowrise-core --bench pipeline` (filter with e.g.
+//! `-- emitters_1000`).
+
+#![allow(clippy::expect_used, clippy::unwrap_used)] // reason: benchmark harness, not product code
+
+use std::hint::black_box;
+use std::time::Duration;
+
+use criterion::{BenchmarkId, Criterion, criterion_group, criterion_main};
+use flowrise_core::design::{SolveOptions, Workspace, solve_project};
+use flowrise_core::generate::{BuildingSpec, generate_building};
+use flowrise_core::parts::{PartsOptions, parts_list};
+use flowrise_core::project::{Edit, NodeKind, Project};
+
+/// (floors, emitters per floor) for 100, 1,000, 10,000 and 50,000 emitters.
+const SIZES: [(u32, u32); 4] = [(5, 20), (10, 100), (20, 500), (50, 1000)];
+
+fn pipeline(c: &mut Criterion) {
+    for (floors, per_floor) in SIZES {
+        let n = floors * per_floor;
+        let project = generate_building(&BuildingSpec::new(floors, per_floor)).expect("generated building");
+        let opts = SolveOptions::default();
+        let mut g = c.benchmark_group(format!("emitters_{n}"));
+        let (samples, secs) = if n >= 10_000 { (10, 8) } else { (20, 3) };
+        g.sample_size(samples).measurement_time(Duration::from_secs(secs)).warm_up_time(Duration::from_secs(1));
+
+        g.bench_function(BenchmarkId::new("solve_cold", n), |b| {
+            b.iter(|| black_box(solve_project(&project, &opts, &mut Workspace::default())));
+        });
+
+        let mover = project.nodes().find(|x| matches!(x.kind, NodeKind::Emitter(_))).map(|x| x.id).expect("an emitter");
+        let mut drag = project.clone();
+        let mut ws = Workspace::default();
+        let _ = solve_project(&drag, &opts, &mut ws);
+        let mut step = 0u64;
+        g.bench_function(BenchmarkId::new("drag_edit_to_results", n), |b| {
+            b.iter(|| {
+                step += 1;
+                let dx = if step % 2 == 0 { 0.05 } else { -0.05 };
+                drag.apply(Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 }).expect("move");
+                black_box(solve_project(&drag, &opts, &mut ws))
+            });
+        });
+
+        let text = project.to_ron().expect("ron");
+        g.bench_function(BenchmarkId::new("load", n), |b| b.iter(|| black_box(Project::from_ron(&text).expect("load"))));
+        g.bench_function(BenchmarkId::new("save_to_text", n), |b| b.iter(|| black_box(project.to_ron().expect("save"))));
+
+        let sol = solve_project(&project, &opts, &mut Workspace::default());
+        let popts = PartsOptions::default();
+        g.bench_function(BenchmarkId::new("parts_list", n), |b| {
+            b.iter(|| black_box(parts_list(&project, &sol, &popts).expect("parts")));
+        });
+        g.finish();
+    }
+}
+
+criterion_group!(benches, pipeline);
+criterion_main!(benches);

@@ -1,0 +1,603 @@
+//! The design report: one self-contained HTML file (inline CSS and SVG, no
+//! scripts) that opens in any browser and prints cleanly to PDF.
+//!
+//! Contents, in order: project and design conditions with the key results;
+//! a plan of every level and the riser elevation, runs coloured by velocity
+//! margin v / v_limit on the cividis scale (over-limit runs thicker and
+//! dashed); emitters and circuits; pipes; findings; the pump chart; water
+//! volume and expansion vessel with the vessel's assumptions; the parts
+//! list; assumptions, methods and sources; the cautions.
+//!
+//! Structure a test (or a script) can find: `<svg class="level-plan"
+//! data-level="L1">`, `<svg class="riser-elevation">`, `<svg
+//! class="pump-chart">`, `<tr data-emitter="N7">`, `<tr data-run="R3"
+//! data-side="supply">`, `<tr data-part="…">`, `<section id="…">`. All user
+//! text (names) is escaped with [`esc`]. The output is deterministic: the
+//! same project gives the same bytes (no dates, no timings).
+
+/// Append formatted text to a `String` (writing to a String cannot fail).
+macro_rules! w {
+    ($s:expr, $($arg:tt)*) => {{
+        $s.push_str(&format!($($arg)*));
+    }};
+}
+
+pub mod svg;
+
+use crate::design::topology;
+use crate::design::{Severity, Side, Solution};
+use crate::emitters::{EmitterDetail, EmitterModel};
+use crate::parts::{PartsList, vessel_nominal_size_l};
+use crate::pipes;
+use crate::project::{Mode, NodeKind, Project, ReturnLayout};
+use crate::pump::PumpControl;
+
+/// Escape text for HTML element content and attribute values.
+#[must_use]
+pub fn esc(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&#39;"),
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+const CSS: &str = r#"
+:root { --ink: #1a1a1a; --muted: #5a5a5a; --rule: #c9c9c9; --band: #f3f3f0; --warn: #8a5a00; --err: #a00000; }
+* { box-sizing: border-box; }
+html { font-family: "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; font-size: 11pt; color: var(--ink); }
+body { margin: 0 auto; padding: 28px 40px 40px; max-width: 1000px; line-height: 1.4; }
+h1 { font-size: 1.7em; margin: 0 0 2px; font-weight: 600; }
+h2 { font-size: 1.2em; margin: 26px 0 8px; padding-bottom: 3px; border-bottom: 2px solid var(--ink); font-weight: 600; }
+h3 { font-size: 1.0em; margin: 14px 0 6px; font-weight: 600; }
+p { margin: 4px 0 8px; }
+.sub { color: var(--muted); margin: 0 0 12px; }
+.caution-box { border: 1.5px solid var(--ink); border-left-width: 6px; padding: 6px 12px; margin: 10px 0 4px; font-size: 0.92em; background: #fbfbf8; }
+.cols { display: flex; gap: 24px; flex-wrap: wrap; align-items: flex-start; }
+.cols > div { flex: 1 1 300px; }
+table { border-collapse: collapse; width: 100%; font-size: 0.84em; margin: 4px 0 10px; }
+th, td { border-bottom: 1px solid var(--rule); padding: 2px 6px; text-align: left; vertical-align: top; }
+th { background: var(--band); font-weight: 600; border-bottom: 1.5px solid var(--ink); }
+td.n, th.n { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+table.kv th { width: 48%; background: none; border-bottom: 1px solid var(--rule); font-weight: normal; color: var(--muted); }
+table.kv td { font-variant-numeric: tabular-nums; }
+tr.over td { font-weight: 600; }
+tr.index td { background: #f5f1de; }
+.swatch { display: inline-block; width: 10px; height: 10px; border: 1px solid #333; margin-right: 4px; vertical-align: -1px; }
+.sev-error td.sev { color: var(--err); font-weight: 600; }
+.sev-warning td.sev { color: var(--warn); font-weight: 600; }
+figure { margin: 8px 0 16px; break-inside: avoid; page-break-inside: avoid; }
+figcaption { font-size: 0.9em; color: var(--muted); margin-bottom: 4px; }
+svg { max-width: 100%; height: auto; display: block; }
+svg text { font-family: "DejaVu Sans", Helvetica, Arial, sans-serif; fill: #1a1a1a; }
+svg .lb { font-size: 11px; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
+svg .sm { font-size: 9.5px; fill: #444444; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
+svg .sz { font-size: 9.5px; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
+svg .lg { font-size: 9.5px; }
+ul.notes { font-size: 0.9em; margin: 4px 0 10px; padding-left: 20px; }
+dl.methods dt { font-weight: 600; margin-top: 6px; }
+dl.methods dd { margin: 0 0 4px 16px; }
+.muted { color: var(--muted); }
+footer { margin-top: 30px; font-size: 0.8em; color: var(--muted); border-top: 1px solid var(--rule); padding-top: 6px; }
+@page { size: A4; margin: 14mm 12mm 16mm; }
+@media print {
+  html { font-size: 9.5pt; }
+  body { padding: 0; max-width: none; }
+  h2 { break-after: avoid; page-break-after: avoid; }
+  thead { display: table-header-group; }
+  tr { break-inside: avoid; page-break-inside: avoid; }
+  section.page { break-before: page; page-break-before: always; }
+  .caution-box { background: none; }
+}
+"#;
+
+fn kw(x: f64) -> String {
+    format!("{:.2} kW", x / 1000.0)
+}
+
+/// The design report of a solved project as one HTML document.
+#[must_use]
+pub fn report_html(p: &Project, sol: &Solution, parts: &PartsList) -> String {
+    let mut h = String::with_capacity(256 * 1024);
+    let title = format!("Design report — {}", p.name);
+    w!(
+        h,
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
+         <meta name=\"generator\" content=\"flowrise {}\">\n<title>{}</title>\n<style>{CSS}</style>\n</head>\n<body>\n",
+        env!("CARGO_PKG_VERSION"),
+        esc(&title)
+    );
+    w!(h, "<header><h1>{}</h1>", esc(&title));
+    let mode = match p.settings.mode {
+        Mode::DesignFollowsLayout => "design (sizes and presettings chosen by the design)",
+        Mode::Installed => "installed (sizes and presettings as stored)",
+    };
+    w!(
+        h,
+        "<p class=\"sub\">Two-pipe hydronic heating network · produced by flowrise {} from the project file (revision {}) · mode: {mode}</p></header>\n",
+        env!("CARGO_PKG_VERSION"),
+        p.revision
+    );
+    h.push_str(
+        "<div class=\"caution-box\"><strong>Design aid.</strong> These results support a design; they do not replace it. \
+         Pressures, temperatures, safety devices and materials follow local codes and licensed practice (EN 12828 or the \
+         local equivalent). See <a href=\"#cautions\">Cautions</a>.</div>\n",
+    );
+    conditions(&mut h, p, sol, parts);
+    drawings(&mut h, p, sol);
+    emitters_table(&mut h, p, sol);
+    pipes_table(&mut h, sol);
+    findings_table(&mut h, sol);
+    pump_section(&mut h, sol);
+    vessel_section(&mut h, sol);
+    parts_section(&mut h, parts);
+    methods(&mut h, p, parts);
+    cautions(&mut h);
+    w!(h, "<footer>{} · flowrise {} · end of report</footer>\n</body>\n</html>\n", esc(&p.name), env!("CARGO_PKG_VERSION"));
+    h
+}
+
+fn kv_row(h: &mut String, key: &str, value: &str) {
+    w!(h, "<tr><th>{key}</th><td>{value}</td></tr>");
+}
+
+fn conditions(h: &mut String, p: &Project, sol: &Solution, parts: &PartsList) {
+    let s = &p.settings;
+    h.push_str("<section id=\"conditions\"><h2>1 Project and design conditions</h2><div class=\"cols\"><div><h3>Design conditions</h3><table class=\"kv\">");
+    kv_row(h, "Project", &esc(&p.name));
+    kv_row(h, "Supply / return temperature", &format!("{:.1} / {:.1} °C", s.supply_c, s.return_c));
+    kv_row(h, "Default room temperature", &format!("{:.1} °C", s.room_c));
+    let layout = match s.return_layout {
+        ReturnLayout::Direct => "direct return",
+        ReturnLayout::Reverse => "reverse return",
+    };
+    kv_row(h, "Return layout (default)", layout);
+    for class in crate::project::PipeClass::ALL {
+        let series = pipes::find_series(s.series.get(class)).map_or_else(|_| esc(s.series.get(class)), |x| esc(&format!("{} ({})", x.name, x.standard)));
+        kv_row(h, &format!("Pipe series, {}", class.name()), &series);
+    }
+    kv_row(
+        h,
+        "Velocity limits (main / branch / connection)",
+        &format!(
+            "{:.2} / {:.2} / {:.2} m/s (common practice)",
+            s.velocity_limit_m_s.main, s.velocity_limit_m_s.branch, s.velocity_limit_m_s.connection
+        ),
+    );
+    kv_row(h, "Pressure-gradient limit", &format!("{:.0} Pa/m (common practice)", s.gradient_limit_pa_m));
+    kv_row(h, "Pump head margin", &format!("{:.0} % (common practice)", s.head_margin_fraction * 100.0));
+    kv_row(h, "Minimum index-valve Δp", &format!("{:.1} kPa (common practice)", s.min_valve_dp_pa / 1000.0));
+    kv_row(h, "Fill temperature", &format!("{:.1} °C", s.fill_temperature_c));
+    kv_row(h, "Safety valve set pressure", &format!("{:.1} bar", s.safety_valve_bar));
+    kv_row(h, "Levels", &p.levels.len().to_string());
+    h.push_str("</table></div><div><h3>Key results</h3><table class=\"kv\">");
+    kv_row(h, "Emitters", &sol.emitters.len().to_string());
+    kv_row(h, "Total design heat load", &kw(sol.heat_load_w));
+    if let Some(pump) = &sol.pump {
+        kv_row(h, "Design flow", &format!("{:.0} l/h ({:.3} m³/h)", pump.design_flow_m3_h * 1000.0, pump.design_flow_m3_h));
+        kv_row(h, "Index circuit Δp", &format!("{:.1} kPa", pump.index_dp_pa / 1000.0));
+        kv_row(h, "Pump duty", &format!("{:.3} m³/h at {:.1} kPa", pump.design_flow_m3_h, pump.duty_head_pa / 1000.0));
+        kv_row(h, "Operating point", &format!("{:.3} m³/h at {:.1} kPa", pump.operating_flow_m3_h, pump.operating_head_pa / 1000.0));
+        kv_row(h, "Hydraulic power", &format!("{:.1} W", pump.hydraulic_power_w));
+    }
+    let index = sol
+        .index_emitter
+        .and_then(|n| p.node(n))
+        .map_or_else(|| "—".to_owned(), |n| esc(&n.label()));
+    kv_row(h, "Index circuit", &index);
+    kv_row(h, "System water volume", &format!("{:.1} l", sol.water_volume_l));
+    if let Some(v) = &sol.vessel {
+        let chosen = vessel_nominal_size_l(v.nominal_volume_l).map_or_else(|| "several vessels".to_owned(), |n| format!("{n:.0} l"));
+        kv_row(h, "Expansion vessel", &format!("{chosen} (minimum {:.1} l, EN 12828)", v.nominal_volume_l));
+    }
+    let total_pipe: f64 = sol.pipes.iter().map(|x| x.length_m).sum();
+    kv_row(
+        h,
+        "Pipe, supply + return",
+        &format!("{total_pipe:.1} m net, {:.1} m to order", total_pipe * (1.0 + parts.options.cutting_allowance_fraction)),
+    );
+    let (errors, warnings) = (
+        sol.findings.iter().filter(|f| f.severity == Severity::Error).count(),
+        sol.findings.iter().filter(|f| f.severity == Severity::Warning).count(),
+    );
+    kv_row(h, "Findings", &format!("{errors} errors, {warnings} warnings"));
+    let solve = if sol.converged { format!("converged in {} iterations", sol.iterations) } else { "did not converge".to_owned() };
+    kv_row(h, "Operating solve", &solve);
+    h.push_str("</table></div></div></section>\n");
+}
+
+fn drawings(h: &mut String, p: &Project, sol: &Solution) {
+    let (topo, _) = topology::analyse(p);
+    h.push_str(
+        "<section id=\"plans\"><h2>2 Level plans</h2><p class=\"muted\">Runs are drawn as one line for the supply + return \
+         pair, coloured by the velocity margin v / v<sub>limit</sub> of the worse side (cividis scale, 0 → 1); runs over \
+         their limit are drawn thicker and dashed. Labels: run id and supply size; emitters with their load and presetting. \
+         ▲/▼ marks a riser to the level above or below.</p>",
+    );
+    let mut levels: Vec<_> = p.levels.iter().collect();
+    levels.sort_by(|a, b| b.elevation_m.total_cmp(&a.elevation_m));
+    for level in levels {
+        let count = p.nodes().filter(|n| n.level == level.id && matches!(n.kind, NodeKind::Emitter(_))).count();
+        w!(
+            h,
+            "<figure class=\"plan\" data-level=\"{}\"><figcaption><strong>{}</strong> ({}) · elevation {:+.2} m · {count} emitter{}</figcaption>{}</figure>\n",
+            level.id,
+            esc(&level.name),
+            level.id,
+            level.elevation_m,
+            if count == 1 { "" } else { "s" },
+            svg::level_plan(p, sol, level)
+        );
+    }
+    h.push_str("</section>\n<section id=\"riser\"><h2>3 Riser elevation</h2><p class=\"muted\">Levels at their elevations; vertical runs between them, one column per riser position, with the horizontal runs that leave each riser node.</p>");
+    w!(h, "<figure class=\"elevation\">{}</figure></section>\n", svg::riser_elevation(p, sol, &topo));
+}
+
+fn emitter_kind(p: &Project, sol_detail: Option<&EmitterDetail>, id: crate::project::NodeId) -> String {
+    let Some(NodeKind::Emitter(e)) = p.node(id).map(|n| &n.kind) else { return String::new() };
+    match (&e.model, sol_detail) {
+        (EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(r))) => {
+            format!("radiator {} · {}×{} mm · Φn {:.0} W", spec.type_code, spec.height_mm, r.length_mm, r.nominal_output_w)
+        }
+        (EmitterModel::Radiator(spec), _) => format!("radiator {} · {} mm", spec.type_code, spec.height_mm),
+        (EmitterModel::FloorLoop(spec), Some(EmitterDetail::FloorLoop(f))) => {
+            format!("floor loop · {:.1} m² · {:.0} m · {:.1} °C surface", spec.area_m2, f.loop_length_m, f.mean_surface_c)
+        }
+        (EmitterModel::FloorLoop(spec), _) => format!("floor loop · {:.1} m²", spec.area_m2),
+        (EmitterModel::Terminal(spec), _) => format!("terminal · {:.0} W nominal", spec.nominal_output_w),
+    }
+}
+
+fn emitters_table(h: &mut String, p: &Project, sol: &Solution) {
+    h.push_str(
+        "<section id=\"emitters\" class=\"page\"><h2>4 Emitters and circuits</h2><p class=\"muted\">Circuit Δp: source → emitter → source with the \
+         valve fully open. Valve Δp: what the valve absorbs at design flow. Authority: valve Δp / pump head available. \
+         Flow and output: operating solve. The index circuit is shaded.</p>\
+         <table class=\"emitters\"><thead><tr><th>id</th><th>name</th><th>level</th><th>emitter</th><th class=\"n\">load W</th>\
+         <th class=\"n\">design l/h</th><th class=\"n\">return °C</th><th class=\"n\">circuit Δp kPa</th><th class=\"n\">valve Δp kPa</th>\
+         <th class=\"n\">preset</th><th class=\"n\">Kv m³/h</th><th class=\"n\">authority</th><th class=\"n\">flow l/h</th><th class=\"n\">output W</th></tr></thead><tbody>",
+    );
+    for e in &sol.emitters {
+        let class = if sol.index_emitter == Some(e.id) { " class=\"index\"" } else { "" };
+        w!(
+            h,
+            "<tr data-emitter=\"{}\"{class}><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td class=\"n\">{:.0}</td><td class=\"n\">{:.1}</td>\
+             <td class=\"n\">{:.1}</td><td class=\"n\">{:.2}</td><td class=\"n\">{:.2}</td><td class=\"n\">{}</td><td class=\"n\">{:.3}</td>\
+             <td class=\"n\">{:.2}</td><td class=\"n\">{:.1}</td><td class=\"n\">{:.0}</td></tr>",
+            e.id,
+            e.id,
+            esc(&e.name),
+            esc(&e.level),
+            esc(&emitter_kind(p, e.detail.as_ref(), e.id)),
+            e.load_w,
+            e.design_flow_l_h,
+            e.design_return_c,
+            e.circuit_dp_open_pa / 1000.0,
+            e.valve_dp_pa / 1000.0,
+            esc(&e.presetting),
+            e.valve_kv_m3_h,
+            e.authority,
+            e.flow_l_h,
+            e.output_w
+        );
+    }
+    h.push_str("</tbody></table></section>\n");
+}
+
+fn pipes_table(h: &mut String, sol: &Solution) {
+    h.push_str(
+        "<section id=\"pipes\"><h2>5 Pipes</h2><table class=\"pipes\"><thead><tr><th>run</th><th>side</th><th>class</th><th>series</th><th>size</th>\
+         <th class=\"n\">length m</th><th class=\"n\">flow l/h</th><th class=\"n\">v m/s</th><th class=\"n\">v<sub>limit</sub></th>\
+         <th class=\"n\">v / v<sub>limit</sub></th><th class=\"n\">Pa/m</th><th class=\"n\">ζ</th><th class=\"n\">Δp kPa</th></tr></thead><tbody>",
+    );
+    for x in &sol.pipes {
+        let ratio = if x.velocity_limit_m_s > 0.0 { x.velocity_m_s / x.velocity_limit_m_s } else { 0.0 };
+        let c = svg::cividis(ratio);
+        let side = match x.side {
+            Side::Supply => "supply",
+            Side::Return => "return",
+        };
+        let series = pipes::find_series(&x.series).map_or_else(|_| x.series.clone(), |s| s.material.label().to_owned());
+        let over = if ratio > 1.0 { " class=\"over\"" } else { "" };
+        w!(
+            h,
+            "<tr data-run=\"{}\" data-side=\"{side}\"{over}><td>{}</td><td>{side}</td><td>{}</td><td>{}</td><td>{}</td><td class=\"n\">{:.2}</td>\
+             <td class=\"n\">{:.1}</td><td class=\"n\">{:.3}</td><td class=\"n\">{:.2}</td>\
+             <td class=\"n\"><span class=\"swatch\" style=\"background:#{:02x}{:02x}{:02x}\"></span>{:.2}</td>\
+             <td class=\"n\">{:.1}</td><td class=\"n\">{:.2}</td><td class=\"n\">{:.3}</td></tr>",
+            x.run,
+            x.run,
+            x.class.name(),
+            esc(&series),
+            esc(&x.size),
+            x.length_m,
+            x.flow_l_h,
+            x.velocity_m_s,
+            x.velocity_limit_m_s,
+            c[0],
+            c[1],
+            c[2],
+            ratio,
+            x.gradient_pa_m,
+            x.zeta,
+            x.dp_pa / 1000.0
+        );
+    }
+    h.push_str("</tbody></table></section>\n");
+}
+
+fn findings_table(h: &mut String, sol: &Solution) {
+    h.push_str("<section id=\"findings\"><h2>6 Findings</h2>");
+    if sol.findings.is_empty() {
+        h.push_str("<p>No errors or warnings: every pipe is within its limits, every emitter gets its design flow and every valve has a presetting.</p></section>\n");
+        return;
+    }
+    h.push_str("<table class=\"findings\"><thead><tr><th>severity</th><th>item</th><th>what and how to fix it</th></tr></thead><tbody>");
+    for f in &sol.findings {
+        let sev = match f.severity {
+            Severity::Error => "error",
+            Severity::Warning => "warning",
+            Severity::Note => "note",
+        };
+        w!(
+            h,
+            "<tr class=\"sev-{sev}\" data-item=\"{}\"><td class=\"sev\">{sev}</td><td>{}</td><td>{}</td></tr>",
+            f.item,
+            f.item,
+            esc(&f.message)
+        );
+    }
+    h.push_str("</tbody></table></section>\n");
+}
+
+fn pump_section(h: &mut String, sol: &Solution) {
+    h.push_str("<section id=\"pump\"><h2>7 Pump</h2>");
+    let Some(pump) = &sol.pump else {
+        h.push_str("<p>No pump duty: the design did not reach the pump (see the findings).</p></section>\n");
+        return;
+    };
+    let control = match pump.control {
+        PumpControl::FixedSpeed => "fixed speed (maximum curve)".to_owned(),
+        PumpControl::ConstantDp { setpoint_kpa } => format!("constant Δp, set-point {setpoint_kpa:.1} kPa"),
+        PumpControl::ProportionalDp { setpoint_kpa } => {
+            format!("proportional Δp, {setpoint_kpa:.1} kPa at design flow, half of it at zero flow")
+        }
+    };
+    h.push_str("<div class=\"cols\"><div style=\"flex: 2 1 420px\">");
+    if let Some(chart) = svg::pump_chart(sol) {
+        w!(h, "<figure>{chart}</figure>");
+    }
+    h.push_str("</div><div><table class=\"kv\">");
+    kv_row(h, "Control", &control);
+    kv_row(h, "Design flow", &format!("{:.3} m³/h", pump.design_flow_m3_h));
+    kv_row(h, "Index circuit Δp", &format!("{:.2} kPa", pump.index_dp_pa / 1000.0));
+    kv_row(h, "Duty head (with margin)", &format!("{:.2} kPa", pump.duty_head_pa / 1000.0));
+    kv_row(h, "Head available for balancing", &format!("{:.2} kPa", pump.available_pa / 1000.0));
+    kv_row(h, "Operating point", &format!("{:.3} m³/h at {:.2} kPa", pump.operating_flow_m3_h, pump.operating_head_pa / 1000.0));
+    kv_row(h, "Hydraulic power", &format!("{:.1} W", pump.hydraulic_power_w));
+    if let Some(c) = &pump.curve {
+        let pts: Vec<String> = c.points().iter().map(|(q, hh)| format!("{q:.2} m³/h @ {hh:.1} kPa")).collect();
+        kv_row(h, "Pump curve points", &pts.join("; "));
+    }
+    h.push_str(
+        "</table><p class=\"muted\">The system curve is the quadratic through the operating point (a closed circuit has no \
+         static head; buoyancy in the risers is small and left out of the drawing).</p></div></div></section>\n",
+    );
+}
+
+fn vessel_section(h: &mut String, sol: &Solution) {
+    h.push_str("<section id=\"vessel\"><h2>8 Water volume and expansion vessel</h2>");
+    w!(h, "<p>System water volume (pipes, emitters and source): <strong>{:.1} l</strong>.</p>", sol.water_volume_l);
+    let Some(v) = &sol.vessel else {
+        h.push_str("<p>The expansion vessel was not sized (see the findings).</p></section>\n");
+        return;
+    };
+    h.push_str("<div class=\"cols\"><div><table class=\"kv\">");
+    kv_row(h, "Fill / maximum temperature", &format!("{:.1} / {:.1} °C", v.input.fill_temperature_c, v.input.max_temperature_c));
+    kv_row(h, "Expansion coefficient e", &format!("{:.4}", v.expansion_coefficient));
+    kv_row(h, "Expansion volume V<sub>e</sub>", &format!("{:.2} l", v.expansion_volume_l));
+    kv_row(h, "Water reserve V<sub>wr</sub>", &format!("{:.2} l", v.water_reserve_l));
+    kv_row(h, "Static height", &format!("{:.1} m", v.input.static_height_m));
+    kv_row(h, "Static pressure p<sub>st</sub>", &format!("{:.2} bar", v.static_pressure_bar));
+    kv_row(h, "Pre-charge p<sub>0</sub>", &format!("{:.2} bar", v.precharge_pressure_bar));
+    kv_row(h, "Final pressure p<sub>e</sub>", &format!("{:.2} bar", v.final_pressure_bar));
+    kv_row(h, "Fill pressure", &format!("{:.2} bar", v.fill_pressure_bar));
+    kv_row(h, "Minimum nominal volume V<sub>n</sub>", &format!("{:.1} l", v.nominal_volume_l));
+    let chosen = vessel_nominal_size_l(v.nominal_volume_l)
+        .map_or_else(|| "above 300 l: several vessels".to_owned(), |n| format!("<strong>{n:.0} l</strong> (next common size, common practice)"));
+    kv_row(h, "Vessel chosen", &chosen);
+    h.push_str("</table></div><div><h3>Assumptions of the vessel sizing</h3><ul class=\"notes\">");
+    for a in &v.assumptions {
+        w!(h, "<li>{}</li>", esc(a));
+    }
+    h.push_str("</ul></div></div></section>\n");
+}
+
+fn parts_section(h: &mut String, parts: &PartsList) {
+    w!(
+        h,
+        "<section id=\"parts\" class=\"page\"><h2>9 Parts list</h2><p class=\"muted\">Pipe lengths include a cutting allowance of {:.0} % (common practice). \
+         The same list is written as CSV by <code>flowrise parts FILE -o parts.csv</code>.</p>\
+         <table class=\"parts\"><thead><tr><th>category</th><th>item</th><th>size</th><th class=\"n\">quantity</th><th>unit</th><th>serves</th><th>note</th></tr></thead><tbody>",
+        parts.options.cutting_allowance_fraction * 100.0
+    );
+    for (i, l) in parts.lines.iter().enumerate() {
+        let qty = match l.unit {
+            crate::parts::PartUnit::Metre => format!("{:.2}", l.quantity),
+            crate::parts::PartUnit::Piece => format!("{:.0}", l.quantity),
+        };
+        w!(
+            h,
+            "<tr data-part=\"{i}\"><td>{}</td><td>{}</td><td>{}</td><td class=\"n\">{qty}</td><td>{}</td><td>{}</td><td>{}</td></tr>",
+            l.category.label(),
+            esc(&l.item),
+            esc(&l.size),
+            l.unit.symbol(),
+            esc(&l.serves.join(" ")),
+            esc(&l.note)
+        );
+    }
+    h.push_str("</tbody></table><ul class=\"notes\">");
+    for n in &parts.notes {
+        w!(h, "<li>{}</li>", esc(n));
+    }
+    h.push_str("</ul></section>\n");
+}
+
+fn methods(h: &mut String, p: &Project, parts: &PartsList) {
+    h.push_str("<section id=\"methods\"><h2>10 Assumptions, methods and sources</h2><dl class=\"methods\">");
+    let items: [(&str, String); 14] = [
+        (
+            "Water properties",
+            "Density and specific heat from IAPWS-IF97 (region 1), viscosity from the IAPWS 2008 formulation, through the \
+             seuif97 library; supply pipes at the design supply temperature, return pipes at the design return temperature."
+                .to_owned(),
+        ),
+        (
+            "Design flow",
+            "q_m = Φ / (c_p · (θs − θr)) per emitter, c_p at the mean water temperature; pipe flows accumulated over the supply \
+             and return trees."
+                .to_owned(),
+        ),
+        (
+            "Pipe friction",
+            "Darcy–Weisbach with the Colebrook–White friction factor (solved iteratively); laminar 64/Re; a smooth cubic \
+             interpolation across the laminar–turbulent transition (flowrise's own engineering choice). Inner diameters and \
+             roughness per pipe series (EN 10255, EN 1057, ISO 15875, ISO 22391, ISO 21003)."
+                .to_owned(),
+        ),
+        (
+            "Local losses",
+            "Σζ·ρv²/2 for bends (Rennels & Hudson, Pipe Flow, 2012) and tees split or merging, run or branch leg with the design \
+             flow split (Crane Technical Paper 410). Bends from the drawn geometry (turn ≥ 60° → one 90° bend, 20–60° → a 45° \
+             bend); two bends (foot and head) per vertical run."
+                .to_owned(),
+        ),
+        ("Valves", "Δp = 10⁵ · (Q/Kv)² · ρ/ρ₀ Pa with Q in m³/h (IEC 60534 definition of Kv).".to_owned()),
+        (
+            "Radiators",
+            "EN 442: Φ = Φn · (ΔT_lm / 49.83 K)^n with ΔT_lm the logarithmic mean temperature difference and nominal conditions \
+             75/65/20 °C; sizing picks the shortest catalog length whose nominal output covers the requirement."
+                .to_owned(),
+        ),
+        (
+            "Floor loops (EN 1264, simplified)",
+            "Surface to room by the EN 1264-2 basic characteristic q = 8.92 · (θ_F,m − θi)^1.1 W/m² with the surface limits \
+             29 °C (occupied), 33 °C (bathrooms), 35 °C (edge zones). Water to surface by a series-resistance model (covering, \
+             screed above the pipe, the constriction between pipes, the pipe wall) instead of the standard's full characteristic \
+             with its tabulated factors; downward losses and lead-pipe heat are neglected. Loop length = area / spacing + two \
+             leads; loop Δp limit 25 kPa (common practice)."
+                .to_owned(),
+        ),
+        ("Terminals", "Φ = Φ_nom · (ΔT_lm / ΔT_lm,nom)^n through the stated nominal conditions; fixed coil Kv.".to_owned()),
+        (
+            "Pipe sizing",
+            format!(
+                "The smallest size of the series meeting the velocity limit of the pipe's class and the pressure-gradient limit \
+                 {:.0} Pa/m (both common practice; lower velocities next to rooms for noise).",
+                p.settings.gradient_limit_pa_m
+            ),
+        ),
+        (
+            "Index circuit, pump and balancing",
+            format!(
+                "Index circuit: the largest source → emitter → source Δp with the valves fully open, plus a minimum valve Δp of \
+                 {:.1} kPa; pump duty = index Δp × (1 + {:.0} % margin, common practice). Each valve absorbs the head available \
+                 minus its circuit's Δp: Kv_needed = Q / √Δp; the presetting is the valve's nearest step; authority = valve Δp / \
+                 head available, warned below 0.3 (common practice 0.3–0.5). Buoyancy in risers: Δp = g · Δz · (ρ_return − ρ_supply).",
+                p.settings.min_valve_dp_pa / 1000.0,
+                p.settings.head_margin_fraction * 100.0
+            ),
+        ),
+        (
+            "Operating solve",
+            "The Global Gradient Algorithm (Todini & Pilati, 1988) on the doubled network (supply and return pipes, emitter \
+             valves and bodies, source and pump), with sizes, presettings and the pump curve fixed; each Newton step solves a \
+             sparse symmetric positive definite system by Cholesky factorisation (faer) with a fill-reducing ordering. Emitter \
+             outputs follow from the real flows."
+                .to_owned(),
+        ),
+        (
+            "Expansion vessel",
+            "EN 12828 annex D method (expansion volume, water reserve, pre-charge and final pressure, Boyle–Mariotte); the \
+             assumptions are listed in section 8."
+                .to_owned(),
+        ),
+        (
+            "Parts list",
+            format!(
+                "Cutting allowance {:.0} % (common practice); couplings per stock length (common practice: steel 6 m, copper 5 m, \
+                 multilayer 5 m bars, PE-X/PE-RT coils); vessel rounded up to a common nominal size (common practice).",
+                parts.options.cutting_allowance_fraction * 100.0
+            ),
+        ),
+        (
+            "Design assumptions",
+            "No heat loss from the pipes; every emitter receives the source's supply temperature; the drawing colours use the \
+             cividis colormap (Nuñez, Anderton & Renslow, PLOS ONE 2018), readable with colour-vision deficiency."
+                .to_owned(),
+        ),
+    ];
+    for (t, d) in items {
+        w!(h, "<dt>{}</dt><dd>{}</dd>", esc(t), esc(&d));
+    }
+    h.push_str(
+        "</dl><p class=\"muted\">Values marked “common practice” are rules of thumb of the trade, not code requirements; \
+         check them against the codes that apply to the project.</p></section>\n",
+    );
+}
+
+fn cautions(h: &mut String) {
+    h.push_str(
+        "<section id=\"cautions\"><h2>11 Cautions</h2><ul>\
+         <li>The results are design aids. They support an engineer's design; they do not certify it.</li>\
+         <li>Pressures, temperatures, safety devices (safety valve, expansion vessel, temperature limiters) and materials \
+         must follow the local codes and licensed practice — EN 12828 in Europe or the local equivalent.</li>\
+         <li>Hot surfaces can burn. Where vulnerable people live (children, older people, people who cannot move away from a \
+         heat source), use low-surface-temperature emitters or guards.</li>\
+         <li>Values marked “common practice” are rules of thumb, not code requirements.</li>\
+         <li>Valve and emitter data in the bundled catalogs are illustrative; use the data of the products installed.</li>\
+         </ul></section>\n",
+    );
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escaping_covers_markup_and_quotes() {
+        assert_eq!(esc("<b>\"Tom's\" & co</b>"), "&lt;b&gt;&quot;Tom&#39;s&quot; &amp; co&lt;/b&gt;");
+        assert_eq!(esc("Küche 3 °C"), "Küche 3 °C");
+    }
+
+    #[test]
+    fn cividis_is_clamped_and_ends_at_the_published_endpoints() {
+        // Endpoints: matplotlib 3.10.9 colormaps["cividis"] (see the table's doc).
+        assert_eq!(svg::cividis(0.0), [0, 34, 78]);
+        assert_eq!(svg::cividis(1.0), [254, 232, 56]);
+        assert_eq!(svg::cividis(-3.0), svg::cividis(0.0));
+        assert_eq!(svg::cividis(7.0), svg::cividis(1.0));
+        assert_eq!(svg::cividis(f64::NAN), svg::cividis(0.0));
+    }
+
+    #[test]
+    fn an_unsolved_project_still_gives_a_complete_document() {
+        let p = Project::new("A <script> & \"quotes\"");
+        let sol = Solution::default();
+        let parts = crate::parts::parts_list(&p, &sol, &crate::parts::PartsOptions::default()).unwrap();
+        let html = report_html(&p, &sol, &parts);
+        assert!(!html.contains("<script>"), "names are escaped");
+        assert!(html.contains("A &lt;script&gt; &amp; &quot;quotes&quot;"));
+        assert!(html.contains("<svg class=\"level-plan\" data-level=\"L0\""));
+        assert!(html.contains("<svg class=\"riser-elevation\""));
+        assert!(html.trim_end().ends_with("</html>"));
+    }
+}

@@ -1,0 +1,419 @@
+//! Supply-temperature sweep and part-load scenarios.
+//!
+//! **Sweep** — the retrofit question: with the emitters on the walls, how low
+//! can the supply temperature go before a room falls short? Radiators still
+//! marked "to size" are first fixed at the size the design chose at the
+//! project's temperatures (they are what would be installed). For each
+//! supply temperature the whole design is redone with those emitters: in the
+//! default *re-balanced* mode every emitter gets the flow it needs (up to the
+//! practical flow cap of the emitter model) and the delivered fraction is the
+//! emitter's output at that flow over its load; with *presettings frozen*
+//! the network keeps the presettings and pump set-point of the original
+//! design and the delivered fraction follows from the operating solve.
+//!
+//! **Part load** — close a set of emitter valves and solve the installed
+//! network for each pump control mode: flows, Δp across the open valves
+//! (warning above [`NOISE_DP_PA`]), pump operating point, over-supply.
+
+use std::collections::BTreeSet;
+
+use serde::Serialize;
+
+use crate::design::{self, SolveOptions, Solution, Workspace, solve_project};
+use crate::emitters::{EmitterDetail, EmitterModel, RadiatorSizing, radiator};
+use crate::project::{Edit, Mode, NodeId, NodeKind, Project};
+use crate::pump::PumpControl;
+
+/// Δp across an open radiator valve above which flow noise is likely, Pa
+/// (about 20 kPa: common practice).
+pub const NOISE_DP_PA: f64 = 20_000.0;
+
+/// Water temperature drop assumed for an upgraded radiator at the target
+/// supply temperature, K (5 K: common practice for heat-pump design).
+pub const UPGRADE_DELTA_K: f64 = 5.0;
+
+/// What to sweep.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SweepSpec {
+    /// Highest supply temperature, °C.
+    pub from_c: f64,
+    /// Lowest supply temperature, °C.
+    pub to_c: f64,
+    /// Step, K (> 0).
+    pub step_k: f64,
+    /// Keep the original presettings and pump set-point (true) or re-balance
+    /// at every temperature (false).
+    pub frozen_presettings: bool,
+    /// Supply temperature at which upgrades are sized, °C; `None` = the
+    /// lowest temperature of the sweep.
+    pub target_c: Option<f64>,
+}
+
+impl Default for SweepSpec {
+    fn default() -> Self {
+        Self { from_c: 75.0, to_c: 35.0, step_k: 1.0, frozen_presettings: false, target_c: None }
+    }
+}
+
+/// One emitter at one supply temperature.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct EmitterPoint {
+    /// Emitter id (`N7`).
+    pub id: String,
+    /// Delivered output / load (0 to 1; 1 = covered).
+    pub fraction: f64,
+    /// Flow the emitter gets, l/h.
+    pub flow_l_h: f64,
+}
+
+/// One supply temperature.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SweepPoint {
+    /// Supply temperature, °C.
+    pub supply_c: f64,
+    /// Per emitter.
+    pub emitters: Vec<EmitterPoint>,
+    /// Total flow, l/h.
+    pub flow_l_h: f64,
+    /// Pump duty head, kPa.
+    pub pump_head_kpa: f64,
+}
+
+/// An emitter that must be upgraded to cover its room at the target.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Upgrade {
+    /// Emitter id.
+    pub id: String,
+    /// Emitter name.
+    pub name: String,
+    /// Nominal output (EN 442, 75/65/20 °C) it has now, W.
+    pub current_nominal_w: f64,
+    /// Nominal output it would need, W.
+    pub needed_nominal_w: f64,
+}
+
+/// Result of a sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SweepResult {
+    /// Lowest supply temperature at which every room is covered, °C.
+    pub lowest_supply_c: Option<f64>,
+    /// The emitter that falls short first below that temperature.
+    pub limiting_emitter: Option<String>,
+    /// Target temperature the upgrades are sized for, °C.
+    pub target_c: f64,
+    /// Points from the highest temperature down.
+    pub points: Vec<SweepPoint>,
+    /// Upgrades needed at the target temperature.
+    pub upgrades: Vec<Upgrade>,
+    /// Emitters that are not radiators and fall short at the target (no
+    /// EN 442 rating to upgrade).
+    pub short_other: Vec<String>,
+}
+
+/// Why a sweep could not run.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{0}")]
+pub struct SweepError(pub String);
+
+/// The project with every "to size" radiator fixed at the size its design
+/// chose (what would be installed).
+#[must_use]
+pub fn with_existing_emitters(p: &Project, sol: &Solution) -> Project {
+    let mut q = p.clone();
+    let mut edits = Vec::new();
+    for e in &sol.emitters {
+        let Some(node) = p.node(e.id) else { continue };
+        let NodeKind::Emitter(em) = &node.kind else { continue };
+        if let (EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(d))) = (&em.model, &e.detail)
+            && spec.sizing == RadiatorSizing::ToSize
+        {
+            let mut em = em.clone();
+            let mut spec = spec.clone();
+            spec.sizing = d.frozen_sizing();
+            em.model = EmitterModel::Radiator(spec);
+            edits.push(Edit::SetNodeKind { id: e.id, kind: NodeKind::Emitter(em) });
+        }
+    }
+    if !edits.is_empty() {
+        // Each edit only replaces a sized radiator by the same radiator
+        // marked existing; a refusal would leave `q` as `p`.
+        if q.apply(Edit::Batch(edits)).is_err() {
+            return p.clone();
+        }
+    }
+    q
+}
+
+fn settings_at(p: &Project, supply_c: f64) -> Option<crate::project::DesignSettings> {
+    let s = &p.settings;
+    let dt = (s.supply_c - s.return_c).max(1.0);
+    let max_room = p
+        .nodes()
+        .filter_map(|n| if let NodeKind::Emitter(e) = &n.kind { Some(e.room_c) } else { None })
+        .fold(s.room_c, f64::max);
+    let return_c = (supply_c - dt).max(max_room + 0.5).min(supply_c - 0.5);
+    let out = crate::project::DesignSettings { supply_c, return_c, ..s.clone() };
+    out.problems().is_empty().then_some(out)
+}
+
+/// Run the supply-temperature sweep.
+///
+/// # Errors
+/// [`SweepError`] for a bad range or a project that does not design at its
+/// own temperatures.
+pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
+    if !(spec.step_k.is_finite() && spec.step_k > 0.0) {
+        return Err(SweepError(format!("step {} K — give a step > 0", spec.step_k)));
+    }
+    if !(spec.from_c.is_finite() && spec.to_c.is_finite() && spec.from_c >= spec.to_c) {
+        return Err(SweepError(format!("range {} to {} °C — give from ≥ to", spec.from_c, spec.to_c)));
+    }
+    if !(20.0..=95.0).contains(&spec.to_c) || !(20.0..=95.0).contains(&spec.from_c) {
+        return Err(SweepError("supply temperatures must lie within 20–95 °C".to_owned()));
+    }
+    let base = solve_project(p, &SolveOptions::default(), &mut Workspace::default());
+    if base.has_errors() {
+        let first = base.findings.first().map_or_else(String::new, |f| format!("{}: {}", f.item, f.message));
+        return Err(SweepError(format!("the project does not design at its own temperatures — {first}")));
+    }
+    let existing = with_existing_emitters(p, &base);
+    // Frozen mode: presettings and pump set-point of the original design.
+    let frozen = if spec.frozen_presettings {
+        let mut q = existing.clone();
+        q.apply(design::freeze_edit(&existing, &base)).map_err(|e| SweepError(e.to_string()))?;
+        Some(q)
+    } else {
+        None
+    };
+    let n_steps = ((spec.from_c - spec.to_c) / spec.step_k).floor() as usize;
+    let mut points = Vec::with_capacity(n_steps + 1);
+    let mut ws = Workspace::default();
+    for i in 0..=n_steps {
+        let t = spec.from_c - spec.step_k * i as f64;
+        points.push(point_at(frozen.as_ref().unwrap_or(&existing), t, frozen.is_some(), &mut ws));
+    }
+    // Lowest covering temperature: walking down, the last point before the
+    // first short room.
+    let covered = |pt: &SweepPoint| pt.emitters.iter().all(|e| e.fraction >= 1.0 - 1e-9);
+    let mut lowest = None;
+    let mut limiting = None;
+    for pt in &points {
+        if covered(pt) {
+            lowest = Some(pt.supply_c);
+        } else {
+            limiting = pt
+                .emitters
+                .iter()
+                .min_by(|a, b| a.fraction.total_cmp(&b.fraction))
+                .map(|e| e.id.clone());
+            break;
+        }
+    }
+    let target_c = spec.target_c.unwrap_or(spec.to_c);
+    let (upgrades, short_other) = upgrades_at(&existing, target_c);
+    Ok(SweepResult { lowest_supply_c: lowest, limiting_emitter: limiting, target_c, points, upgrades, short_other })
+}
+
+fn point_at(p: &Project, supply_c: f64, frozen: bool, ws: &mut Workspace) -> SweepPoint {
+    let emitters = p.emitters();
+    let Some(settings) = settings_at(p, supply_c) else {
+        return SweepPoint {
+            supply_c,
+            emitters: emitters.iter().map(|id| EmitterPoint { id: id.to_string(), fraction: 0.0, flow_l_h: 0.0 }).collect(),
+            flow_l_h: 0.0,
+            pump_head_kpa: 0.0,
+        };
+    };
+    let mut q = p.clone();
+    q.settings = settings;
+    if frozen {
+        q.settings.mode = Mode::Installed;
+    }
+    let sol = solve_project(&q, &SolveOptions::default(), ws);
+    let emitters = sol
+        .emitters
+        .iter()
+        .map(|e| {
+            let (out, flow) = if frozen { (e.output_w, e.flow_l_h) } else { (e.design_output_w, e.design_flow_l_h) };
+            let fraction = if e.load_w > 0.0 { (out / e.load_w).clamp(0.0, 1.0) } else { 1.0 };
+            // Round away the solver's last digits so "covered" is stable.
+            let fraction = if fraction > 1.0 - 1e-6 { 1.0 } else { fraction };
+            EmitterPoint { id: e.id.to_string(), fraction, flow_l_h: flow }
+        })
+        .collect();
+    let pump = sol.pump.as_ref();
+    SweepPoint {
+        supply_c,
+        emitters,
+        flow_l_h: pump.map_or(0.0, |x| if frozen { x.operating_flow_m3_h } else { x.design_flow_m3_h } * 1000.0),
+        pump_head_kpa: pump.map_or(0.0, |x| x.duty_head_pa / 1000.0),
+    }
+}
+
+/// Radiators short at `target_c` and the nominal output each would need
+/// (EN 442 characteristic at θs = target, θr = target − [`UPGRADE_DELTA_K`]).
+fn upgrades_at(existing: &Project, target_c: f64) -> (Vec<Upgrade>, Vec<String>) {
+    let mut ups = Vec::new();
+    let mut other = Vec::new();
+    let mut ws = Workspace::default();
+    let pt = point_at(existing, target_c, false, &mut ws);
+    for ep in pt.emitters.iter().filter(|e| e.fraction < 1.0 - 1e-9) {
+        let Some(node) = existing.nodes().find(|n| n.id.to_string() == ep.id) else { continue };
+        let NodeKind::Emitter(em) = &node.kind else { continue };
+        match &em.model {
+            EmitterModel::Radiator(spec) => {
+                let RadiatorSizing::Existing { nominal_output_w, .. } = spec.sizing else { continue };
+                let n = spec
+                    .exponent_n
+                    .or_else(|| radiator::radiator_catalog().ok().and_then(|c| c.find(&spec.type_code).ok()).map(|t| t.exponent_n))
+                    .unwrap_or(1.3);
+                let ret = (target_c - UPGRADE_DELTA_K).max(em.room_c + 0.5);
+                if let Ok(need) = radiator::required_nominal_w(em.load_w, n, target_c, ret, em.room_c) {
+                    ups.push(Upgrade {
+                        id: ep.id.clone(),
+                        name: em.name.clone(),
+                        current_nominal_w: nominal_output_w,
+                        needed_nominal_w: need.ceil(),
+                    });
+                }
+            }
+            _ => other.push(ep.id.clone()),
+        }
+    }
+    (ups, other)
+}
+
+/// One pump control mode under a part-load scenario.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PartLoadCase {
+    /// "fixed speed", "constant Δp", "proportional Δp".
+    pub control: String,
+    /// Pump operating flow, l/h.
+    pub pump_flow_l_h: f64,
+    /// Pump operating head, kPa.
+    pub pump_head_kpa: f64,
+    /// Per open emitter: id, flow l/h, flow / design − 1, Δp across its
+    /// valves kPa.
+    pub emitters: Vec<PartLoadEmitter>,
+    /// Largest Δp across an open valve, kPa.
+    pub max_valve_dp_kpa: f64,
+    /// Findings of this case (noise risk, non-convergence).
+    pub warnings: Vec<String>,
+}
+
+/// An open emitter in a part-load case.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PartLoadEmitter {
+    /// Id.
+    pub id: String,
+    /// Flow, l/h.
+    pub flow_l_h: f64,
+    /// Over-supply: flow / design − 1.
+    pub over_supply: f64,
+    /// Δp across valve + lockshield, kPa.
+    pub valve_dp_kpa: f64,
+}
+
+/// A closed set of `fraction` of the emitters, chosen by a seeded shuffle
+/// (deterministic for a seed).
+#[must_use]
+pub fn random_closed_set(p: &Project, fraction: f64, seed: u64) -> BTreeSet<NodeId> {
+    let mut ids = p.emitters();
+    let mut state = seed ^ 0x9E37_79B9_7F4A_7C15;
+    let mut next = || {
+        state = state.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = state;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    };
+    for i in (1..ids.len()).rev() {
+        let j = (next() % (i as u64 + 1)) as usize;
+        ids.swap(i, j);
+    }
+    let n = ((ids.len() as f64) * fraction.clamp(0.0, 1.0)).round() as usize;
+    ids.into_iter().take(n).collect()
+}
+
+/// Solve the installed network (sizes and presettings frozen at the
+/// design) with `closed` valves shut, once per pump control mode.
+///
+/// # Errors
+/// [`SweepError`] when the project does not design.
+pub fn part_load(p: &Project, closed: &BTreeSet<NodeId>) -> Result<Vec<PartLoadCase>, SweepError> {
+    let base = solve_project(p, &SolveOptions::default(), &mut Workspace::default());
+    if base.has_errors() {
+        return Err(SweepError("the project does not design — fix its errors first".to_owned()));
+    }
+    let mut installed = p.clone();
+    installed.apply(design::freeze_edit(p, &base)).map_err(|e| SweepError(e.to_string()))?;
+    let Some(src) = installed.sources().first().copied() else {
+        return Err(SweepError("no heat source".to_owned()));
+    };
+    let Some(NodeKind::Source(source)) = installed.node(src).map(|n| n.kind.clone()) else {
+        return Err(SweepError("no heat source".to_owned()));
+    };
+    let duty_kpa = base.pump.as_ref().map_or(20.0, |x| x.duty_head_pa / 1000.0);
+    let modes = [
+        ("fixed speed", PumpControl::FixedSpeed),
+        ("constant Δp", PumpControl::ConstantDp { setpoint_kpa: duty_kpa }),
+        ("proportional Δp", PumpControl::ProportionalDp { setpoint_kpa: duty_kpa }),
+    ];
+    let mut out = Vec::new();
+    for (name, control) in modes {
+        let mut q = installed.clone();
+        let mut s = source.clone();
+        s.pump.control = control;
+        q.apply(Edit::SetNodeKind { id: src, kind: NodeKind::Source(s) }).map_err(|e| SweepError(e.to_string()))?;
+        let opts = SolveOptions { closed_emitters: closed.clone(), ..SolveOptions::default() };
+        let sol = solve_project(&q, &opts, &mut Workspace::default());
+        let mut warnings = Vec::new();
+        if !sol.converged {
+            warnings.push("the operating solve did not converge".to_owned());
+        }
+        let mut emitters = Vec::new();
+        let mut max_dp = 0.0_f64;
+        for e in sol.emitters.iter().filter(|e| !e.closed) {
+            let dp = valve_dp_pa(&sol, e.id);
+            max_dp = max_dp.max(dp);
+            if dp > NOISE_DP_PA {
+                warnings.push(format!(
+                    "{} ({}): {:.1} kPa across the valve — above about {:.0} kPa valves may whistle (common practice); \
+                     a Δp-controlled pump or a differential-pressure controller limits it",
+                    e.name,
+                    e.id,
+                    dp / 1000.0,
+                    NOISE_DP_PA / 1000.0
+                ));
+            }
+            emitters.push(PartLoadEmitter {
+                id: e.id.to_string(),
+                flow_l_h: e.flow_l_h,
+                over_supply: e.flow_deviation,
+                valve_dp_kpa: dp / 1000.0,
+            });
+        }
+        let pump = sol.pump.as_ref();
+        out.push(PartLoadCase {
+            control: name.to_owned(),
+            pump_flow_l_h: pump.map_or(0.0, |x| x.operating_flow_m3_h * 1000.0),
+            pump_head_kpa: pump.map_or(0.0, |x| x.operating_head_pa / 1000.0),
+            emitters,
+            max_valve_dp_kpa: max_dp / 1000.0,
+            warnings,
+        });
+    }
+    Ok(out)
+}
+
+/// Pressure difference across an emitter's valve link (valve + lockshield)
+/// in the operating solve, Pa.
+#[must_use]
+pub fn valve_dp_pa(sol: &Solution, id: NodeId) -> f64 {
+    let Some(k) = sol.roles.iter().position(|r| *r == design::LinkRole::EmitterValves(id)) else { return 0.0 };
+    let Some(l) = sol.network.links.get(k) else { return 0.0 };
+    match (sol.node_pressures_pa.get(l.from), sol.node_pressures_pa.get(l.to)) {
+        (Some(a), Some(b)) => a - b,
+        _ => 0.0,
+    }
+}

@@ -1,0 +1,38 @@
+#!/usr/bin/env python3
+"""Reference samples of the cividis colormap (Nuñez, Anderton & Renslow 2018,
+"Optimizing colormaps with consideration for color vision deficiency",
+PLOS ONE 13(7): e0199239), as published in matplotlib, written to
+tests/reference/fixtures/colormap.json.
+
+Pinned version: matplotlib==3.10.9 (Python 3).
+Run from the repository root:
+
+    pip install matplotlib==3.10.9
+    python3 tests/reference/gen_colormap.py
+
+The report's velocity-margin scale (core/src/report/svg.rs) embeds 33 stops
+(every 1/32) and interpolates linearly between them; the Rust test
+tests/tests/parts_report.rs checks it at these 65 points (the stops and the
+midpoints between them). It does not need Python.
+"""
+
+import json
+import pathlib
+
+import matplotlib
+from matplotlib import colormaps
+
+cm = colormaps["cividis"]
+samples = []
+for i in range(65):
+    t = i / 64
+    r, g, b, _ = cm(t)
+    samples.append({"t": t, "rgb": [round(r * 255), round(g * 255), round(b * 255)]})
+
+out = {
+    "source": f"matplotlib {matplotlib.__version__} colormaps['cividis']",
+    "samples": samples,
+}
+path = pathlib.Path(__file__).parent / "fixtures" / "colormap.json"
+path.write_text(json.dumps(out, indent=1) + "\n")
+print(f"wrote {path}")

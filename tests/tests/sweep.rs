@@ -1,0 +1,135 @@
+//! Acceptance tests of the heat-pump readiness sweep and the part-load
+//! scenarios.
+
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // reason: test code
+
+use std::collections::BTreeSet;
+
+use flowrise_core::design::{SolveOptions, Workspace, solve_project};
+use flowrise_core::emitters::{EmitterModel, RadiatorSizing};
+use flowrise_core::project::{Edit, NodeId, NodeKind, Project};
+use flowrise_core::sweep::{self, SweepSpec};
+
+fn demo(name: &str) -> Project {
+    Project::load(&flowrise_tests::repo_root().join("demo-projects").join(name)).unwrap()
+}
+
+fn spec() -> SweepSpec {
+    SweepSpec { from_c: 75.0, to_c: 35.0, step_k: 1.0, frozen_presettings: false, target_c: Some(45.0) }
+}
+
+#[test]
+fn delivered_fraction_never_rises_as_the_supply_falls() {
+    for name in ["flat-six-radiators.ron", "office-reverse-return.ron", "apartment-block-heat-pump.ron"] {
+        let p = demo(name);
+        for frozen in [false, true] {
+            let r = sweep::sweep(&p, &SweepSpec { frozen_presettings: frozen, ..spec() }).unwrap();
+            assert_eq!(r.points.len(), 41);
+            for w in r.points.windows(2) {
+                assert!(w[1].supply_c < w[0].supply_c);
+                for (hi, lo) in w[0].emitters.iter().zip(&w[1].emitters) {
+                    assert_eq!(hi.id, lo.id);
+                    assert!(
+                        lo.fraction <= hi.fraction + 1e-9,
+                        "{name} frozen={frozen}: {} rises from {} at {} °C to {} at {} °C",
+                        hi.id,
+                        hi.fraction,
+                        w[0].supply_c,
+                        lo.fraction,
+                        w[1].supply_c
+                    );
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn lowest_covering_temperature_is_sharp() {
+    let p = demo("flat-six-radiators.ron");
+    let r = sweep::sweep(&p, &spec()).unwrap();
+    let lowest = r.lowest_supply_c.expect("the flat is covered at its design temperature");
+    let limiting = r.limiting_emitter.clone().expect("some room is short at 35 °C");
+    let at = |t: f64| r.points.iter().find(|pt| (pt.supply_c - t).abs() < 1e-9).unwrap();
+    assert!(at(lowest).emitters.iter().all(|e| e.fraction >= 1.0), "all covered at {lowest} °C");
+    let below = at(lowest - 1.0);
+    let lim = below.emitters.iter().find(|e| e.id == limiting).unwrap();
+    assert!(lim.fraction < 1.0, "{limiting} must be short at {} °C", lowest - 1.0);
+    assert!(lowest < 70.0, "sized radiators cover below the design supply ({lowest} °C)");
+}
+
+#[test]
+fn needed_nominal_output_covers_the_room_when_substituted() {
+    let p = demo("flat-six-radiators.ron");
+    let r = sweep::sweep(&p, &spec()).unwrap();
+    assert!(!r.upgrades.is_empty(), "at 45 °C some radiator of a 70/55 design is short");
+    let base = solve_project(&p, &SolveOptions::default(), &mut Workspace::default());
+    let mut existing = sweep::with_existing_emitters(&p, &base);
+    for u in &r.upgrades {
+        assert!(u.needed_nominal_w > u.current_nominal_w, "{}", u.id);
+        let id = existing.emitters().into_iter().find(|n| n.to_string() == u.id).unwrap();
+        let Some(NodeKind::Emitter(mut em)) = existing.node(id).map(|n| n.kind.clone()) else { panic!() };
+        let EmitterModel::Radiator(mut spec) = em.model.clone() else { panic!() };
+        let RadiatorSizing::Existing { length_mm, .. } = spec.sizing else { panic!() };
+        spec.sizing = RadiatorSizing::Existing { nominal_output_w: u.needed_nominal_w, length_mm };
+        em.model = EmitterModel::Radiator(spec);
+        existing.apply(Edit::SetNodeKind { id, kind: NodeKind::Emitter(em) }).unwrap();
+    }
+    // Re-run at the target: every upgraded room is now covered.
+    let r2 = sweep::sweep(&existing, &SweepSpec { from_c: 45.0, to_c: 45.0, ..spec() }).unwrap();
+    for u in &r.upgrades {
+        let e = r2.points[0].emitters.iter().find(|e| e.id == u.id).unwrap();
+        assert!(e.fraction >= 1.0, "{} still short after the upgrade: {}", u.id, e.fraction);
+    }
+}
+
+fn valve_dps(p: &Project, closed: &BTreeSet<NodeId>) -> Vec<(String, Vec<(String, f64)>)> {
+    sweep::part_load(p, closed)
+        .unwrap()
+        .into_iter()
+        .map(|c| (c.control, c.emitters.into_iter().map(|e| (e.id, e.valve_dp_kpa)).collect()))
+        .collect()
+}
+
+/// Closing half the valves: under a fixed-speed pump the pump climbs its
+/// curve and the open valves see clearly more Δp. Under constant-Δp control
+/// the pump holds its head, so an open valve's Δp can rise at most by what
+/// the rest of its circuit (shared pipes, emitter body) stops dropping — it
+/// stays about constant where that rest is small — and it always rises less
+/// than under fixed speed.
+#[test]
+fn closing_valves_raises_dp_under_fixed_speed_and_not_under_constant_dp() {
+    for name in ["flat-six-radiators.ron", "office-reverse-return.ron", "apartment-block-heat-pump.ron"] {
+        let p = demo(name);
+        let base = solve_project(&p, &SolveOptions::default(), &mut Workspace::default());
+        let none = valve_dps(&p, &BTreeSet::new());
+        let closed = sweep::random_closed_set(&p, 0.5, 3);
+        assert!(!closed.is_empty());
+        let half = valve_dps(&p, &closed);
+        let dp = |set: &[(String, Vec<(String, f64)>)], mode: &str, id: &str| {
+            set.iter().find(|(m, _)| m == mode).unwrap().1.iter().find(|(i, _)| i == id).unwrap().1
+        };
+        let open: Vec<String> = half[0].1.iter().map(|(id, _)| id.clone()).collect();
+        for id in &open {
+            let fs = dp(&half, "fixed speed", id) / dp(&none, "fixed speed", id) - 1.0;
+            let cdp_before = dp(&none, "constant Δp", id);
+            let cdp_after = dp(&half, "constant Δp", id);
+            let cdp = cdp_after / cdp_before - 1.0;
+            assert!(fs > 0.02, "{name} {id}: fixed speed Δp must rise ({:+.1} %)", fs * 100.0);
+            assert!(cdp < fs, "{name} {id}: constant Δp rise {:+.1} % vs fixed speed {:+.1} %", cdp * 100.0, fs * 100.0);
+            let rest_kpa = base.emitters.iter().find(|e| e.id.to_string() == *id).unwrap().circuit_rest_pa / 1000.0;
+            assert!(
+                cdp_after - cdp_before <= rest_kpa + 1e-6,
+                "{name} {id}: under constant Δp the valve gains {:.2} kPa, more than the rest of its circuit ({rest_kpa:.2} kPa)",
+                cdp_after - cdp_before
+            );
+        }
+    }
+}
+
+#[test]
+fn random_closed_set_is_deterministic() {
+    let p = demo("apartment-block-heat-pump.ron");
+    assert_eq!(sweep::random_closed_set(&p, 0.25, 9), sweep::random_closed_set(&p, 0.25, 9));
+    assert_eq!(sweep::random_closed_set(&p, 0.25, 9).len(), 4);
+}
