@@ -4,7 +4,7 @@
 use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec};
 use flowrise_core::project::{
-    Edit, Emitter, EmitterValves, HeatSource, Header, LevelId, NodeId, NodeKind, PlanPoint, Project, PumpSpec, RunId,
+    Edit, Emitter, EmitterValves, Header, HeatSource, LevelId, NodeId, NodeKind, PlanPoint, Project, PumpSpec, RunId,
 };
 use flowrise_core::pump::PumpControl;
 
@@ -34,7 +34,15 @@ impl Builder {
     }
 
     /// A heat source with a circulator of the given three curve points.
-    pub fn source(&mut self, level: LevelId, x: f64, y: f64, capacity_w: f64, curve: [(f64, f64); 3], control: PumpControl) -> NodeId {
+    pub fn source(
+        &mut self,
+        level: LevelId,
+        x: f64,
+        y: f64,
+        capacity_w: f64,
+        curve: [(f64, f64); 3],
+        control: PumpControl,
+    ) -> NodeId {
         let kind = NodeKind::Source(HeatSource {
             name: "Heat source".to_owned(),
             capacity_w,
@@ -64,7 +72,16 @@ impl Builder {
     }
 
     /// An emitter with any model.
-    pub fn emitter(&mut self, level: LevelId, x: f64, y: f64, name: &str, load_w: f64, room_c: f64, model: EmitterModel) -> NodeId {
+    pub fn emitter(
+        &mut self,
+        level: LevelId,
+        x: f64,
+        y: f64,
+        name: &str,
+        load_w: f64,
+        room_c: f64,
+        model: EmitterModel,
+    ) -> NodeId {
         let kind = NodeKind::Emitter(Emitter { name: name.to_owned(), room_c, load_w, model, valves: self.valves() });
         self.node(level, x, y, kind)
     }
@@ -104,7 +121,17 @@ impl Builder {
 
     /// A floor loop (16x2 PE-X, 150 mm spacing) over `area_m2`.
     #[allow(clippy::too_many_arguments)] // reason: a floor loop is described by these
-    pub fn floor_loop(&mut self, level: LevelId, x: f64, y: f64, name: &str, load_w: f64, room_c: f64, area_m2: f64, zone: FloorZone) -> NodeId {
+    pub fn floor_loop(
+        &mut self,
+        level: LevelId,
+        x: f64,
+        y: f64,
+        name: &str,
+        load_w: f64,
+        room_c: f64,
+        area_m2: f64,
+        zone: FloorZone,
+    ) -> NodeId {
         let model = EmitterModel::FloorLoop(FloorLoopSpec {
             area_m2,
             zone,
@@ -126,13 +153,24 @@ impl Builder {
 
     /// Use valve family `family` on emitter `id`.
     pub fn set_valve_family(&mut self, id: NodeId, family: &str) {
-        let Some(NodeKind::Emitter(mut e)) = self.p.node(id).map(|n| n.kind.clone()) else { panic!("{id} is not an emitter") };
+        let Some(NodeKind::Emitter(mut e)) = self.p.node(id).map(|n| n.kind.clone()) else {
+            panic!("{id} is not an emitter")
+        };
         e.valves.valve_family = family.to_owned();
         self.p.apply(Edit::SetNodeKind { id, kind: NodeKind::Emitter(e) }).unwrap();
     }
 
     /// A fan coil–like terminal with a fixed Kv.
-    pub fn terminal(&mut self, level: LevelId, x: f64, y: f64, name: &str, load_w: f64, room_c: f64, nominal_w: f64) -> NodeId {
+    pub fn terminal(
+        &mut self,
+        level: LevelId,
+        x: f64,
+        y: f64,
+        name: &str,
+        load_w: f64,
+        room_c: f64,
+        nominal_w: f64,
+    ) -> NodeId {
         let model = EmitterModel::Terminal(TerminalSpec {
             nominal_output_w: nominal_w,
             nominal_supply_c: 70.0,

@@ -9,18 +9,13 @@ use std::path::PathBuf;
 /// Path of a file under `tests/reference/fixtures/`.
 #[must_use]
 pub fn fixture_path(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("reference")
-        .join("fixtures")
-        .join(name)
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("reference").join("fixtures").join(name)
 }
 
 /// Path of the repository root.
 #[must_use]
 pub fn repo_root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .parent()
-        .map_or_else(|| PathBuf::from("."), std::path::Path::to_path_buf)
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).parent().map_or_else(|| PathBuf::from("."), std::path::Path::to_path_buf)
 }
 
 pub mod builder;

@@ -54,8 +54,12 @@ fn pipeline(c: &mut Criterion) {
         });
 
         let text = project.to_ron().expect("ron");
-        g.bench_function(BenchmarkId::new("load", n), |b| b.iter(|| black_box(Project::from_ron(&text).expect("load"))));
-        g.bench_function(BenchmarkId::new("save_to_text", n), |b| b.iter(|| black_box(project.to_ron().expect("save"))));
+        g.bench_function(BenchmarkId::new("load", n), |b| {
+            b.iter(|| black_box(Project::from_ron(&text).expect("load")))
+        });
+        g.bench_function(BenchmarkId::new("save_to_text", n), |b| {
+            b.iter(|| black_box(project.to_ron().expect("save")))
+        });
 
         let sol = solve_project(&project, &opts, &mut Workspace::default());
         let popts = PartsOptions::default();

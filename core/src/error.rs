@@ -12,34 +12,16 @@ use thiserror::Error;
 pub enum PhysicsError {
     /// A value that is NaN or infinite.
     #[error("{quantity} is not a finite number ({value}); give a finite value in {unit}")]
-    NotFinite {
-        quantity: &'static str,
-        value: f64,
-        unit: &'static str,
-    },
+    NotFinite { quantity: &'static str, value: f64, unit: &'static str },
     /// A value that must be strictly positive.
     #[error("{quantity} = {value} {unit} must be greater than zero")]
-    NotPositive {
-        quantity: &'static str,
-        value: f64,
-        unit: &'static str,
-    },
+    NotPositive { quantity: &'static str, value: f64, unit: &'static str },
     /// A value that must be zero or positive.
     #[error("{quantity} = {value} {unit} must not be negative")]
-    Negative {
-        quantity: &'static str,
-        value: f64,
-        unit: &'static str,
-    },
+    Negative { quantity: &'static str, value: f64, unit: &'static str },
     /// A value outside the range a model is valid for.
     #[error("{quantity} = {value} {unit} is outside the valid range {min} to {max} {unit}")]
-    OutOfRange {
-        quantity: &'static str,
-        value: f64,
-        unit: &'static str,
-        min: f64,
-        max: f64,
-    },
+    OutOfRange { quantity: &'static str, value: f64, unit: &'static str, min: f64, max: f64 },
     /// Two or more inputs that contradict each other (e.g. return ≥ supply).
     #[error("{0}")]
     Inconsistent(String),
@@ -63,11 +45,7 @@ pub mod check {
     /// # Errors
     /// [`PhysicsError::NotFinite`] when it is NaN or infinite.
     pub fn finite(quantity: &'static str, value: f64, unit: &'static str) -> Result<f64, PhysicsError> {
-        if value.is_finite() {
-            Ok(value)
-        } else {
-            Err(PhysicsError::NotFinite { quantity, value, unit })
-        }
+        if value.is_finite() { Ok(value) } else { Err(PhysicsError::NotFinite { quantity, value, unit }) }
     }
 
     /// `value` must be finite and > 0.
@@ -76,11 +54,7 @@ pub mod check {
     /// [`PhysicsError::NotFinite`] or [`PhysicsError::NotPositive`].
     pub fn positive(quantity: &'static str, value: f64, unit: &'static str) -> Result<f64, PhysicsError> {
         finite(quantity, value, unit)?;
-        if value > 0.0 {
-            Ok(value)
-        } else {
-            Err(PhysicsError::NotPositive { quantity, value, unit })
-        }
+        if value > 0.0 { Ok(value) } else { Err(PhysicsError::NotPositive { quantity, value, unit }) }
     }
 
     /// `value` must be finite and ≥ 0.
@@ -89,11 +63,7 @@ pub mod check {
     /// [`PhysicsError::NotFinite`] or [`PhysicsError::Negative`].
     pub fn non_negative(quantity: &'static str, value: f64, unit: &'static str) -> Result<f64, PhysicsError> {
         finite(quantity, value, unit)?;
-        if value >= 0.0 {
-            Ok(value)
-        } else {
-            Err(PhysicsError::Negative { quantity, value, unit })
-        }
+        if value >= 0.0 { Ok(value) } else { Err(PhysicsError::Negative { quantity, value, unit }) }
     }
 
     /// `value` must be finite and within `[min, max]`.

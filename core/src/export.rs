@@ -146,7 +146,9 @@ pub fn reference_fluid(net: &HydraulicNetwork) -> PhysicsResult<ReferenceFluid> 
         }
     }
     if net.links.is_empty() {
-        return Err(PhysicsError::Inconsistent("the network has no links — solve a project with emitters first".into()));
+        return Err(PhysicsError::Inconsistent(
+            "the network has no links — solve a project with emitters first".into(),
+        ));
     }
     let density_kg_m3 = 0.5 * (lo + hi);
     check::in_range("link density", density_kg_m3, "kg/m³", 500.0, 2000.0)?;
@@ -489,7 +491,10 @@ mod tests {
         let p = generate_building(&BuildingSpec::new(1, 3)).unwrap();
         let sol = solve_project(&p, &SolveOptions::default(), &mut Workspace::default());
         let bad = ExportOptions { accuracy: f64::NAN, ..ExportOptions::default() };
-        assert!(matches!(network_to_inp(&sol, "x", &bad), Err(PhysicsError::NotFinite { .. } | PhysicsError::OutOfRange { .. })));
+        assert!(matches!(
+            network_to_inp(&sol, "x", &bad),
+            Err(PhysicsError::NotFinite { .. } | PhysicsError::OutOfRange { .. })
+        ));
         // Constant-Δp pump: a curve cannot represent it.
         let curve = ExportOptions { pump: PumpExport::Curve, ..ExportOptions::default() };
         assert!(network_to_inp(&sol, "x", &curve).is_err());

@@ -154,7 +154,11 @@ impl Draft {
 }
 
 fn valves(settings: &DesignSettings, family: &str) -> EmitterValves {
-    EmitterValves { valve_family: family.to_owned(), presetting: None, lockshield_family: settings.lockshield_family.clone() }
+    EmitterValves {
+        valve_family: family.to_owned(),
+        presetting: None,
+        lockshield_family: settings.lockshield_family.clone(),
+    }
 }
 
 /// Load in 10 W steps from `lo_w` to `hi_w`, W.
@@ -168,7 +172,12 @@ fn draw_room(rng: &mut SplitMix64) -> f64 {
 }
 
 fn radiator() -> EmitterModel {
-    EmitterModel::Radiator(RadiatorSpec { type_code: "22".to_owned(), height_mm: 600, sizing: RadiatorSizing::ToSize, exponent_n: None })
+    EmitterModel::Radiator(RadiatorSpec {
+        type_code: "22".to_owned(),
+        height_mm: 600,
+        sizing: RadiatorSizing::ToSize,
+        exponent_n: None,
+    })
 }
 
 fn floor_loop(area_m2: f64) -> EmitterModel {
@@ -194,10 +203,15 @@ fn source_kind(total_load_w: f64, curve: [(f64, f64); 3], duty_kpa: f64) -> Node
     let q_m3_h = (total_load_w / (4186.0 * 15.0) / 977.0 * 3600.0).max(0.05);
     NodeKind::Source(HeatSource {
         name: "Plant room".to_owned(),
-        capacity_w: (total_load_w * 1.15).max(1000.0),
-        kv_m3_h: q_m3_h / 0.1_f64.sqrt(),
+        // Clamped to the ranges a project accepts (100 MW, Kv 10,000).
+        capacity_w: (total_load_w * 1.15).clamp(1000.0, 1e8),
+        kv_m3_h: (q_m3_h / 0.1_f64.sqrt()).clamp(0.01, 10_000.0),
         water_content_l: (total_load_w / 1000.0 * 0.5).max(5.0),
-        pump: PumpSpec { curve_points: curve, control: PumpControl::ConstantDp { setpoint_kpa: duty_kpa }, design_flow_m3_h: None },
+        pump: PumpSpec {
+            curve_points: curve,
+            control: PumpControl::ConstantDp { setpoint_kpa: duty_kpa },
+            design_flow_m3_h: None,
+        },
     })
 }
 
@@ -307,8 +321,8 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
         nodes: d.nodes,
         runs: d.runs,
     };
-    let mut project =
-        Project::from_file(file).map_err(|e| PhysicsError::Inconsistent(format!("generated building does not validate: {e}")))?;
+    let mut project = Project::from_file(file)
+        .map_err(|e| PhysicsError::Inconsistent(format!("generated building does not validate: {e}")))?;
 
     // Pump for the building: duty head and design flow from a first pass.
     let sol = solve_project(&project, &SolveOptions::default(), &mut Workspace::default());

@@ -127,7 +127,7 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
     out!(s, "{} — {:.0}/{:.0} °C, {} emitters", p.name, s_.supply_c, s_.return_c, sol.emitters.len());
     if let Some(pump) = &sol.pump {
         out!(
-        s,
+            s,
             "load {:.2} kW · flow {:.0} l/h · pump duty {:.1} kPa (index {} at {:.1} kPa) · operating {:.0} l/h at {:.1} kPa",
             sol.heat_load_w / 1000.0,
             pump.design_flow_m3_h * 1000.0,
@@ -147,10 +147,22 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
         sol.timings.derive_ms + sol.timings.design_ms + sol.timings.operate_ms
     );
     out!(s, "\nemitters");
-    out!(s, "  {:<6} {:<22} {:>8} {:>8} {:>8} {:>8} {:>6} {:>6} {:>8}", "id", "name", "load W", "l/h", "out W", "ΔpC kPa", "preset", "auth", "ret °C");
+    out!(
+        s,
+        "  {:<6} {:<22} {:>8} {:>8} {:>8} {:>8} {:>6} {:>6} {:>8}",
+        "id",
+        "name",
+        "load W",
+        "l/h",
+        "out W",
+        "ΔpC kPa",
+        "preset",
+        "auth",
+        "ret °C"
+    );
     for e in &sol.emitters {
         out!(
-        s,
+            s,
             "  {:<6} {:<22} {:>8.0} {:>8.1} {:>8.0} {:>8.2} {:>6} {:>6.2} {:>8.1}",
             e.id.to_string(),
             truncate(&e.name, 22),
@@ -164,10 +176,21 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
         );
     }
     out!(s, "\npipes");
-    out!(s, "  {:<6} {:<7} {:>7} {:>8} {:>8} {:>7} {:>7} {:>8}", "run", "side", "m", "size", "l/h", "m/s", "Pa/m", "Δp kPa");
+    out!(
+        s,
+        "  {:<6} {:<7} {:>7} {:>8} {:>8} {:>7} {:>7} {:>8}",
+        "run",
+        "side",
+        "m",
+        "size",
+        "l/h",
+        "m/s",
+        "Pa/m",
+        "Δp kPa"
+    );
     for x in &sol.pipes {
         out!(
-        s,
+            s,
             "  {:<6} {:<7} {:>7.2} {:>8} {:>8.1} {:>7.3} {:>7.1} {:>8.3}",
             x.run.to_string(),
             if x.side == Side::Supply { "supply" } else { "return" },

@@ -109,8 +109,16 @@ pub enum PartCategory {
 
 impl PartCategory {
     /// Every category, in list order.
-    pub const ALL: [Self; 8] =
-        [Self::Pipe, Self::Fitting, Self::Emitter, Self::Valve, Self::Header, Self::Pump, Self::Vessel, Self::Insulation];
+    pub const ALL: [Self; 8] = [
+        Self::Pipe,
+        Self::Fitting,
+        Self::Emitter,
+        Self::Valve,
+        Self::Header,
+        Self::Pump,
+        Self::Vessel,
+        Self::Insulation,
+    ];
 
     /// Word used in tables and the CSV.
     #[must_use]
@@ -289,14 +297,30 @@ pub fn parts_list(p: &Project, sol: &Solution, opts: &PartsOptions) -> PhysicsRe
     Ok(PartsList { lines, options: *opts, notes })
 }
 
-/// Lines being grouped: key (category, item, size, note) → (unit, quantity, serves).
+/// Grouping key of a line: (category, item, size, note).
+type LineKey = (PartCategory, String, String, String);
+
+/// A group being summed: unit, quantity, ids served.
+type LineSum = (PartUnit, f64, BTreeSet<String>);
+
+/// Lines being grouped by [`LineKey`].
 #[derive(Debug, Default)]
 struct Acc {
-    groups: BTreeMap<(PartCategory, String, String, String), (PartUnit, f64, BTreeSet<String>)>,
+    groups: BTreeMap<LineKey, LineSum>,
 }
 
 impl Acc {
-    fn add(&mut self, category: PartCategory, item: String, size: String, note: String, unit: PartUnit, qty: f64, serves: &[String]) {
+    #[allow(clippy::too_many_arguments)] // reason: one call per line kind reads best with the fields spelled out
+    fn add(
+        &mut self,
+        category: PartCategory,
+        item: String,
+        size: String,
+        note: String,
+        unit: PartUnit,
+        qty: f64,
+        serves: &[String],
+    ) {
         let e = self.groups.entry((category, item, size, note)).or_insert((unit, 0.0, BTreeSet::new()));
         e.1 += qty;
         e.2.extend(serves.iter().cloned());
@@ -369,8 +393,8 @@ fn pipe_lines(sol: &Solution, opts: &PartsOptions, acc: &mut Acc) -> PhysicsResu
     }
     for ((side, series_id, size), (length_m, serves)) in net {
         let series = pipes::find_series(&series_id)?;
-        let stock = stock_length_m(series.material)
-            .map_or_else(|| "coils".to_owned(), |l| format!("{l:.0} m stock lengths"));
+        let stock =
+            stock_length_m(series.material).map_or_else(|| "coils".to_owned(), |l| format!("{l:.0} m stock lengths"));
         let note = format!(
             "{} ({}); net {length_m:.2} m + {:.0} % cutting allowance (common practice); {stock}",
             series.standard,
@@ -443,7 +467,12 @@ fn pipe_bends(p: &Project, topo: &Topology, pr: &PipeResult) -> (u32, u32) {
         .then(|| topo.reverse_chains.iter().find(|ch| ch.runs.first() == Some(&pr.run)))
         .flatten();
     let (mut n90, n45) = match chain {
-        Some(ch) => ch.runs.iter().filter_map(|&r| p.run(r)).map(|r| bends_in_run(p, r)).fold((0, 0), |a, b| (a.0 + b.0, a.1 + b.1)),
+        Some(ch) => ch
+            .runs
+            .iter()
+            .filter_map(|&r| p.run(r))
+            .map(|r| bends_in_run(p, r))
+            .fold((0, 0), |a, b| (a.0 + b.0, a.1 + b.1)),
         None => bends_in_run(p, run),
     };
     if p.is_vertical(run) {
@@ -474,8 +503,24 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
         let serves = [pr.run.to_string()];
         let (n90, n45) = pipe_bends(p, topo, pr);
         let note = "from the run geometry and riser foot/head (as the design counts them)".to_owned();
-        acc.add(PartCategory::Fitting, format!("bend 90°, {mat}"), pr.size.clone(), note.clone(), PartUnit::Piece, f64::from(n90), &serves);
-        acc.add(PartCategory::Fitting, format!("bend 45°, {mat}"), pr.size.clone(), note, PartUnit::Piece, f64::from(n45), &serves);
+        acc.add(
+            PartCategory::Fitting,
+            format!("bend 90°, {mat}"),
+            pr.size.clone(),
+            note.clone(),
+            PartUnit::Piece,
+            f64::from(n90),
+            &serves,
+        );
+        acc.add(
+            PartCategory::Fitting,
+            format!("bend 45°, {mat}"),
+            pr.size.clone(),
+            note,
+            PartUnit::Piece,
+            f64::from(n45),
+            &serves,
+        );
         if let Some(stock) = stock_length_m(series.material) {
             let couplings = ((pr.length_m / stock).ceil() - 1.0).max(0.0);
             acc.add(
@@ -524,19 +569,18 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
         }
         match list.as_slice() {
             [a, b] => {
-                if a.size != b.size || a.series != b.series {
-                    if a.series == b.series {
-                        let (big, small) = if a.inner_mm >= b.inner_mm { (a, b) } else { (b, a) };
-                        acc.add(
-                            PartCategory::Fitting,
-                            format!("reducer, {mat}"),
-                            format!("{} × {}", big.size, small.size),
-                            "size change between two runs".to_owned(),
-                            PartUnit::Piece,
-                            1.0,
-                            &serves,
-                        );
-                    }
+                // A size change within one series (a series change is an adaptor, above).
+                if a.series == b.series && a.size != b.size {
+                    let (big, small) = if a.inner_mm >= b.inner_mm { (a, b) } else { (b, a) };
+                    acc.add(
+                        PartCategory::Fitting,
+                        format!("reducer, {mat}"),
+                        format!("{} × {}", big.size, small.size),
+                        "size change between two runs".to_owned(),
+                        PartUnit::Piece,
+                        1.0,
+                        &serves,
+                    );
                 }
                 // A bend where two horizontal runs meet at an angle.
                 let (Some(ra), Some(rb)) = (p.run(a.run), p.run(b.run)) else { continue };
@@ -544,7 +588,10 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
                 if p.is_vertical(ra) || p.is_vertical(rb) || !touches(ra) || !touches(rb) {
                     continue;
                 }
-                let (Some(da), Some(db)) = (leaving_direction(p, ra, node_id), leaving_direction(p, rb, node_id)) else { continue };
+                let (Some(da), Some(db)) = (leaving_direction(p, ra, node_id), leaving_direction(p, rb, node_id))
+                else {
+                    continue;
+                };
                 // Turn = 180° − angle between the two leaving directions.
                 let turn = 180.0 - (da.0 * db.0 + da.1 * db.1).clamp(-1.0, 1.0).acos().to_degrees();
                 let kind = if turn >= 60.0 {
@@ -559,7 +606,8 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
                     PartCategory::Fitting,
                     format!("{kind}, {mat}"),
                     size.clone(),
-                    "at a junction of two runs (not in the design's friction, which counts bends inside runs)".to_owned(),
+                    "at a junction of two runs (not in the design's friction, which counts bends inside runs)"
+                        .to_owned(),
                     PartUnit::Piece,
                     1.0,
                     &serves,
@@ -618,7 +666,10 @@ fn emitter_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
                     PartCategory::Emitter,
                     item,
                     format!("{} × {} mm", spec.height_mm, r.length_mm),
-                    format!("nominal output {:.0} W at 75/65/20 °C (EN 442), n = {:.2}", r.nominal_output_w, r.exponent_n),
+                    format!(
+                        "nominal output {:.0} W at 75/65/20 °C (EN 442), n = {:.2}",
+                        r.nominal_output_w, r.exponent_n
+                    ),
                     PartUnit::Piece,
                     1.0,
                     &serves,
@@ -664,8 +715,10 @@ fn valve_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
     for e in &sol.emitters {
         let Some(NodeKind::Emitter(em)) = p.node(e.id).map(|n| &n.kind) else { continue };
         let serves = [e.id.to_string()];
-        let (name, size) = valves::valve_family(&em.valves.valve_family)
-            .map_or_else(|_| (em.valves.valve_family.clone(), String::new()), |f| (f.name.clone(), format!("DN{}", f.connection_dn)));
+        let (name, size) = valves::valve_family(&em.valves.valve_family).map_or_else(
+            |_| (em.valves.valve_family.clone(), String::new()),
+            |f| (f.name.clone(), format!("DN{}", f.connection_dn)),
+        );
         acc.add(
             PartCategory::Valve,
             name,
@@ -678,11 +731,23 @@ fn valve_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
         let (name, size, open) = valves::valve_family(&em.valves.lockshield_family).map_or_else(
             |_| (em.valves.lockshield_family.clone(), String::new(), String::new()),
             |f| {
-                let open = f.settings.last().map_or_else(String::new, |s| format!(" (setting {})", s.label));
+                let open = f
+                    .settings
+                    .last()
+                    .filter(|s| !s.label.eq_ignore_ascii_case("open"))
+                    .map_or_else(String::new, |s| format!(" (setting {})", s.label));
                 (f.name.clone(), format!("DN{}", f.connection_dn), open)
             },
         );
-        acc.add(PartCategory::Valve, name, size, format!("lockshield, fully open{open} as designed"), PartUnit::Piece, 1.0, &serves);
+        acc.add(
+            PartCategory::Valve,
+            name,
+            size,
+            format!("lockshield, fully open{open} as designed"),
+            PartUnit::Piece,
+            1.0,
+            &serves,
+        );
     }
 }
 
@@ -699,7 +764,11 @@ fn header_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) {
             PartCategory::Header,
             "header: distributor + collector pair".to_owned(),
             format!("{} outlets", h.outlets),
-            format!("{}: {used} outlets used, {} spare{inlet}", h.name, h.outlets.saturating_sub(u32::try_from(used).unwrap_or(u32::MAX))),
+            format!(
+                "{}: {used} outlets used, {} spare{inlet}",
+                h.name,
+                h.outlets.saturating_sub(u32::try_from(used).unwrap_or(u32::MAX))
+            ),
             PartUnit::Piece,
             1.0,
             &[node.id.to_string()],
@@ -714,7 +783,9 @@ fn plant_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
         let control = match pump.control {
             PumpControl::FixedSpeed => "fixed speed".to_owned(),
             PumpControl::ConstantDp { setpoint_kpa } => format!("constant Δp {setpoint_kpa:.1} kPa"),
-            PumpControl::ProportionalDp { setpoint_kpa } => format!("proportional Δp {setpoint_kpa:.1} kPa at design flow"),
+            PumpControl::ProportionalDp { setpoint_kpa } => {
+                format!("proportional Δp {setpoint_kpa:.1} kPa at design flow")
+            }
         };
         acc.add(
             PartCategory::Pump,
@@ -744,7 +815,15 @@ fn plant_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
                 format!("EN 12828 minimum {:.1} l is above 300 l: several vessels in parallel", v.nominal_volume_l),
             ),
         };
-        acc.add(PartCategory::Vessel, "expansion vessel (diaphragm)".to_owned(), size, note, PartUnit::Piece, 1.0, &serves);
+        acc.add(
+            PartCategory::Vessel,
+            "expansion vessel (diaphragm)".to_owned(),
+            size,
+            note,
+            PartUnit::Piece,
+            1.0,
+            &serves,
+        );
     }
 }
 
@@ -809,7 +888,8 @@ pub fn read_parts_csv(text: &str) -> Result<Vec<PartLine>, PartsCsvError> {
         let row = i + 1;
         let field = |k: usize| rec.get(k).unwrap_or_default().to_owned();
         let bad = |message: String| PartsCsvError::Row { row, message };
-        let category = PartCategory::from_label(&field(0)).ok_or_else(|| bad(format!("unknown category {:?}", field(0))))?;
+        let category =
+            PartCategory::from_label(&field(0)).ok_or_else(|| bad(format!("unknown category {:?}", field(0))))?;
         let quantity: f64 = field(3).parse().map_err(|_| bad(format!("quantity {:?} is not a number", field(3))))?;
         check::non_negative("quantity", quantity, "").map_err(|e: PhysicsError| bad(e.to_string()))?;
         let unit = PartUnit::from_symbol(&field(4)).ok_or_else(|| bad(format!("unknown unit {:?}", field(4))))?;

@@ -56,9 +56,7 @@ impl TryFrom<PumpCurvePoints> for PumpCurve {
 
 impl From<PumpCurve> for PumpCurvePoints {
     fn from(c: PumpCurve) -> Self {
-        Self {
-            points_m3_h_kpa: c.points,
-        }
+        Self { points_m3_h_kpa: c.points }
     }
 }
 
@@ -123,13 +121,7 @@ impl PumpCurve {
                     .to_owned(),
             ));
         }
-        Ok(Self {
-            points,
-            a0_kpa: a0,
-            a1_kpa_h_m3: a1,
-            a2_kpa_h2_m6: a2,
-            max_flow_m3_h,
-        })
+        Ok(Self { points, a0_kpa: a0, a1_kpa_h_m3: a1, a2_kpa_h2_m6: a2, max_flow_m3_h })
     }
 
     /// The three points the curve was built from, as given.
@@ -197,10 +189,7 @@ fn smallest_positive_root(a0: f64, a1: f64, a2: f64) -> Option<f64> {
         roots.push(a0 / qq);
         roots.push(qq / a2);
     }
-    roots
-        .into_iter()
-        .filter(|r| r.is_finite() && *r > 0.0)
-        .reduce(f64::min)
+    roots.into_iter().filter(|r| r.is_finite() && *r > 0.0).reduce(f64::min)
 }
 
 /// How the pump is controlled. Every mode is bounded by the maximum curve.
@@ -245,9 +234,7 @@ impl PumpControl {
             Self::FixedSpeed => None,
             Self::ConstantDp { setpoint_kpa } => Some(setpoint_kpa),
             Self::ProportionalDp { setpoint_kpa } => Some(
-                setpoint_kpa
-                    * (PROPORTIONAL_ZERO_FLOW_SHARE
-                        + (1.0 - PROPORTIONAL_ZERO_FLOW_SHARE) * q / q_design),
+                setpoint_kpa * (PROPORTIONAL_ZERO_FLOW_SHARE + (1.0 - PROPORTIONAL_ZERO_FLOW_SHARE) * q / q_design),
             ),
         }
     }
@@ -258,12 +245,7 @@ impl PumpControl {
     /// # Errors
     /// [`PhysicsError`] when the flow is negative, the design flow is not
     /// positive, or the set-point is not positive.
-    pub fn head_kpa(
-        &self,
-        curve: &PumpCurve,
-        flow_m3_h: f64,
-        design_flow_m3_h: f64,
-    ) -> PhysicsResult<f64> {
+    pub fn head_kpa(&self, curve: &PumpCurve, flow_m3_h: f64, design_flow_m3_h: f64) -> PhysicsResult<f64> {
         self.check()?;
         check::positive("pump design flow", design_flow_m3_h, "m³/h")?;
         let h_curve = curve.head_kpa(flow_m3_h)?;
@@ -314,19 +296,13 @@ pub fn operating_point_with_static(
     system_static_kpa: f64,
     design_flow_m3_h: f64,
 ) -> PhysicsResult<OperatingPoint> {
-    check::positive(
-        "system curve coefficient k",
-        system_k_kpa_per_m3h2,
-        "kPa/(m³/h)²",
-    )?;
+    check::positive("system curve coefficient k", system_k_kpa_per_m3h2, "kPa/(m³/h)²")?;
     check::non_negative("system static head", system_static_kpa, "kPa")?;
     check::positive("pump design flow", design_flow_m3_h, "m³/h")?;
     control.check()?;
     let effective = |q: f64| {
         let h = curve.eval(q);
-        control
-            .control_head_kpa(q, design_flow_m3_h)
-            .map_or(h, |c| c.min(h))
+        control.control_head_kpa(q, design_flow_m3_h).map_or(h, |c| c.min(h))
     };
     let excess = |q: f64| effective(q) - system_static_kpa - system_k_kpa_per_m3h2 * q * q;
     if excess(0.0) <= 0.0 {
@@ -350,14 +326,8 @@ pub fn operating_point_with_static(
     }
     let q = 0.5 * (lo + hi);
     let h_curve = curve.eval(q);
-    let on_max_curve = control
-        .control_head_kpa(q, design_flow_m3_h)
-        .is_none_or(|c| c >= h_curve);
-    Ok(OperatingPoint {
-        flow_m3_h: q,
-        head_kpa: effective(q),
-        on_max_curve,
-    })
+    let on_max_curve = control.control_head_kpa(q, design_flow_m3_h).is_none_or(|c| c >= h_curve);
+    Ok(OperatingPoint { flow_m3_h: q, head_kpa: effective(q), on_max_curve })
 }
 
 /// Hydraulic power delivered to the water, W: P = Q · Δp.
@@ -377,23 +347,9 @@ pub fn hydraulic_power_w(flow_m3_h: f64, head_kpa: f64) -> PhysicsResult<f64> {
 /// # Errors
 /// [`PhysicsError`] when flow or head is negative, or the efficiency is
 /// outside (0, 1].
-pub fn electrical_power_w(
-    flow_m3_h: f64,
-    head_kpa: f64,
-    wire_to_water_efficiency: f64,
-) -> PhysicsResult<f64> {
-    check::positive(
-        "pump wire-to-water efficiency",
-        wire_to_water_efficiency,
-        "",
-    )?;
-    check::in_range(
-        "pump wire-to-water efficiency",
-        wire_to_water_efficiency,
-        "",
-        0.0,
-        1.0,
-    )?;
+pub fn electrical_power_w(flow_m3_h: f64, head_kpa: f64, wire_to_water_efficiency: f64) -> PhysicsResult<f64> {
+    check::positive("pump wire-to-water efficiency", wire_to_water_efficiency, "")?;
+    check::in_range("pump wire-to-water efficiency", wire_to_water_efficiency, "", 0.0, 1.0)?;
     Ok(hydraulic_power_w(flow_m3_h, head_kpa)? / wire_to_water_efficiency)
 }
 
@@ -427,8 +383,7 @@ pub fn to_mass_flow_coefficients(
         PumpControl::ConstantDp { setpoint_kpa } => (setpoint_kpa * 1000.0, 0.0, 0.0),
         PumpControl::ProportionalDp { setpoint_kpa } => {
             let base = setpoint_kpa * 1000.0 * PROPORTIONAL_ZERO_FLOW_SHARE;
-            let slope = setpoint_kpa * 1000.0 * (1.0 - PROPORTIONAL_ZERO_FLOW_SHARE)
-                / design_mass_flow_kg_s;
+            let slope = setpoint_kpa * 1000.0 * (1.0 - PROPORTIONAL_ZERO_FLOW_SHARE) / design_mass_flow_kg_s;
             (base, slope, 0.0)
         }
     })
@@ -460,12 +415,8 @@ impl PumpLaw {
         density_kg_m3: f64,
         design_mass_flow_kg_s: f64,
     ) -> PhysicsResult<Self> {
-        let control_pa =
-            to_mass_flow_coefficients(curve, control, density_kg_m3, design_mass_flow_kg_s)?;
-        Ok(Self {
-            control_pa,
-            curve_pa: curve_in_mass_flow(curve, density_kg_m3),
-        })
+        let control_pa = to_mass_flow_coefficients(curve, control, density_kg_m3, design_mass_flow_kg_s)?;
+        Ok(Self { control_pa, curve_pa: curve_in_mass_flow(curve, density_kg_m3) })
     }
 
     fn eval(c: (f64, f64, f64), m: f64) -> f64 {
@@ -547,34 +498,18 @@ mod tests {
         assert!(close(op.head_kpa, c.head_kpa(op.flow_m3_h).unwrap(), 1e-10));
         assert!(op.on_max_curve);
         // Analytic: 60 − 4.444 Q² = 5 Q² → Q² = 60/9.444 = 6.353
-        assert!(close(
-            op.flow_m3_h,
-            (60.0 / (5.0 + 20.0 / 4.5_f64)).sqrt(),
-            1e-10
-        ));
+        assert!(close(op.flow_m3_h, (60.0 / (5.0 + 20.0 / 4.5_f64)).sqrt(), 1e-10));
     }
 
     #[test]
     fn constant_dp_gives_the_setpoint() {
         let c = curve();
-        let op = operating_point(
-            &c,
-            &PumpControl::ConstantDp { setpoint_kpa: 30.0 },
-            10.0,
-            2.0,
-        )
-        .unwrap();
+        let op = operating_point(&c, &PumpControl::ConstantDp { setpoint_kpa: 30.0 }, 10.0, 2.0).unwrap();
         assert!(close(op.head_kpa, 30.0, 1e-10));
         assert!(close(op.flow_m3_h, 3.0_f64.sqrt(), 1e-10));
         assert!(!op.on_max_curve);
         // Set-point above what the curve gives at that flow: bounded by the curve.
-        let op = operating_point(
-            &c,
-            &PumpControl::ConstantDp { setpoint_kpa: 55.0 },
-            2.0,
-            2.0,
-        )
-        .unwrap();
+        let op = operating_point(&c, &PumpControl::ConstantDp { setpoint_kpa: 55.0 }, 2.0, 2.0).unwrap();
         assert!(op.on_max_curve);
         assert!(close(op.head_kpa, c.head_kpa(op.flow_m3_h).unwrap(), 1e-10));
     }
@@ -583,26 +518,17 @@ mod tests {
     fn proportional_dp_hits_setpoint_at_design_flow() {
         // System sized so that the design point is (2 m³/h, 40 kPa): k = 10.
         let c = curve();
-        let op = operating_point(
-            &c,
-            &PumpControl::ProportionalDp { setpoint_kpa: 40.0 },
-            10.0,
-            2.0,
-        )
-        .unwrap();
+        let op = operating_point(&c, &PumpControl::ProportionalDp { setpoint_kpa: 40.0 }, 10.0, 2.0).unwrap();
         assert!(close(op.flow_m3_h, 2.0, 1e-10));
         assert!(close(op.head_kpa, 40.0, 1e-10));
         // At zero flow the line gives half the set-point.
-        let h0 = PumpControl::ProportionalDp { setpoint_kpa: 40.0 }
-            .head_kpa(&c, 0.0, 2.0)
-            .unwrap();
+        let h0 = PumpControl::ProportionalDp { setpoint_kpa: 40.0 }.head_kpa(&c, 0.0, 2.0).unwrap();
         assert!(close(h0, 20.0, 1e-12));
     }
 
     #[test]
     fn static_head_too_high_has_no_operating_point() {
-        let e = operating_point_with_static(&curve(), &PumpControl::FixedSpeed, 1.0, 70.0, 2.0)
-            .unwrap_err();
+        let e = operating_point_with_static(&curve(), &PumpControl::FixedSpeed, 1.0, 70.0, 2.0).unwrap_err();
         assert!(matches!(e, PhysicsError::Inconsistent(_)));
     }
 
@@ -613,15 +539,7 @@ mod tests {
         assert!(c.dhead_dflow_kpa_h_m3(f64::NAN).is_err());
         assert!(operating_point(&c, &PumpControl::FixedSpeed, 0.0, 2.0).is_err());
         assert!(operating_point(&c, &PumpControl::FixedSpeed, 1.0, -2.0).is_err());
-        assert!(
-            operating_point(
-                &c,
-                &PumpControl::ConstantDp { setpoint_kpa: -5.0 },
-                1.0,
-                2.0
-            )
-            .is_err()
-        );
+        assert!(operating_point(&c, &PumpControl::ConstantDp { setpoint_kpa: -5.0 }, 1.0, 2.0).is_err());
         assert!(hydraulic_power_w(-1.0, 10.0).is_err());
         assert!(electrical_power_w(1.0, 10.0, 0.0).is_err());
         assert!(electrical_power_w(1.0, 10.0, 1.5).is_err());
@@ -633,42 +551,23 @@ mod tests {
     fn power() {
         // 1 m³/h at 36 kPa: 1/3600 m³/s · 36 000 Pa = 10 W.
         assert!(close(hydraulic_power_w(1.0, 36.0).unwrap(), 10.0, 1e-12));
-        assert!(close(
-            electrical_power_w(1.0, 36.0, 0.25).unwrap(),
-            40.0,
-            1e-12
-        ));
+        assert!(close(electrical_power_w(1.0, 36.0, 0.25).unwrap(), 40.0, 1e-12));
     }
 
     #[test]
     fn mass_flow_coefficients_match_volume_form() {
         let c = curve();
         let rho = 977.0;
-        let (a0, a1, a2) =
-            to_mass_flow_coefficients(&c, &PumpControl::FixedSpeed, rho, 0.5).unwrap();
+        let (a0, a1, a2) = to_mass_flow_coefficients(&c, &PumpControl::FixedSpeed, rho, 0.5).unwrap();
         for m in [0.0, 0.2, 0.5, 0.9] {
             let q = 3600.0 * m / rho;
-            assert!(close(
-                a0 + a1 * m + a2 * m * m,
-                c.head_kpa(q).unwrap() * 1000.0,
-                1e-10
-            ));
+            assert!(close(a0 + a1 * m + a2 * m * m, c.head_kpa(q).unwrap() * 1000.0, 1e-10));
         }
-        let (b0, b1, b2) = to_mass_flow_coefficients(
-            &c,
-            &PumpControl::ProportionalDp { setpoint_kpa: 40.0 },
-            rho,
-            0.5,
-        )
-        .unwrap();
+        let (b0, b1, b2) =
+            to_mass_flow_coefficients(&c, &PumpControl::ProportionalDp { setpoint_kpa: 40.0 }, rho, 0.5).unwrap();
         assert!(close(b0, 20_000.0, 1e-12) && close(b1, 40_000.0, 1e-12) && b2.abs() < 1e-12);
-        let (d0, d1, d2) = to_mass_flow_coefficients(
-            &c,
-            &PumpControl::ConstantDp { setpoint_kpa: 30.0 },
-            rho,
-            0.5,
-        )
-        .unwrap();
+        let (d0, d1, d2) =
+            to_mass_flow_coefficients(&c, &PumpControl::ConstantDp { setpoint_kpa: 30.0 }, rho, 0.5).unwrap();
         assert!(close(d0, 30_000.0, 1e-12) && d1.abs() < 1e-12 && d2.abs() < 1e-12);
     }
 
@@ -676,13 +575,7 @@ mod tests {
     fn bounded_law_takes_the_lower_of_control_and_curve() {
         let c = curve();
         let rho = 1000.0;
-        let law = PumpLaw::new(
-            &c,
-            &PumpControl::ConstantDp { setpoint_kpa: 30.0 },
-            rho,
-            0.5,
-        )
-        .unwrap();
+        let law = PumpLaw::new(&c, &PumpControl::ConstantDp { setpoint_kpa: 30.0 }, rho, 0.5).unwrap();
         let (dp, slope) = law.dp_pa_and_slope(0.1);
         assert!(close(dp, 30_000.0, 1e-12) && slope.abs() < 1e-12);
         // At 3.3 m³/h the curve is below 30 kPa.
@@ -699,8 +592,7 @@ mod tests {
         assert_eq!(back, c);
         let bad = r#"{"points_m3_h_kpa":[[0.0,60.0],[1.5,70.0],[3.0,20.0]]}"#;
         assert!(serde_json::from_str::<PumpCurve>(bad).is_err());
-        let ctl: PumpControl =
-            serde_json::from_str(r#"{"ConstantDp":{"setpoint_kpa":25.0}}"#).unwrap();
+        let ctl: PumpControl = serde_json::from_str(r#"{"ConstantDp":{"setpoint_kpa":25.0}}"#).unwrap();
         assert_eq!(ctl, PumpControl::ConstantDp { setpoint_kpa: 25.0 });
     }
 }

@@ -70,12 +70,16 @@ table.kv th { width: 48%; background: none; border-bottom: 1px solid var(--rule)
 table.kv td { font-variant-numeric: tabular-nums; }
 tr.over td { font-weight: 600; }
 tr.index td { background: #f5f1de; }
+table.emitters { font-size: 0.8em; }
+table.emitters th { vertical-align: bottom; }
+table.emitters td:nth-child(4) { min-width: 15em; }
 .swatch { display: inline-block; width: 10px; height: 10px; border: 1px solid #333; margin-right: 4px; vertical-align: -1px; }
 .sev-error td.sev { color: var(--err); font-weight: 600; }
 .sev-warning td.sev { color: var(--warn); font-weight: 600; }
 figure { margin: 8px 0 16px; break-inside: avoid; page-break-inside: avoid; }
 figcaption { font-size: 0.9em; color: var(--muted); margin-bottom: 4px; }
 svg { max-width: 100%; height: auto; display: block; }
+svg.level-plan, svg.riser-elevation { width: 100%; }
 svg text { font-family: "DejaVu Sans", Helvetica, Arial, sans-serif; fill: #1a1a1a; }
 svg .lb { font-size: 11px; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
 svg .sm { font-size: 9.5px; fill: #444444; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
@@ -140,7 +144,12 @@ pub fn report_html(p: &Project, sol: &Solution, parts: &PartsList) -> String {
     parts_section(&mut h, parts);
     methods(&mut h, p, parts);
     cautions(&mut h);
-    w!(h, "<footer>{} · flowrise {} · end of report</footer>\n</body>\n</html>\n", esc(&p.name), env!("CARGO_PKG_VERSION"));
+    w!(
+        h,
+        "<footer>{} · flowrise {} · end of report</footer>\n</body>\n</html>\n",
+        esc(&p.name),
+        env!("CARGO_PKG_VERSION")
+    );
     h
 }
 
@@ -160,7 +169,8 @@ fn conditions(h: &mut String, p: &Project, sol: &Solution, parts: &PartsList) {
     };
     kv_row(h, "Return layout (default)", layout);
     for class in crate::project::PipeClass::ALL {
-        let series = pipes::find_series(s.series.get(class)).map_or_else(|_| esc(s.series.get(class)), |x| esc(&format!("{} ({})", x.name, x.standard)));
+        let series = pipes::find_series(s.series.get(class))
+            .map_or_else(|_| esc(s.series.get(class)), |x| esc(&format!("{} ({})", x.name, x.standard)));
         kv_row(h, &format!("Pipe series, {}", class.name()), &series);
     }
     kv_row(
@@ -181,34 +191,47 @@ fn conditions(h: &mut String, p: &Project, sol: &Solution, parts: &PartsList) {
     kv_row(h, "Emitters", &sol.emitters.len().to_string());
     kv_row(h, "Total design heat load", &kw(sol.heat_load_w));
     if let Some(pump) = &sol.pump {
-        kv_row(h, "Design flow", &format!("{:.0} l/h ({:.3} m³/h)", pump.design_flow_m3_h * 1000.0, pump.design_flow_m3_h));
+        kv_row(
+            h,
+            "Design flow",
+            &format!("{:.0} l/h ({:.3} m³/h)", pump.design_flow_m3_h * 1000.0, pump.design_flow_m3_h),
+        );
         kv_row(h, "Index circuit Δp", &format!("{:.1} kPa", pump.index_dp_pa / 1000.0));
         kv_row(h, "Pump duty", &format!("{:.3} m³/h at {:.1} kPa", pump.design_flow_m3_h, pump.duty_head_pa / 1000.0));
-        kv_row(h, "Operating point", &format!("{:.3} m³/h at {:.1} kPa", pump.operating_flow_m3_h, pump.operating_head_pa / 1000.0));
+        kv_row(
+            h,
+            "Operating point",
+            &format!("{:.3} m³/h at {:.1} kPa", pump.operating_flow_m3_h, pump.operating_head_pa / 1000.0),
+        );
         kv_row(h, "Hydraulic power", &format!("{:.1} W", pump.hydraulic_power_w));
     }
-    let index = sol
-        .index_emitter
-        .and_then(|n| p.node(n))
-        .map_or_else(|| "—".to_owned(), |n| esc(&n.label()));
+    let index = sol.index_emitter.and_then(|n| p.node(n)).map_or_else(|| "—".to_owned(), |n| esc(&n.label()));
     kv_row(h, "Index circuit", &index);
     kv_row(h, "System water volume", &format!("{:.1} l", sol.water_volume_l));
     if let Some(v) = &sol.vessel {
-        let chosen = vessel_nominal_size_l(v.nominal_volume_l).map_or_else(|| "several vessels".to_owned(), |n| format!("{n:.0} l"));
+        let chosen = vessel_nominal_size_l(v.nominal_volume_l)
+            .map_or_else(|| "several vessels".to_owned(), |n| format!("{n:.0} l"));
         kv_row(h, "Expansion vessel", &format!("{chosen} (minimum {:.1} l, EN 12828)", v.nominal_volume_l));
     }
     let total_pipe: f64 = sol.pipes.iter().map(|x| x.length_m).sum();
     kv_row(
         h,
         "Pipe, supply + return",
-        &format!("{total_pipe:.1} m net, {:.1} m to order", total_pipe * (1.0 + parts.options.cutting_allowance_fraction)),
+        &format!(
+            "{total_pipe:.1} m net, {:.1} m to order",
+            total_pipe * (1.0 + parts.options.cutting_allowance_fraction)
+        ),
     );
     let (errors, warnings) = (
         sol.findings.iter().filter(|f| f.severity == Severity::Error).count(),
         sol.findings.iter().filter(|f| f.severity == Severity::Warning).count(),
     );
     kv_row(h, "Findings", &format!("{errors} errors, {warnings} warnings"));
-    let solve = if sol.converged { format!("converged in {} iterations", sol.iterations) } else { "did not converge".to_owned() };
+    let solve = if sol.converged {
+        format!("converged in {} iterations", sol.iterations)
+    } else {
+        "did not converge".to_owned()
+    };
     kv_row(h, "Operating solve", &solve);
     h.push_str("</table></div></div></section>\n");
 }
@@ -244,11 +267,11 @@ fn emitter_kind(p: &Project, sol_detail: Option<&EmitterDetail>, id: crate::proj
     let Some(NodeKind::Emitter(e)) = p.node(id).map(|n| &n.kind) else { return String::new() };
     match (&e.model, sol_detail) {
         (EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(r))) => {
-            format!("radiator {} · {}×{} mm · Φn {:.0} W", spec.type_code, spec.height_mm, r.length_mm, r.nominal_output_w)
+            format!("radiator {}, {}×{}, Φn {:.0} W", spec.type_code, spec.height_mm, r.length_mm, r.nominal_output_w)
         }
         (EmitterModel::Radiator(spec), _) => format!("radiator {} · {} mm", spec.type_code, spec.height_mm),
         (EmitterModel::FloorLoop(spec), Some(EmitterDetail::FloorLoop(f))) => {
-            format!("floor loop · {:.1} m² · {:.0} m · {:.1} °C surface", spec.area_m2, f.loop_length_m, f.mean_surface_c)
+            format!("floor loop, {:.1} m², {:.0} m, surface {:.1} °C", spec.area_m2, f.loop_length_m, f.mean_surface_c)
         }
         (EmitterModel::FloorLoop(spec), _) => format!("floor loop · {:.1} m²", spec.area_m2),
         (EmitterModel::Terminal(spec), _) => format!("terminal · {:.0} W nominal", spec.nominal_output_w),
@@ -260,9 +283,9 @@ fn emitters_table(h: &mut String, p: &Project, sol: &Solution) {
         "<section id=\"emitters\" class=\"page\"><h2>4 Emitters and circuits</h2><p class=\"muted\">Circuit Δp: source → emitter → source with the \
          valve fully open. Valve Δp: what the valve absorbs at design flow. Authority: valve Δp / pump head available. \
          Flow and output: operating solve. The index circuit is shaded.</p>\
-         <table class=\"emitters\"><thead><tr><th>id</th><th>name</th><th>level</th><th>emitter</th><th class=\"n\">load W</th>\
-         <th class=\"n\">design l/h</th><th class=\"n\">return °C</th><th class=\"n\">circuit Δp kPa</th><th class=\"n\">valve Δp kPa</th>\
-         <th class=\"n\">preset</th><th class=\"n\">Kv m³/h</th><th class=\"n\">authority</th><th class=\"n\">flow l/h</th><th class=\"n\">output W</th></tr></thead><tbody>",
+         <table class=\"emitters\"><thead><tr><th>id</th><th>name</th><th>level</th><th>emitter</th><th class=\"n\">load<br>W</th>\
+         <th class=\"n\">design<br>l/h</th><th class=\"n\">return<br>°C</th><th class=\"n\">circuit<br>Δp kPa</th><th class=\"n\">valve<br>Δp kPa</th>\
+         <th class=\"n\">pre-<br>set</th><th class=\"n\">Kv<br>m³/h</th><th class=\"n\">auth-<br>ority</th><th class=\"n\">flow<br>l/h</th><th class=\"n\">output<br>W</th></tr></thead><tbody>",
     );
     for e in &sol.emitters {
         let class = if sol.index_emitter == Some(e.id) { " class=\"index\"" } else { "" };
@@ -380,7 +403,11 @@ fn pump_section(h: &mut String, sol: &Solution) {
     kv_row(h, "Index circuit Δp", &format!("{:.2} kPa", pump.index_dp_pa / 1000.0));
     kv_row(h, "Duty head (with margin)", &format!("{:.2} kPa", pump.duty_head_pa / 1000.0));
     kv_row(h, "Head available for balancing", &format!("{:.2} kPa", pump.available_pa / 1000.0));
-    kv_row(h, "Operating point", &format!("{:.3} m³/h at {:.2} kPa", pump.operating_flow_m3_h, pump.operating_head_pa / 1000.0));
+    kv_row(
+        h,
+        "Operating point",
+        &format!("{:.3} m³/h at {:.2} kPa", pump.operating_flow_m3_h, pump.operating_head_pa / 1000.0),
+    );
     kv_row(h, "Hydraulic power", &format!("{:.1} W", pump.hydraulic_power_w));
     if let Some(c) = &pump.curve {
         let pts: Vec<String> = c.points().iter().map(|(q, hh)| format!("{q:.2} m³/h @ {hh:.1} kPa")).collect();
@@ -400,7 +427,11 @@ fn vessel_section(h: &mut String, sol: &Solution) {
         return;
     };
     h.push_str("<div class=\"cols\"><div><table class=\"kv\">");
-    kv_row(h, "Fill / maximum temperature", &format!("{:.1} / {:.1} °C", v.input.fill_temperature_c, v.input.max_temperature_c));
+    kv_row(
+        h,
+        "Fill / maximum temperature",
+        &format!("{:.1} / {:.1} °C", v.input.fill_temperature_c, v.input.max_temperature_c),
+    );
     kv_row(h, "Expansion coefficient e", &format!("{:.4}", v.expansion_coefficient));
     kv_row(h, "Expansion volume V<sub>e</sub>", &format!("{:.2} l", v.expansion_volume_l));
     kv_row(h, "Water reserve V<sub>wr</sub>", &format!("{:.2} l", v.water_reserve_l));
@@ -410,8 +441,10 @@ fn vessel_section(h: &mut String, sol: &Solution) {
     kv_row(h, "Final pressure p<sub>e</sub>", &format!("{:.2} bar", v.final_pressure_bar));
     kv_row(h, "Fill pressure", &format!("{:.2} bar", v.fill_pressure_bar));
     kv_row(h, "Minimum nominal volume V<sub>n</sub>", &format!("{:.1} l", v.nominal_volume_l));
-    let chosen = vessel_nominal_size_l(v.nominal_volume_l)
-        .map_or_else(|| "above 300 l: several vessels".to_owned(), |n| format!("<strong>{n:.0} l</strong> (next common size, common practice)"));
+    let chosen = vessel_nominal_size_l(v.nominal_volume_l).map_or_else(
+        || "above 300 l: several vessels".to_owned(),
+        |n| format!("<strong>{n:.0} l</strong> (next common size, common practice)"),
+    );
     kv_row(h, "Vessel chosen", &chosen);
     h.push_str("</table></div><div><h3>Assumptions of the vessel sizing</h3><ul class=\"notes\">");
     for a in &v.assumptions {

@@ -19,7 +19,7 @@ use std::collections::BTreeSet;
 
 use serde::Serialize;
 
-use crate::design::{self, SolveOptions, Solution, Workspace, solve_project};
+use crate::design::{self, Solution, SolveOptions, Workspace, solve_project};
 use crate::emitters::{EmitterDetail, EmitterModel, RadiatorSizing, radiator};
 use crate::project::{Edit, Mode, NodeId, NodeKind, Project};
 use crate::pump::PumpControl;
@@ -201,11 +201,7 @@ pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
         if covered(pt) {
             lowest = Some(pt.supply_c);
         } else {
-            limiting = pt
-                .emitters
-                .iter()
-                .min_by(|a, b| a.fraction.total_cmp(&b.fraction))
-                .map(|e| e.id.clone());
+            limiting = pt.emitters.iter().min_by(|a, b| a.fraction.total_cmp(&b.fraction)).map(|e| e.id.clone());
             break;
         }
     }
@@ -219,7 +215,10 @@ fn point_at(p: &Project, supply_c: f64, frozen: bool, ws: &mut Workspace) -> Swe
     let Some(settings) = settings_at(p, supply_c) else {
         return SweepPoint {
             supply_c,
-            emitters: emitters.iter().map(|id| EmitterPoint { id: id.to_string(), fraction: 0.0, flow_l_h: 0.0 }).collect(),
+            emitters: emitters
+                .iter()
+                .map(|id| EmitterPoint { id: id.to_string(), fraction: 0.0, flow_l_h: 0.0 })
+                .collect(),
             flow_l_h: 0.0,
             pump_head_kpa: 0.0,
         };
@@ -265,7 +264,12 @@ fn upgrades_at(existing: &Project, target_c: f64) -> (Vec<Upgrade>, Vec<String>)
                 let RadiatorSizing::Existing { nominal_output_w, .. } = spec.sizing else { continue };
                 let n = spec
                     .exponent_n
-                    .or_else(|| radiator::radiator_catalog().ok().and_then(|c| c.find(&spec.type_code).ok()).map(|t| t.exponent_n))
+                    .or_else(|| {
+                        radiator::radiator_catalog()
+                            .ok()
+                            .and_then(|c| c.find(&spec.type_code).ok())
+                            .map(|t| t.exponent_n)
+                    })
                     .unwrap_or(1.3);
                 let ret = (target_c - UPGRADE_DELTA_K).max(em.room_c + 0.5);
                 if let Ok(need) = radiator::required_nominal_w(em.load_w, n, target_c, ret, em.room_c) {

@@ -59,13 +59,7 @@ fn check_kv(kv_m3_h: f64) -> PhysicsResult<f64> {
 }
 
 fn check_density(density_kg_m3: f64) -> PhysicsResult<f64> {
-    check::in_range(
-        "water density",
-        density_kg_m3,
-        "kg/m³",
-        DENSITY_RANGE_KG_M3.0,
-        DENSITY_RANGE_KG_M3.1,
-    )
+    check::in_range("water density", density_kg_m3, "kg/m³", DENSITY_RANGE_KG_M3.0, DENSITY_RANGE_KG_M3.1)
 }
 
 /// Pressure drop across a valve of flow coefficient `kv_m3_h` passing
@@ -131,9 +125,7 @@ pub fn resistance_r_pa_s2_kg2(kv_m3_h: f64, density_kg_m3: f64) -> PhysicsResult
 /// [`PhysicsError`] when the list is empty or any Kv is not positive.
 pub fn series_kv(kvs_m3_h: &[f64]) -> PhysicsResult<f64> {
     if kvs_m3_h.is_empty() {
-        return Err(PhysicsError::Inconsistent(
-            "series Kv needs at least one valve Kv; the list is empty".to_owned(),
-        ));
+        return Err(PhysicsError::Inconsistent("series Kv needs at least one valve Kv; the list is empty".to_owned()));
     }
     let mut sum = 0.0;
     for &kv in kvs_m3_h {
@@ -250,54 +242,30 @@ pub struct ValveCatalog {
 
 /// The embedded demo catalog files: (file name, contents).
 const CATALOG_FILES: [(&str, &str); 4] = [
-    (
-        "assets/valves/thermostatic.ron",
-        include_str!("../../assets/valves/thermostatic.ron"),
-    ),
-    (
-        "assets/valves/manual.ron",
-        include_str!("../../assets/valves/manual.ron"),
-    ),
-    (
-        "assets/valves/lockshield.ron",
-        include_str!("../../assets/valves/lockshield.ron"),
-    ),
-    (
-        "assets/valves/balancing.ron",
-        include_str!("../../assets/valves/balancing.ron"),
-    ),
+    ("assets/valves/thermostatic.ron", include_str!("../../assets/valves/thermostatic.ron")),
+    ("assets/valves/manual.ron", include_str!("../../assets/valves/manual.ron")),
+    ("assets/valves/lockshield.ron", include_str!("../../assets/valves/lockshield.ron")),
+    ("assets/valves/balancing.ron", include_str!("../../assets/valves/balancing.ron")),
 ];
 
 fn catalog_error(file: &str, message: String) -> PhysicsError {
-    PhysicsError::Catalog {
-        file: file.to_owned(),
-        message,
-    }
+    PhysicsError::Catalog { file: file.to_owned(), message }
 }
 
 fn validate_family(file: &str, family: &ValveFamily) -> PhysicsResult<()> {
     let id = &family.id;
     if id.trim().is_empty() {
-        return Err(catalog_error(
-            file,
-            "a valve family has an empty id".to_owned(),
-        ));
+        return Err(catalog_error(file, "a valve family has an empty id".to_owned()));
     }
     if family.settings.is_empty() {
-        return Err(catalog_error(
-            file,
-            format!("valve family '{id}' has no settings"),
-        ));
+        return Err(catalog_error(file, format!("valve family '{id}' has no settings")));
     }
     let mut last = 0.0_f64;
     for s in &family.settings {
         if !(s.kv_m3_h.is_finite() && s.kv_m3_h > 0.0 && s.kv_m3_h <= KV_MAX_M3_H) {
             return Err(catalog_error(
                 file,
-                format!(
-                    "valve family '{id}', setting '{}': Kv = {} m³/h must be positive",
-                    s.label, s.kv_m3_h
-                ),
+                format!("valve family '{id}', setting '{}': Kv = {} m³/h must be positive", s.label, s.kv_m3_h),
             ));
         }
         if s.kv_m3_h <= last {
@@ -333,16 +301,12 @@ fn validate_family(file: &str, family: &ValveFamily) -> PhysicsResult<()> {
 /// # Errors
 /// [`PhysicsError::Catalog`] on a syntax error or a rule broken.
 pub fn parse_valve_catalog(file: &str, text: &str) -> PhysicsResult<Vec<ValveFamily>> {
-    let catalog: ValveCatalog =
-        ron::from_str(text).map_err(|e| catalog_error(file, e.to_string()))?;
+    let catalog: ValveCatalog = ron::from_str(text).map_err(|e| catalog_error(file, e.to_string()))?;
     let mut ids: Vec<&str> = Vec::new();
     for family in &catalog.families {
         validate_family(file, family)?;
         if ids.contains(&family.id.as_str()) {
-            return Err(catalog_error(
-                file,
-                format!("valve family id '{}' appears twice", family.id),
-            ));
+            return Err(catalog_error(file, format!("valve family id '{}' appears twice", family.id)));
         }
         ids.push(&family.id);
     }
@@ -354,10 +318,7 @@ fn load_embedded() -> PhysicsResult<Vec<ValveFamily>> {
     for (file, text) in CATALOG_FILES {
         for family in parse_valve_catalog(file, text)? {
             if all.iter().any(|f| f.id == family.id) {
-                return Err(catalog_error(
-                    file,
-                    format!("valve family id '{}' appears twice", family.id),
-                ));
+                return Err(catalog_error(file, format!("valve family id '{}' appears twice", family.id)));
             }
             all.push(family);
         }
@@ -386,11 +347,7 @@ pub fn valve_family(id: &str) -> PhysicsResult<&'static ValveFamily> {
     valve_families()?
         .iter()
         .find(|f| f.id == id)
-        .ok_or_else(|| {
-            PhysicsError::NotFound(format!(
-                "no valve family with id '{id}' in the valve catalog"
-            ))
-        })
+        .ok_or_else(|| PhysicsError::NotFound(format!("no valve family with id '{id}' in the valve catalog")))
 }
 
 /// The demo-catalog valve families of one kind, in catalog order.
@@ -398,10 +355,7 @@ pub fn valve_family(id: &str) -> PhysicsResult<&'static ValveFamily> {
 /// # Errors
 /// [`PhysicsError::Catalog`] when the catalog is malformed.
 pub fn families_of_kind(kind: ValveKind) -> PhysicsResult<Vec<&'static ValveFamily>> {
-    Ok(valve_families()?
-        .iter()
-        .filter(|f| f.kind == kind)
-        .collect())
+    Ok(valve_families()?.iter().filter(|f| f.kind == kind).collect())
 }
 
 // ---------------------------------------------------------------------------
@@ -472,12 +426,7 @@ impl SettingChoice {
         dp_valve_design_pa: f64,
         dp_rest_design_pa: f64,
     ) -> PhysicsResult<f64> {
-        Ok(flow_ratio_in_circuit(
-            self.kv_m3_h,
-            self.kv_needed_m3_h,
-            dp_valve_design_pa,
-            dp_rest_design_pa,
-        )? - 1.0)
+        Ok(flow_ratio_in_circuit(self.kv_m3_h, self.kv_needed_m3_h, dp_valve_design_pa, dp_rest_design_pa)? - 1.0)
     }
 }
 
@@ -512,10 +461,7 @@ pub fn choose_setting_with(
         (0, SettingFit::BelowSmallest)
     } else {
         // Smallest setting with Kv ≥ needed; exists because needed ≤ largest.
-        let upper = settings
-            .iter()
-            .position(|s| s.kv_m3_h >= kv_needed_m3_h)
-            .unwrap_or(last);
+        let upper = settings.iter().position(|s| s.kv_m3_h >= kv_needed_m3_h).unwrap_or(last);
         let index = match rule {
             SettingRule::NextLarger => upper,
             SettingRule::NearestLog if upper > 0 => {
@@ -565,11 +511,7 @@ pub fn flow_ratio_in_circuit(
     check_kv(kv_chosen_m3_h)?;
     check_kv(kv_needed_m3_h)?;
     check::positive("valve design pressure drop", dp_valve_design_pa, "Pa")?;
-    check::non_negative(
-        "rest-of-circuit design pressure drop",
-        dp_rest_design_pa,
-        "Pa",
-    )?;
+    check::non_negative("rest-of-circuit design pressure drop", dp_rest_design_pa, "Pa")?;
     let dp_avail = dp_valve_design_pa + dp_rest_design_pa;
     let k = kv_needed_m3_h / kv_chosen_m3_h;
     Ok((dp_avail / (dp_valve_design_pa * k * k + dp_rest_design_pa)).sqrt())
@@ -591,13 +533,7 @@ pub fn kv_at_continuous_setting(family: &ValveFamily, position: f64) -> PhysicsR
     validate_family("(valve family given)", family)?;
     let settings = &family.settings;
     let last = (settings.len() - 1) as f64;
-    check::in_range(
-        "presetting position",
-        position,
-        "(setting index)",
-        0.0,
-        last,
-    )?;
+    check::in_range("presetting position", position, "(setting index)", 0.0, last)?;
     let i = (position.floor() as usize).min(settings.len().saturating_sub(2));
     if settings.len() == 1 {
         return Ok(settings[0].kv_m3_h);
@@ -622,15 +558,8 @@ pub fn continuous_setting_for_kv(family: &ValveFamily, kv_m3_h: f64) -> PhysicsR
     if settings.len() == 1 {
         return Ok(0.0);
     }
-    let upper = settings
-        .iter()
-        .position(|s| s.kv_m3_h >= kv_m3_h)
-        .unwrap_or(settings.len() - 1)
-        .max(1);
-    let (a, b) = (
-        settings[upper - 1].kv_m3_h.ln(),
-        settings[upper].kv_m3_h.ln(),
-    );
+    let upper = settings.iter().position(|s| s.kv_m3_h >= kv_m3_h).unwrap_or(settings.len() - 1).max(1);
+    let (a, b) = (settings[upper - 1].kv_m3_h.ln(), settings[upper].kv_m3_h.ln());
     Ok((upper - 1) as f64 + (kv_m3_h.ln() - a) / (b - a))
 }
 
@@ -647,17 +576,9 @@ mod tests {
         // IEC 60534: Q = Kv at 1 bar with ρ = 1000 kg/m³.
         assert!(close(dp_pa_from_kv(2.5, 2.5, 1000.0).unwrap(), 1e5, 1e-12));
         assert!(close(flow_m3_h(2.5, 1e5, 1000.0).unwrap(), 2.5, 1e-12));
-        assert!(close(
-            kv_needed(0.3, 10_000.0, 977.0).unwrap(),
-            0.3 * (10.0_f64 * 0.977).sqrt(),
-            1e-12
-        ));
+        assert!(close(kv_needed(0.3, 10_000.0, 977.0).unwrap(), 0.3 * (10.0_f64 * 0.977).sqrt(), 1e-12));
         let kv = kv_needed(0.12, 4_000.0, 975.0).unwrap();
-        assert!(close(
-            dp_pa_from_kv(0.12, kv, 975.0).unwrap(),
-            4_000.0,
-            1e-12
-        ));
+        assert!(close(dp_pa_from_kv(0.12, kv, 975.0).unwrap(), 4_000.0, 1e-12));
         assert!(close(flow_m3_h(kv, 4_000.0, 975.0).unwrap(), 0.12, 1e-12));
     }
 
@@ -672,11 +593,7 @@ mod tests {
 
     #[test]
     fn series_and_parallel() {
-        assert!(close(
-            series_kv(&[1.0, 1.0]).unwrap(),
-            1.0 / 2.0_f64.sqrt(),
-            1e-12
-        ));
+        assert!(close(series_kv(&[1.0, 1.0]).unwrap(), 1.0 / 2.0_f64.sqrt(), 1e-12));
         assert!(close(series_kv(&[0.8]).unwrap(), 0.8, 1e-12));
         assert!(close(parallel_kv(&[0.5, 0.25]).unwrap(), 0.75, 1e-12));
         assert!(series_kv(&[]).is_err());
@@ -685,22 +602,10 @@ mod tests {
 
     #[test]
     fn rejects_non_physical_input() {
-        assert!(matches!(
-            dp_pa_from_kv(-1.0, 1.0, 1000.0),
-            Err(PhysicsError::Negative { .. })
-        ));
-        assert!(matches!(
-            dp_pa_from_kv(1.0, 0.0, 1000.0),
-            Err(PhysicsError::NotPositive { .. })
-        ));
-        assert!(matches!(
-            dp_pa_from_kv(1.0, 1.0, f64::NAN),
-            Err(PhysicsError::NotFinite { .. })
-        ));
-        assert!(matches!(
-            dp_pa_from_kv(1.0, 1.0, 10.0),
-            Err(PhysicsError::OutOfRange { .. })
-        ));
+        assert!(matches!(dp_pa_from_kv(-1.0, 1.0, 1000.0), Err(PhysicsError::Negative { .. })));
+        assert!(matches!(dp_pa_from_kv(1.0, 0.0, 1000.0), Err(PhysicsError::NotPositive { .. })));
+        assert!(matches!(dp_pa_from_kv(1.0, 1.0, f64::NAN), Err(PhysicsError::NotFinite { .. })));
+        assert!(matches!(dp_pa_from_kv(1.0, 1.0, 10.0), Err(PhysicsError::OutOfRange { .. })));
         assert!(kv_needed(0.1, 0.0, 1000.0).is_err());
         assert!(flow_m3_h(1.0, -5.0, 1000.0).is_err());
         assert!(resistance_r_pa_s2_kg2(-0.3, 1000.0).is_err());
@@ -722,17 +627,9 @@ mod tests {
         for f in all {
             assert!(f.note.contains("illustrative"), "{}", f.id);
         }
-        assert_eq!(
-            families_of_kind(ValveKind::ThermostaticRadiator)
-                .unwrap()
-                .len(),
-            2
-        );
+        assert_eq!(families_of_kind(ValveKind::ThermostaticRadiator).unwrap().len(), 2);
         assert_eq!(families_of_kind(ValveKind::Balancing).unwrap().len(), 4);
-        assert!(matches!(
-            valve_family("no-such-valve"),
-            Err(PhysicsError::NotFound(_))
-        ));
+        assert!(matches!(valve_family("no-such-valve"), Err(PhysicsError::NotFound(_))));
     }
 
     #[test]
@@ -751,15 +648,8 @@ mod tests {
         let f = valve_family("trv-demo-8").unwrap(); // 0.05 0.08 0.13 0.20 0.30 0.43 0.62 0.90
         // 0.16: ln(0.20/0.16) = 0.223 > ln(0.16/0.13) = 0.208 → setting "3".
         let c = choose_setting(f, 0.16).unwrap();
-        assert_eq!(
-            (c.index, c.label.as_str(), c.fit),
-            (2, "3", SettingFit::InRange)
-        );
-        assert!(close(
-            c.flow_error_fraction_at_same_dp,
-            0.13 / 0.16 - 1.0,
-            1e-12
-        ));
+        assert_eq!((c.index, c.label.as_str(), c.fit), (2, "3", SettingFit::InRange));
+        assert!(close(c.flow_error_fraction_at_same_dp, 0.13 / 0.16 - 1.0, 1e-12));
         // Next-larger rule gives "4".
         let c = choose_setting_with(f, 0.16, SettingRule::NextLarger).unwrap();
         assert_eq!(c.label, "4");
@@ -778,11 +668,7 @@ mod tests {
     #[test]
     fn circuit_flow_error_is_smaller_than_valve_only_error() {
         // Valve-only: Q/Qd = Kv ratio.
-        assert!(close(
-            flow_ratio_in_circuit(0.13, 0.16, 5_000.0, 0.0).unwrap(),
-            0.13 / 0.16,
-            1e-12
-        ));
+        assert!(close(flow_ratio_in_circuit(0.13, 0.16, 5_000.0, 0.0).unwrap(), 0.13 / 0.16, 1e-12));
         // Worked case: Δp_valve = 6 kPa, Δp_rest = 4 kPa, Kv ratio 0.8:
         // Q/Qd = √(10 / (6/0.64 + 4)) = √(10/13.375) = 0.864 66…
         let r = flow_ratio_in_circuit(0.8, 1.0, 6_000.0, 4_000.0).unwrap();
@@ -804,24 +690,13 @@ mod tests {
     fn continuous_setting_is_log_linear_and_invertible() {
         let f = valve_family("trv-demo-8").unwrap();
         for (i, s) in f.settings.iter().enumerate() {
-            assert!(close(
-                kv_at_continuous_setting(f, i as f64).unwrap(),
-                s.kv_m3_h,
-                1e-12
-            ));
+            assert!(close(kv_at_continuous_setting(f, i as f64).unwrap(), s.kv_m3_h, 1e-12));
         }
         // Halfway between 0.05 and 0.08 is the geometric mean.
-        assert!(close(
-            kv_at_continuous_setting(f, 0.5).unwrap(),
-            (0.05_f64 * 0.08).sqrt(),
-            1e-12
-        ));
+        assert!(close(kv_at_continuous_setting(f, 0.5).unwrap(), (0.05_f64 * 0.08).sqrt(), 1e-12));
         for kv in [0.05, 0.07, 0.2, 0.5, 0.9] {
             let p = continuous_setting_for_kv(f, kv).unwrap();
-            assert!(
-                close(kv_at_continuous_setting(f, p).unwrap(), kv, 1e-12),
-                "{kv}"
-            );
+            assert!(close(kv_at_continuous_setting(f, p).unwrap(), kv, 1e-12), "{kv}");
         }
     }
 }

@@ -129,13 +129,7 @@ pub struct VesselSizing {
 /// # Errors
 /// [`PhysicsError`] when the set pressure is outside 1–10 bar.
 pub fn final_pressure_bar(safety_valve_set_pressure_bar: f64) -> PhysicsResult<f64> {
-    let p_sv = check::in_range(
-        "safety valve set pressure",
-        safety_valve_set_pressure_bar,
-        "bar",
-        1.0,
-        10.0,
-    )?;
+    let p_sv = check::in_range("safety valve set pressure", safety_valve_set_pressure_bar, "bar", 1.0, 10.0)?;
     Ok(if p_sv <= 5.0 { p_sv - 0.5 } else { 0.9 * p_sv })
 }
 
@@ -145,10 +139,7 @@ pub fn final_pressure_bar(safety_valve_set_pressure_bar: f64) -> PhysicsResult<f
 /// # Errors
 /// [`PhysicsError`] when a temperature is out of the water range or the
 /// high temperature is not above the low one.
-pub fn expansion_coefficient(
-    low_temperature_c: f64,
-    high_temperature_c: f64,
-) -> PhysicsResult<f64> {
+pub fn expansion_coefficient(low_temperature_c: f64, high_temperature_c: f64) -> PhysicsResult<f64> {
     let rho_low = water::density_kg_m3(low_temperature_c)?;
     let rho_high = water::density_kg_m3(high_temperature_c)?;
     if high_temperature_c <= low_temperature_c {
@@ -187,20 +178,8 @@ pub fn size_expansion_vessel(input: &VesselInput) -> PhysicsResult<VesselSizing>
         water::MIN_TEMPERATURE_C,
         water::MAX_TEMPERATURE_C,
     )?;
-    let h_m = check::in_range(
-        "static height above the vessel",
-        input.static_height_m,
-        "m",
-        0.0,
-        200.0,
-    )?;
-    let margin = check::in_range(
-        "pre-charge margin",
-        input.precharge_margin_bar,
-        "bar",
-        0.0,
-        2.0,
-    )?;
+    let h_m = check::in_range("static height above the vessel", input.static_height_m, "m", 0.0, 200.0)?;
+    let margin = check::in_range("pre-charge margin", input.precharge_margin_bar, "bar", 0.0, 2.0)?;
     let p_e = final_pressure_bar(input.safety_valve_set_pressure_bar)?;
 
     let density_fill_kg_m3 = water::density_kg_m3(t_fill)?;
@@ -220,8 +199,7 @@ pub fn size_expansion_vessel(input: &VesselInput) -> PhysicsResult<VesselSizing>
     }
     let pressure_factor = (p_e + 1.0) / (p_e - p0);
     let nominal_volume_l = (expansion_volume_l + water_reserve_l) * pressure_factor;
-    let fill_pressure_bar =
-        (p0 + 1.0) * nominal_volume_l / (nominal_volume_l - water_reserve_l) - 1.0;
+    let fill_pressure_bar = (p0 + 1.0) * nominal_volume_l / (nominal_volume_l - water_reserve_l) - 1.0;
 
     let assumptions = vec![
         format!(
@@ -232,8 +210,7 @@ pub fn size_expansion_vessel(input: &VesselInput) -> PhysicsResult<VesselSizing>
         "Water reserve V_wr = max(0.5 % of the system volume, 3 l): EN 12828 annex D (recalled from \
          memory, not verified against the document)."
             .to_owned(),
-        "Static pressure p_st = ρ·g·h with h the height of the system's highest point above the vessel."
-            .to_owned(),
+        "Static pressure p_st = ρ·g·h with h the height of the system's highest point above the vessel.".to_owned(),
         format!(
             "Pre-charge p0 = p_st + {margin} bar: common practice margin (EN 12828 annex D sets a minimum \
              margin, recalled from memory as 0.2 bar, not verified against the document)."
@@ -286,16 +263,9 @@ mod tests {
         let gas_l = s.nominal_volume_l - s.water_reserve_l - s.expansion_volume_l;
         let p = (s.precharge_pressure_bar + 1.0) * s.nominal_volume_l / gas_l - 1.0;
         assert!(close(p, s.final_pressure_bar, 1e-12));
-        assert!(
-            s.fill_pressure_bar > s.precharge_pressure_bar
-                && s.fill_pressure_bar < s.final_pressure_bar
-        );
+        assert!(s.fill_pressure_bar > s.precharge_pressure_bar && s.fill_pressure_bar < s.final_pressure_bar);
         assert!(s.assumptions.iter().any(|a| a.contains("common practice")));
-        assert!(
-            s.assumptions
-                .iter()
-                .any(|a| a.contains("recalled from memory"))
-        );
+        assert!(s.assumptions.iter().any(|a| a.contains("recalled from memory")));
     }
 
     #[test]
@@ -317,28 +287,16 @@ mod tests {
     fn rejects_nonsense() {
         let mut i = base();
         i.system_volume_l = -5.0;
-        assert!(matches!(
-            size_expansion_vessel(&i),
-            Err(PhysicsError::NotPositive { .. })
-        ));
+        assert!(matches!(size_expansion_vessel(&i), Err(PhysicsError::NotPositive { .. })));
         let mut i = base();
         i.max_temperature_c = 120.0;
-        assert!(matches!(
-            size_expansion_vessel(&i),
-            Err(PhysicsError::OutOfRange { .. })
-        ));
+        assert!(matches!(size_expansion_vessel(&i), Err(PhysicsError::OutOfRange { .. })));
         let mut i = base();
         i.max_temperature_c = 8.0;
-        assert!(matches!(
-            size_expansion_vessel(&i),
-            Err(PhysicsError::Inconsistent(_))
-        ));
+        assert!(matches!(size_expansion_vessel(&i), Err(PhysicsError::Inconsistent(_))));
         let mut i = base();
         i.fill_temperature_c = f64::NAN;
-        assert!(matches!(
-            size_expansion_vessel(&i),
-            Err(PhysicsError::NotFinite { .. })
-        ));
+        assert!(matches!(size_expansion_vessel(&i), Err(PhysicsError::NotFinite { .. })));
         let mut i = base();
         i.static_height_m = -1.0;
         assert!(size_expansion_vessel(&i).is_err());
@@ -349,10 +307,7 @@ mod tests {
         let mut i = base();
         i.static_height_m = 25.0;
         let e = size_expansion_vessel(&i).unwrap_err();
-        assert!(
-            e.to_string().contains("does not exceed the pre-charge"),
-            "{e}"
-        );
+        assert!(e.to_string().contains("does not exceed the pre-charge"), "{e}");
         assert!(final_pressure_bar(0.0).is_err());
         assert!(expansion_coefficient(70.0, 10.0).is_err());
     }

@@ -60,13 +60,7 @@ pub fn properties(temperature_c: f64) -> PhysicsResult<WaterProperties> {
 /// [`crate::PhysicsError`] when either input is not finite or out of range.
 pub fn properties_at(temperature_c: f64, pressure_pa: f64) -> PhysicsResult<WaterProperties> {
     check::in_range("water temperature", temperature_c, "°C", MIN_TEMPERATURE_C, MAX_TEMPERATURE_C)?;
-    check::in_range(
-        "system pressure (absolute)",
-        pressure_pa,
-        "Pa",
-        PRESSURE_RANGE_PA.0,
-        PRESSURE_RANGE_PA.1,
-    )?;
+    check::in_range("system pressure (absolute)", pressure_pa, "Pa", PRESSURE_RANGE_PA.0, PRESSURE_RANGE_PA.1)?;
     let p_mpa = pressure_pa * 1e-6;
     // Region 1 (compressed liquid) is forced: inside the accepted ranges the
     // state is always liquid.

@@ -65,7 +65,14 @@ pub fn block() -> Project {
         .enumerate()
         .map(|(i, n)| if i == 0 { LevelId(0) } else { b.level(n, 3.0 * i as f64) })
         .collect();
-    let hp = b.source(basement, 0.0, 2.0, 24_000.0, [(0.5, 75.0), (2.5, 62.0), (5.0, 25.0)], PumpControl::ConstantDp { setpoint_kpa: 40.0 });
+    let hp = b.source(
+        basement,
+        0.0,
+        2.0,
+        24_000.0,
+        [(0.5, 75.0), (2.5, 62.0), (5.0, 25.0)],
+        PumpControl::ConstantDp { setpoint_kpa: 40.0 },
+    );
     let foot = b.junction(basement, 2.0, 2.0);
     b.run(hp, foot);
     let mut below = foot;
@@ -92,10 +99,22 @@ pub fn block() -> Project {
 /// with reverse return to eight offices.
 pub fn office() -> Project {
     let mut b = Builder::new("Office floor, Quarry Lane 7");
-    let settings = DesignSettings { supply_c: 70.0, return_c: 50.0, return_layout: ReturnLayout::Reverse, ..DesignSettings::default() };
+    let settings = DesignSettings {
+        supply_c: 70.0,
+        return_c: 50.0,
+        return_layout: ReturnLayout::Reverse,
+        ..DesignSettings::default()
+    };
     b.p.apply(Edit::SetSettings(Box::new(settings))).unwrap();
     let g = LevelId(0);
-    let s = b.source(g, 0.0, 0.0, 30_000.0, [(0.3, 80.0), (1.5, 68.0), (3.0, 35.0)], PumpControl::ConstantDp { setpoint_kpa: 40.0 });
+    let s = b.source(
+        g,
+        0.0,
+        0.0,
+        30_000.0,
+        [(0.3, 80.0), (1.5, 68.0), (3.0, 35.0)],
+        PumpControl::ConstantDp { setpoint_kpa: 40.0 },
+    );
     let mut prev = s;
     for i in 0..8 {
         let x = 4.0 + 5.0 * f64::from(i);

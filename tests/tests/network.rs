@@ -7,7 +7,7 @@
 use std::collections::BTreeSet;
 use std::path::PathBuf;
 
-use flowrise_core::design::{self, LinkRole, Severity, Side, SolveOptions, Solution, Workspace, solve_project};
+use flowrise_core::design::{self, LinkRole, Severity, Side, Solution, SolveOptions, Workspace, solve_project};
 use flowrise_core::network::{GRAVITY_M_S2, LinkLaw};
 use flowrise_core::project::{Edit, LevelId, Mode, NodeId, NodeKind, Project, ReturnLayout, RunProps};
 use flowrise_core::pump::PumpControl;
@@ -96,7 +96,11 @@ fn every_demo_solves_and_balances() {
         let sol2 = solve(&q);
         assert_balances(&sol2, &format!("{name} installed"));
         for (a, b) in sol.emitters.iter().zip(&sol2.emitters) {
-            assert!((a.flow_kg_s - b.flow_kg_s).abs() <= 1e-6 + 1e-3 * a.flow_kg_s, "{name}: freezing changed {}", a.name);
+            assert!(
+                (a.flow_kg_s - b.flow_kg_s).abs() <= 1e-6 + 1e-3 * a.flow_kg_s,
+                "{name}: freezing changed {}",
+                a.name
+            );
         }
     }
 }
@@ -213,7 +217,8 @@ fn file_errors_name_the_item_and_the_fix() {
     // A zero length override.
     let mut q = p.clone();
     let r = q.runs().next().unwrap().id;
-    let err = q.apply(Edit::SetRunProps { id: r, props: RunProps { length_override_m: Some(0.0), ..RunProps::default() } });
+    let err =
+        q.apply(Edit::SetRunProps { id: r, props: RunProps { length_override_m: Some(0.0), ..RunProps::default() } });
     assert!(err.unwrap_err().to_string().contains(&format!("run {r}")));
     let bad = text.replacen("length_override_m: None", "length_override_m: Some(-2.0)", 1);
     let e = Project::from_ron(&bad).unwrap_err().to_string();
@@ -267,7 +272,9 @@ fn drawn_loops_are_reported() {
     // Breadth-first from the source, the run met last closes the loop;
     // which one that is depends on the order, so accept any run of the loop.
     assert!(
-        sol.findings.iter().any(|f| matches!(f.item, design::ItemRef::Run(r) if loop_runs.contains(&r)) && f.message.contains("loop")),
+        sol.findings
+            .iter()
+            .any(|f| matches!(f.item, design::ItemRef::Run(r) if loop_runs.contains(&r)) && f.message.contains("loop")),
         "{:#?}",
         sol.findings
     );
@@ -304,7 +311,11 @@ fn random_project(seed: u64) -> Project {
     let mut b = Builder::new(&format!("random {seed}"));
     let g = LevelId(0);
     let up = b.level("Upper", 3.0);
-    let controls = [PumpControl::FixedSpeed, PumpControl::ConstantDp { setpoint_kpa: 30.0 }, PumpControl::ProportionalDp { setpoint_kpa: 30.0 }];
+    let controls = [
+        PumpControl::FixedSpeed,
+        PumpControl::ConstantDp { setpoint_kpa: 30.0 },
+        PumpControl::ProportionalDp { setpoint_kpa: 30.0 },
+    ];
     let pump = [(0.5, 90.0), (3.0, 75.0), (6.0, 30.0)];
     let s = b.source(g, 0.0, 0.0, 200_000.0, pump, controls[rng.below(3)]);
     let mut junctions = vec![(s, g, 0.0, 0.0)];

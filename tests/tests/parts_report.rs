@@ -12,7 +12,7 @@ use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
 use flowrise_core::design::topology;
-use flowrise_core::design::{LinkRole, Side, SolveOptions, Solution, Workspace, bend_count, solve_project};
+use flowrise_core::design::{LinkRole, Side, Solution, SolveOptions, Workspace, bend_count, solve_project};
 use flowrise_core::parts::{self, PartCategory, PartUnit, PartsList, PartsOptions};
 use flowrise_core::pipes;
 use flowrise_core::project::{NodeId, NodeKind, Project, RunId};
@@ -68,13 +68,20 @@ fn pipe_totals_per_side_and_series_are_the_run_lengths_plus_the_allowance() {
         for pr in &d.sol.pipes {
             let run = d.p.run(pr.run).unwrap();
             let series = pipes::find_series(&pr.series).unwrap();
-            let net = if pr.side == Side::Supply || !chain_runs.contains(&pr.run) { d.p.length_m(run) } else { pr.length_m };
+            let net =
+                if pr.side == Side::Supply || !chain_runs.contains(&pr.run) { d.p.length_m(run) } else { pr.length_m };
             *expected.entry((pr.side, series.name.clone())).or_default() += net;
         }
         // Every run has a supply and a return pipe.
         for run in d.p.runs() {
             for side in [Side::Supply, Side::Return] {
-                assert_eq!(d.sol.run_pipes(run.id).filter(|x| x.side == side).count(), 1, "{}: {} {side:?}", d.name, run.id);
+                assert_eq!(
+                    d.sol.run_pipes(run.id).filter(|x| x.side == side).count(),
+                    1,
+                    "{}: {} {side:?}",
+                    d.name,
+                    run.id
+                );
             }
         }
         // Reverse return: the first run of a chain carries the home pipe along
@@ -172,15 +179,32 @@ fn one_tee_of_the_right_sizes_per_three_way_junction() {
                 Side::Supply => "— supply",
                 Side::Return => "— return",
             };
-            let tee_lines: Vec<_> = d.parts.lines_in(PartCategory::Fitting).filter(|l| (l.item.starts_with("equal tee") || l.item.starts_with("reducing tee")) && l.item.ends_with(suffix)).collect();
+            let tee_lines: Vec<_> = d
+                .parts
+                .lines_in(PartCategory::Fitting)
+                .filter(|l| {
+                    (l.item.starts_with("equal tee") || l.item.starts_with("reducing tee")) && l.item.ends_with(suffix)
+                })
+                .collect();
             for node in d.p.nodes().filter(|n| matches!(n.kind, NodeKind::Junction)) {
                 let id = node.id.to_string();
                 // Pipes of this side at the node, from the derived network.
                 let at: Vec<_> = match side {
-                    Side::Supply => d.p.runs_at(node.id).iter().filter_map(|&r| d.sol.run_pipes(r).find(|x| x.side == Side::Supply)).collect(),
+                    Side::Supply => {
+                        d.p.runs_at(node.id)
+                            .iter()
+                            .filter_map(|&r| d.sol.run_pipes(r).find(|x| x.side == Side::Supply))
+                            .collect()
+                    }
                     Side::Return => {
                         let Some(&h) = rmap.get(&node.id) else { continue };
-                        d.sol.pipes.iter().filter(|x| x.side == Side::Return && (net.links[x.link].from == h || net.links[x.link].to == h)).collect()
+                        d.sol
+                            .pipes
+                            .iter()
+                            .filter(|x| {
+                                x.side == Side::Return && (net.links[x.link].from == h || net.links[x.link].to == h)
+                            })
+                            .collect()
                     }
                 };
                 let lines: Vec<_> = tee_lines.iter().filter(|l| l.serves.contains(&id)).collect();
@@ -189,7 +213,8 @@ fn one_tee_of_the_right_sizes_per_three_way_junction() {
                     let line = lines[0];
                     let mut got = tee_legs(&line.size);
                     // The trunk is the pipe with the largest design flow.
-                    let trunk = at.iter().max_by(|a, b| a.design_flow_kg_s.abs().total_cmp(&b.design_flow_kg_s.abs())).unwrap();
+                    let trunk =
+                        at.iter().max_by(|a, b| a.design_flow_kg_s.abs().total_cmp(&b.design_flow_kg_s.abs())).unwrap();
                     assert_eq!(got[0], trunk.size, "{}: {id} {side:?}: trunk size", d.name);
                     let mut want: Vec<String> = at.iter().map(|x| x.size.clone()).collect();
                     got.sort();
@@ -203,7 +228,11 @@ fn one_tee_of_the_right_sizes_per_three_way_junction() {
                     let crosses = d
                         .parts
                         .lines_in(PartCategory::Fitting)
-                        .filter(|l| l.item.starts_with("cross or tee pair") && l.item.ends_with(suffix) && l.serves.contains(&id))
+                        .filter(|l| {
+                            l.item.starts_with("cross or tee pair")
+                                && l.item.ends_with(suffix)
+                                && l.serves.contains(&id)
+                        })
                         .count();
                     assert_eq!(crosses, usize::from(at.len() >= 4), "{}: {id} {side:?}: {} pipes", d.name, at.len());
                 }
@@ -222,20 +251,48 @@ fn every_emitter_appears_once_with_its_presetting() {
     for d in demos() {
         for e in &d.sol.emitters {
             let id = e.id.to_string();
-            let valve: Vec<_> =
-                d.parts.lines_in(PartCategory::Valve).filter(|l| l.note.starts_with("presetting") && l.serves.contains(&id)).collect();
+            let valve: Vec<_> = d
+                .parts
+                .lines_in(PartCategory::Valve)
+                .filter(|l| l.note.starts_with("presetting") && l.serves.contains(&id))
+                .collect();
             assert_eq!(valve.len(), 1, "{}: {id}: one valve line", d.name);
-            assert!(valve[0].note.starts_with(&format!("presetting {} (", e.presetting)), "{}: {id}: {}", d.name, valve[0].note);
-            let lock = d.parts.lines_in(PartCategory::Valve).filter(|l| l.note.starts_with("lockshield") && l.serves.contains(&id)).count();
+            assert!(
+                valve[0].note.starts_with(&format!("presetting {} (", e.presetting)),
+                "{}: {id}: {}",
+                d.name,
+                valve[0].note
+            );
+            let lock = d
+                .parts
+                .lines_in(PartCategory::Valve)
+                .filter(|l| l.note.starts_with("lockshield") && l.serves.contains(&id))
+                .count();
             assert_eq!(lock, 1, "{}: {id}: one lockshield line", d.name);
             let body = d.parts.lines_in(PartCategory::Emitter).filter(|l| l.serves.contains(&id)).count();
             assert_eq!(body, 1, "{}: {id}: one emitter line", d.name);
         }
         // Piece counts equal the items served.
-        for l in d.parts.lines_in(PartCategory::Valve).chain(d.parts.lines_in(PartCategory::Emitter).filter(|l| l.unit == PartUnit::Piece)) {
-            assert!(close(l.quantity, l.serves.len() as f64, 0.0), "{}: {} ×{} serves {:?}", d.name, l.item, l.quantity, l.serves);
+        for l in d
+            .parts
+            .lines_in(PartCategory::Valve)
+            .chain(d.parts.lines_in(PartCategory::Emitter).filter(|l| l.unit == PartUnit::Piece))
+        {
+            assert!(
+                close(l.quantity, l.serves.len() as f64, 0.0),
+                "{}: {} ×{} serves {:?}",
+                d.name,
+                l.item,
+                l.quantity,
+                l.serves
+            );
         }
-        let valves_total: f64 = d.parts.lines_in(PartCategory::Valve).filter(|l| l.note.starts_with("presetting")).map(|l| l.quantity).sum();
+        let valves_total: f64 = d
+            .parts
+            .lines_in(PartCategory::Valve)
+            .filter(|l| l.note.starts_with("presetting"))
+            .map(|l| l.quantity)
+            .sum();
         assert!(close(valves_total, d.sol.emitters.len() as f64, 0.0), "{}", d.name);
         // One pump and one vessel of a common size not below the EN 12828 minimum.
         assert_eq!(d.parts.lines_in(PartCategory::Pump).count(), 1);
@@ -246,7 +303,8 @@ fn every_emitter_appears_once_with_its_presetting() {
         // Headers with their outlet count.
         for n in d.p.nodes() {
             if let NodeKind::Header(h) = &n.kind {
-                let line = d.parts.lines_in(PartCategory::Header).find(|l| l.serves.contains(&n.id.to_string())).unwrap();
+                let line =
+                    d.parts.lines_in(PartCategory::Header).find(|l| l.serves.contains(&n.id.to_string())).unwrap();
                 assert_eq!(line.size, format!("{} outlets", h.outlets));
             }
         }
@@ -258,11 +316,21 @@ fn bends_follow_the_design_rule_and_the_list_is_sorted_and_deterministic() {
     for d in demos() {
         for run in d.p.runs() {
             let (n90, n45) = parts::bends_in_run(&d.p, run);
-            assert!(close(f64::from(n90) + 0.5 * f64::from(n45), bend_count(&d.p, run), 1e-12), "{}: {}", d.name, run.id);
+            assert!(
+                close(f64::from(n90) + 0.5 * f64::from(n45), bend_count(&d.p, run), 1e-12),
+                "{}: {}",
+                d.name,
+                run.id
+            );
         }
         // Riser foot and head: two 90° bends per vertical run and side at least.
         let verticals = d.p.runs().filter(|r| d.p.is_vertical(r)).count() as f64;
-        let bends90: f64 = d.parts.lines_in(PartCategory::Fitting).filter(|l| l.item.starts_with("bend 90°")).map(|l| l.quantity).sum();
+        let bends90: f64 = d
+            .parts
+            .lines_in(PartCategory::Fitting)
+            .filter(|l| l.item.starts_with("bend 90°"))
+            .map(|l| l.quantity)
+            .sum();
         assert!(bends90 >= 4.0 * verticals, "{}: {bends90} bends for {verticals} vertical runs", d.name);
         // Sorted by category, and the same list twice.
         let cats: Vec<_> = d.parts.lines.iter().map(|l| l.category).collect();
@@ -274,7 +342,11 @@ fn bends_follow_the_design_rule_and_the_list_is_sorted_and_deterministic() {
         // Insulation covers every pipe, both sides, with the allowance.
         let pipe_total: f64 = d.parts.lines_in(PartCategory::Pipe).map(|l| l.quantity).sum();
         let insulation: f64 = d.parts.lines_in(PartCategory::Insulation).map(|l| l.quantity).sum();
-        assert!(close(pipe_total, insulation, 0.01 * d.parts.lines.len() as f64), "{}: {pipe_total} vs {insulation}", d.name);
+        assert!(
+            close(pipe_total, insulation, 0.01 * d.parts.lines.len() as f64),
+            "{}: {pipe_total} vs {insulation}",
+            d.name
+        );
     }
 }
 
@@ -319,20 +391,49 @@ fn count(hay: &str, needle: &str) -> usize {
 fn assert_structure(d: &Demo, html: &str, what: &str) {
     assert_eq!(count(html, "class=\"level-plan\""), d.p.levels.len(), "{}/{what}: one plan per level", d.name);
     for l in &d.p.levels {
-        assert_eq!(count(html, &format!("class=\"level-plan\" data-level=\"{}\"", l.id)), 1, "{}/{what}: plan of {}", d.name, l.id);
+        assert_eq!(
+            count(html, &format!("class=\"level-plan\" data-level=\"{}\"", l.id)),
+            1,
+            "{}/{what}: plan of {}",
+            d.name,
+            l.id
+        );
     }
     assert_eq!(count(html, "class=\"riser-elevation\""), 1, "{}/{what}: riser elevation", d.name);
     assert_eq!(count(html, "class=\"pump-chart\""), 1, "{}/{what}: pump chart", d.name);
     for e in &d.sol.emitters {
         assert_eq!(count(html, &format!("<tr data-emitter=\"{}\"", e.id)), 1, "{}/{what}: row of {}", d.name, e.id);
-        assert!(html.contains(&format!("data-emitter=\"{}\"><rect", e.id)) || html.contains(&format!("data-emitter=\"{}\"><circle", e.id)), "{}/{what}: {} drawn", d.name, e.id);
+        assert!(
+            html.contains(&format!("data-emitter=\"{}\"><rect", e.id))
+                || html.contains(&format!("data-emitter=\"{}\"><circle", e.id)),
+            "{}/{what}: {} drawn",
+            d.name,
+            e.id
+        );
     }
     for pr in &d.sol.pipes {
         let side = if pr.side == Side::Supply { "supply" } else { "return" };
-        assert_eq!(count(html, &format!("<tr data-run=\"{}\" data-side=\"{side}\"", pr.run)), 1, "{}/{what}: pipe row", d.name);
+        assert_eq!(
+            count(html, &format!("<tr data-run=\"{}\" data-side=\"{side}\"", pr.run)),
+            1,
+            "{}/{what}: pipe row",
+            d.name
+        );
     }
     assert_eq!(count(html, "<tr data-part="), d.parts.lines.len(), "{}/{what}: parts rows", d.name);
-    for id in ["conditions", "plans", "riser", "emitters", "pipes", "findings", "pump", "vessel", "parts", "methods", "cautions"] {
+    for id in [
+        "conditions",
+        "plans",
+        "riser",
+        "emitters",
+        "pipes",
+        "findings",
+        "pump",
+        "vessel",
+        "parts",
+        "methods",
+        "cautions",
+    ] {
         assert!(html.contains(&format!("<section id=\"{id}\"")), "{}/{what}: section {id}", d.name);
     }
 }

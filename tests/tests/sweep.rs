@@ -116,7 +116,12 @@ fn closing_valves_raises_dp_under_fixed_speed_and_not_under_constant_dp() {
             let cdp_after = dp(&half, "constant Δp", id);
             let cdp = cdp_after / cdp_before - 1.0;
             assert!(fs > 0.02, "{name} {id}: fixed speed Δp must rise ({:+.1} %)", fs * 100.0);
-            assert!(cdp < fs, "{name} {id}: constant Δp rise {:+.1} % vs fixed speed {:+.1} %", cdp * 100.0, fs * 100.0);
+            assert!(
+                cdp < fs,
+                "{name} {id}: constant Δp rise {:+.1} % vs fixed speed {:+.1} %",
+                cdp * 100.0,
+                fs * 100.0
+            );
             let rest_kpa = base.emitters.iter().find(|e| e.id.to_string() == *id).unwrap().circuit_rest_pa / 1000.0;
             assert!(
                 cdp_after - cdp_before <= rest_kpa + 1e-6,

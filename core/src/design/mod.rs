@@ -36,6 +36,11 @@ use crate::valves::{self, ValveFamily};
 use crate::water::{self, WaterProperties};
 use crate::{fittings, vessel};
 
+/// ζ of one header outlet (distributor or collector connection), referred
+/// to the outlet pipe: 1.0, common practice (a manifold outlet is about one
+/// velocity head; recalled from memory, not verified against a document).
+pub const HEADER_OUTLET_ZETA: f64 = 1.0;
+
 /// Supply or return side of a drawn run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -369,6 +374,8 @@ struct Derivation<'f> {
     design_flows: Vec<f64>,
     /// Supply pipe link of each run.
     supply_link: BTreeMap<RunId, usize>,
+    /// Index into `pipes` of each run's supply pipe.
+    supply_pipe: BTreeMap<RunId, usize>,
     available_pa: f64,
     control: PumpControl,
     curve: Option<PumpCurve>,
@@ -392,6 +399,7 @@ impl<'f> Derivation<'f> {
             pairs: BTreeMap::new(),
             design_flows: Vec::new(),
             supply_link: BTreeMap::new(),
+            supply_pipe: BTreeMap::new(),
             available_pa: 0.0,
             control: PumpControl::FixedSpeed,
             curve: None,
@@ -428,7 +436,8 @@ impl<'f> Derivation<'f> {
         let Some(source) = self.topo.source else { return false };
         self.source = Some(source);
         let (Ok(sp), Ok(rp)) = (water::properties(s.supply_c), water::properties(s.return_c)) else {
-            self.findings.push(Finding::error(ItemRef::Settings, "design temperatures outside the water-property range"));
+            self.findings
+                .push(Finding::error(ItemRef::Settings, "design temperatures outside the water-property range"));
             return false;
         };
         self.supply_props = Some(sp);
@@ -456,8 +465,13 @@ impl<'f> Derivation<'f> {
         // Source and pump links.
         let Some(NodeKind::Source(src)) = p.node(source).map(|n| &n.kind) else { return false };
         let r_source = valves::resistance_r_pa_s2_kg2(src.kv_m3_h, sp.density_kg_m3).unwrap_or(0.0);
-        self.source_link =
-            self.add_link(pump_out, s_src, sp.density_kg_m3, LinkLaw::Quadratic { r_pa_s2_kg2: r_source }, LinkRole::Source(source));
+        self.source_link = self.add_link(
+            pump_out,
+            s_src,
+            sp.density_kg_m3,
+            LinkLaw::Quadratic { r_pa_s2_kg2: r_source },
+            LinkRole::Source(source),
+        );
         self.pump_link = self.add_link(
             r_src,
             pump_out,
@@ -468,7 +482,10 @@ impl<'f> Derivation<'f> {
         match PumpCurve::from_three_points(src.pump.curve_points) {
             Ok(c) => self.curve = Some(c),
             Err(e) => {
-                self.findings.push(Finding::error(ItemRef::Node(source), format!("pump curve: {e} — correct the three curve points")));
+                self.findings.push(Finding::error(
+                    ItemRef::Node(source),
+                    format!("pump curve: {e} — correct the three curve points"),
+                ));
                 return false;
             }
         }
@@ -518,15 +535,23 @@ impl<'f> Derivation<'f> {
                     f64::INFINITY
                 }
             };
-            let vl = self.add_link(ns, nm, mean_rho, LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 }, LinkRole::EmitterValves(e));
+            let vl =
+                self.add_link(ns, nm, mean_rho, LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 }, LinkRole::EmitterValves(e));
             let body_law = match design.as_ref().map(|d| d.installed.body) {
                 // A floor loop's pipe at the network's mean water temperature
                 // (not the emitter's own design mean, which jumps when the
                 // emitter reaches its flow cap): the loop's resistance then
                 // moves smoothly with the supply temperature.
                 Some(crate::emitters::BodyHydraulics::Pipe(ph)) => LinkLaw::Pipe(
-                    PipeHydraulics::new(ph.length_m, ph.inner_diameter_m, ph.roughness_m, ph.zeta_sum, mp.density_kg_m3, mp.viscosity_pa_s)
-                        .unwrap_or(ph),
+                    PipeHydraulics::new(
+                        ph.length_m,
+                        ph.inner_diameter_m,
+                        ph.roughness_m,
+                        ph.zeta_sum,
+                        mp.density_kg_m3,
+                        mp.viscosity_pa_s,
+                    )
+                    .unwrap_or(ph),
                 ),
                 Some(crate::emitters::BodyHydraulics::Quadratic { r_pa_s2_kg2 }) => LinkLaw::Quadratic { r_pa_s2_kg2 },
                 None => LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 },
@@ -554,8 +579,11 @@ impl<'f> Derivation<'f> {
 
         // Pipes: supply for every tree run; return direct or along a
         // reverse-return chain.
-        let emitter_nodes: BTreeMap<NodeId, (usize, usize)> = self.emitters.iter().map(|e| (e.id, (e.s, e.r))).collect();
-        let ends = |n: NodeId, pairs: &BTreeMap<NodeId, (usize, usize)>| pairs.get(&n).copied().or_else(|| emitter_nodes.get(&n).copied());
+        let emitter_nodes: BTreeMap<NodeId, (usize, usize)> =
+            self.emitters.iter().map(|e| (e.id, (e.s, e.r))).collect();
+        let ends = |n: NodeId, pairs: &BTreeMap<NodeId, (usize, usize)>| {
+            pairs.get(&n).copied().or_else(|| emitter_nodes.get(&n).copied())
+        };
         let mut in_chain: BTreeSet<RunId> = BTreeSet::new();
         for ch in &self.topo.reverse_chains {
             in_chain.extend(ch.runs.iter().copied());
@@ -563,17 +591,51 @@ impl<'f> Derivation<'f> {
         let tree_runs = self.topo.runs.clone();
         for tr in &tree_runs {
             let Some(run) = p.run(tr.run) else { continue };
-            let (Some((su, ru)), Some((sd, rd))) = (ends(tr.up, &self.pairs), ends(tr.down, &self.pairs)) else { continue };
+            let (Some((su, ru)), Some((sd, rd))) = (ends(tr.up, &self.pairs), ends(tr.down, &self.pairs)) else {
+                continue;
+            };
             let class = self.topo.class.get(&tr.run).copied().unwrap_or(PipeClass::Branch);
             let length_m = p.length_m(run);
             let bends = bend_count(p, run);
             let vertical = p.is_vertical(run);
             let placeholder = LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 };
-            let l = self.add_link(su, sd, sp.density_kg_m3, placeholder.clone(), LinkRole::Pipe { run: tr.run, side: Side::Supply });
-            self.pipes.push(PipeData { run: tr.run, side: Side::Supply, class, length_m, bends, vertical, link: l, series: None, size: 0 });
+            let l = self.add_link(
+                su,
+                sd,
+                sp.density_kg_m3,
+                placeholder.clone(),
+                LinkRole::Pipe { run: tr.run, side: Side::Supply },
+            );
+            self.pipes.push(PipeData {
+                run: tr.run,
+                side: Side::Supply,
+                class,
+                length_m,
+                bends,
+                vertical,
+                link: l,
+                series: None,
+                size: 0,
+            });
             if !in_chain.contains(&tr.run) {
-                let l = self.add_link(rd, ru, rp.density_kg_m3, placeholder, LinkRole::Pipe { run: tr.run, side: Side::Return });
-                self.pipes.push(PipeData { run: tr.run, side: Side::Return, class, length_m, bends, vertical, link: l, series: None, size: 0 });
+                let l = self.add_link(
+                    rd,
+                    ru,
+                    rp.density_kg_m3,
+                    placeholder,
+                    LinkRole::Pipe { run: tr.run, side: Side::Return },
+                );
+                self.pipes.push(PipeData {
+                    run: tr.run,
+                    side: Side::Return,
+                    class,
+                    length_m,
+                    bends,
+                    vertical,
+                    link: l,
+                    series: None,
+                    size: 0,
+                });
             }
         }
         let chains = self.topo.reverse_chains.clone();
@@ -593,11 +655,17 @@ impl<'f> Derivation<'f> {
                     // The first run's return is the home pipe from the chain's
                     // end back to its start, alongside the whole chain.
                     let (Some(last), Some(first)) = (nodes.last(), nodes.first()) else { continue };
-                    let (Some((_, r_last)), Some((_, r_first))) = (ends(*last, &self.pairs), ends(*first, &self.pairs)) else { continue };
+                    let (Some((_, r_last)), Some((_, r_first))) = (ends(*last, &self.pairs), ends(*first, &self.pairs))
+                    else {
+                        continue;
+                    };
                     let bends: f64 = ch.runs.iter().filter_map(|&x| p.run(x)).map(|x| bend_count(p, x)).sum();
                     (r_last, r_first, total_len, bends, p.is_vertical(run))
                 } else {
-                    let (Some((_, ra)), Some((_, rb))) = (ends(nodes[i], &self.pairs), ends(nodes[i + 1], &self.pairs)) else { continue };
+                    let (Some((_, ra)), Some((_, rb))) = (ends(nodes[i], &self.pairs), ends(nodes[i + 1], &self.pairs))
+                    else {
+                        continue;
+                    };
                     (ra, rb, p.length_m(run), bend_count(p, run), p.is_vertical(run))
                 };
                 let l = self.add_link(
@@ -607,11 +675,23 @@ impl<'f> Derivation<'f> {
                     LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 },
                     LinkRole::Pipe { run: r, side: Side::Return },
                 );
-                self.pipes.push(PipeData { run: r, side: Side::Return, class, length_m, bends, vertical, link: l, series: None, size: 0 });
+                self.pipes.push(PipeData {
+                    run: r,
+                    side: Side::Return,
+                    class,
+                    length_m,
+                    bends,
+                    vertical,
+                    link: l,
+                    series: None,
+                    size: 0,
+                });
             }
         }
         self.pipes.sort_by(|a, b| a.run.cmp(&b.run).then(a.side.cmp(&b.side)));
         self.supply_link = self.pipes.iter().filter(|p| p.side == Side::Supply).map(|p| (p.run, p.link)).collect();
+        self.supply_pipe =
+            self.pipes.iter().enumerate().filter(|(_, p)| p.side == Side::Supply).map(|(i, p)| (p.run, i)).collect();
         true
     }
 
@@ -698,7 +778,8 @@ impl<'f> Derivation<'f> {
             let series = match pipes::find_series(series_id) {
                 Ok(x) => x,
                 Err(e) => {
-                    self.findings.push(Finding::error(ItemRef::Settings, format!("pipe series for {}: {e}", class.name())));
+                    self.findings
+                        .push(Finding::error(ItemRef::Settings, format!("pipe series for {}: {e}", class.name())));
                     continue;
                 }
             };
@@ -765,7 +846,17 @@ impl<'f> Derivation<'f> {
                 // Foot and head of a riser: two bends (assumption, stated).
                 zeta += 2.0 * fittings::Fitting::BEND_90.zeta().unwrap_or(0.3);
             }
-            zeta += self.tee_zeta(pd.run, pd.side, &split).max(0.0);
+            // A header is a manifold, not a tee: its outlet gets a fixed ζ
+            // (HEADER_OUTLET_ZETA); tees are booked at junctions.
+            let at_header = self
+                .topo
+                .tree_run(pd.run)
+                .is_some_and(|tr| matches!(p.node(tr.up).map(|n| &n.kind), Some(NodeKind::Header(_))));
+            if at_header {
+                zeta += HEADER_OUTLET_ZETA;
+            } else {
+                zeta += self.tee_zeta(pd.run, pd.side, &split).max(0.0);
+            }
             let zeta = zeta.max(0.0);
             let law = PipeHydraulics::new(
                 pd.length_m.max(0.01),
@@ -788,7 +879,13 @@ impl<'f> Derivation<'f> {
         let lockshield_r: Vec<f64> = self
             .emitters
             .iter()
-            .map(|e| if e.lockshield_kv.is_finite() { valves::resistance_r_pa_s2_kg2(e.lockshield_kv, rho_mean).unwrap_or(0.0) } else { 0.0 })
+            .map(|e| {
+                if e.lockshield_kv.is_finite() {
+                    valves::resistance_r_pa_s2_kg2(e.lockshield_kv, rho_mean).unwrap_or(0.0)
+                } else {
+                    0.0
+                }
+            })
             .collect();
 
         // Pressures at design flows: supply nodes relative to the source
@@ -798,7 +895,9 @@ impl<'f> Derivation<'f> {
         let Some(&(s_src, r_src)) = self.source.and_then(|x| self.pairs.get(&x)) else { return };
         p_node[s_src] = 0.0;
         p_node[r_src] = 0.0;
-        let static_c = |k: &HydLink, nodes: &[HydNode]| k.density_kg_m3 * GRAVITY_M_S2 * (nodes[k.from].elevation_m - nodes[k.to].elevation_m);
+        let static_c = |k: &HydLink, nodes: &[HydNode]| {
+            k.density_kg_m3 * GRAVITY_M_S2 * (nodes[k.from].elevation_m - nodes[k.to].elevation_m)
+        };
         // Resolve by repeated sweeps over pipe links (trees: each sweep
         // resolves at least one level; BFS order makes it one sweep).
         let mut pending: Vec<usize> = self.pipes.iter().map(|p| p.link).collect();
@@ -839,9 +938,10 @@ impl<'f> Derivation<'f> {
                 continue;
             }
             req0[i] = src_dp - ps + body + lock + pr;
-            let valve_open = e.valve.and_then(|v| v.settings.last()).map_or(0.0, |st| {
-                valves::resistance_r_pa_s2_kg2(st.kv_m3_h, rho_mean).unwrap_or(0.0) * m * m
-            });
+            let valve_open = e
+                .valve
+                .and_then(|v| v.settings.last())
+                .map_or(0.0, |st| valves::resistance_r_pa_s2_kg2(st.kv_m3_h, rho_mean).unwrap_or(0.0) * m * m);
             open_dp[i] = valve_open;
             let need = req0[i] + valve_open.max(s.min_valve_dp_pa);
             if best.is_none_or(|(_, b)| need > b) {
@@ -849,7 +949,8 @@ impl<'f> Derivation<'f> {
             }
         }
         let Some((index, index_dp)) = best else {
-            self.findings.push(Finding::error(ItemRef::Project, "no emitter has a design flow — give the rooms their loads"));
+            self.findings
+                .push(Finding::error(ItemRef::Project, "no emitter has a design flow — give the rooms their loads"));
             return;
         };
         sol.index_emitter = Some(self.emitters[index].id);
@@ -860,13 +961,18 @@ impl<'f> Derivation<'f> {
         let q_design_m3_h = total / rp.density_kg_m3 * 3600.0;
         let source = self.source.unwrap_or(crate::project::NodeId(0));
         let control = match (s.mode, self.control) {
-            (Mode::DesignFollowsLayout, PumpControl::ConstantDp { .. }) => PumpControl::ConstantDp { setpoint_kpa: duty / 1000.0 },
-            (Mode::DesignFollowsLayout, PumpControl::ProportionalDp { .. }) => PumpControl::ProportionalDp { setpoint_kpa: duty / 1000.0 },
+            (Mode::DesignFollowsLayout, PumpControl::ConstantDp { .. }) => {
+                PumpControl::ConstantDp { setpoint_kpa: duty / 1000.0 }
+            }
+            (Mode::DesignFollowsLayout, PumpControl::ProportionalDp { .. }) => {
+                PumpControl::ProportionalDp { setpoint_kpa: duty / 1000.0 }
+            }
             (_, c) => c,
         };
         self.control = control;
         let curve_head_pa = curve.head_kpa(q_design_m3_h).map_or(0.0, |h| h * 1000.0);
-        let available = control.head_kpa(&curve, q_design_m3_h, q_design_m3_h.max(1e-9)).map_or(curve_head_pa, |h| h * 1000.0);
+        let available =
+            control.head_kpa(&curve, q_design_m3_h, q_design_m3_h.max(1e-9)).map_or(curve_head_pa, |h| h * 1000.0);
         if curve_head_pa < duty {
             self.findings.push(Finding::warning(
                 ItemRef::Node(source),
@@ -885,6 +991,8 @@ impl<'f> Derivation<'f> {
         // Presettings.
         let mut results = Vec::with_capacity(self.emitters.len());
         let emitters = std::mem::take(&mut self.emitters);
+        let pipe_by_run_side: BTreeMap<(RunId, Side), usize> =
+            self.pipes.iter().map(|pd| ((pd.run, pd.side), pd.link)).collect();
         for (i, e) in emitters.iter().enumerate() {
             let Some(node) = p.node(e.id) else { continue };
             let NodeKind::Emitter(em) = &node.kind else { continue };
@@ -924,12 +1032,29 @@ impl<'f> Derivation<'f> {
             let mut valve_kv = e.valve.and_then(|v| v.settings.last()).map_or(1.0, |st| st.kv_m3_h);
             if let (Some(family), true) = (e.valve, m > 0.0) {
                 let dp_valve = available - req0[i];
+                // The emitter's own resistances in series with the valve: its
+                // connection pipes, body and lockshield. The shared pipes
+                // upstream carry many circuits, so their Δp barely follows
+                // one circuit's flow error; treating them as a fixed pressure
+                // difference gives a realistic residual for a stepped
+                // presetting.
+                let own_rest = {
+                    let conn = self.topo.parent_run.get(&e.id).copied();
+                    let pipe_dp = |side: Side| {
+                        conn.and_then(|r| pipe_by_run_side.get(&(r, side)))
+                            .and_then(|&link| self.net.links.get(link))
+                            .map_or(0.0, |l| dp(&l.law, m))
+                    };
+                    let body = self.net.links.get(e.body_link).map_or(0.0, |l| dp(&l.law, m));
+                    (pipe_dp(Side::Supply) + pipe_dp(Side::Return) + body + lockshield_r[i] * m * m).min(req0[i])
+                };
                 let fixed = em.valves.presetting.clone();
                 if let Some(label) = fixed {
                     if let Some(st) = family.settings.iter().find(|st| st.label == label) {
                         valve_kv = st.kv_m3_h;
                         r.presetting = label;
-                    } else if let Some(pos) = label.parse::<f64>().ok().filter(|_| opts.continuous_presetting || s.mode == Mode::Installed)
+                    } else if let Some(pos) =
+                        label.parse::<f64>().ok().filter(|_| opts.continuous_presetting || s.mode == Mode::Installed)
                         && let Ok(kv) = valves::kv_at_continuous_setting(family, pos)
                     {
                         valve_kv = kv;
@@ -937,17 +1062,28 @@ impl<'f> Derivation<'f> {
                     } else {
                         self.findings.push(Finding::error(
                             ItemRef::Node(e.id),
-                            format!("{}: presetting {label} is not a step of {} — pick one of its steps", node.label(), family.name),
+                            format!(
+                                "{}: presetting {label} is not a step of {} — pick one of its steps",
+                                node.label(),
+                                family.name
+                            ),
                         ));
                     }
                     r.valve_dp_pa = valves::resistance_r_pa_s2_kg2(valve_kv, rho_mean).unwrap_or(0.0) * m * m;
-                    r.kv_needed_m3_h = if dp_valve > 0.0 { valves::kv_needed(q_m3_h, dp_valve, sp.density_kg_m3).unwrap_or(0.0) } else { 0.0 };
+                    r.kv_needed_m3_h = if dp_valve > 0.0 {
+                        valves::kv_needed(q_m3_h, dp_valve, sp.density_kg_m3).unwrap_or(0.0)
+                    } else {
+                        0.0
+                    };
                 } else if dp_valve <= 0.0 {
                     valve_kv = family.settings.last().map_or(valve_kv, |st| st.kv_m3_h);
                     r.presetting = family.settings.last().map_or_else(String::new, |st| st.label.clone());
                     self.findings.push(Finding::warning(
                         ItemRef::Node(e.id),
-                        format!("{}: the pump head cannot drive the design flow even with the valve fully open", node.label()),
+                        format!(
+                            "{}: the pump head cannot drive the design flow even with the valve fully open",
+                            node.label()
+                        ),
                     ));
                 } else {
                     let kv_needed = valves::kv_needed(q_m3_h, dp_valve, rho_mean).unwrap_or(valve_kv);
@@ -961,7 +1097,8 @@ impl<'f> Derivation<'f> {
                             Ok(choice) => {
                                 valve_kv = choice.kv_m3_h;
                                 r.presetting.clone_from(&choice.label);
-                                r.presetting_flow_error = choice.flow_error_fraction_in_circuit(dp_valve, req0[i]).unwrap_or(0.0);
+                                r.presetting_flow_error =
+                                    choice.flow_error_fraction_in_circuit(dp_valve, own_rest).unwrap_or(0.0);
                                 match choice.fit {
                                     valves::SettingFit::InRange => {}
                                     valves::SettingFit::AboveLargest => self.findings.push(Finding::warning(
@@ -987,7 +1124,9 @@ impl<'f> Derivation<'f> {
                                     )),
                                 }
                             }
-                            Err(err) => self.findings.push(Finding::error(ItemRef::Node(e.id), format!("{}: {err}", node.label()))),
+                            Err(err) => self
+                                .findings
+                                .push(Finding::error(ItemRef::Node(e.id), format!("{}: {err}", node.label()))),
                         }
                     }
                     r.valve_dp_pa = dp_valve;
@@ -1034,8 +1173,7 @@ impl<'f> Derivation<'f> {
             &self.control,
             rp.density_kg_m3,
             stored_design_kg_s.unwrap_or(total).max(1e-9),
-        )
-        {
+        ) {
             self.net.links[self.pump_link].law = LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2 };
         }
         self.net.reference_pressure_pa = 0.0;
@@ -1053,10 +1191,15 @@ impl<'f> Derivation<'f> {
         });
 
         // Heat load, source capacity, volumes, vessel.
-        sol.heat_load_w = self.emitters.iter().filter_map(|e| p.node(e.id)).map(|n| match &n.kind {
-            NodeKind::Emitter(em) => em.load_w,
-            _ => 0.0,
-        }).sum();
+        sol.heat_load_w = self
+            .emitters
+            .iter()
+            .filter_map(|e| p.node(e.id))
+            .map(|n| match &n.kind {
+                NodeKind::Emitter(em) => em.load_w,
+                _ => 0.0,
+            })
+            .sum();
         if let Some(NodeKind::Source(src)) = p.node(source).map(|n| &n.kind) {
             if src.capacity_w < sol.heat_load_w {
                 self.findings.push(Finding::warning(
@@ -1071,9 +1214,12 @@ impl<'f> Derivation<'f> {
             let pipes_l: f64 = self
                 .pipes
                 .iter()
-                .filter_map(|pd| pd.series.and_then(|s| s.sizes.get(pd.size)).map(|z| z.water_content_l_per_m() * pd.length_m))
+                .filter_map(|pd| {
+                    pd.series.and_then(|s| s.sizes.get(pd.size)).map(|z| z.water_content_l_per_m() * pd.length_m)
+                })
                 .sum();
-            let emitters_l: f64 = self.emitters.iter().filter_map(|e| e.design.as_ref()).map(|d| d.installed.water_content_l).sum();
+            let emitters_l: f64 =
+                self.emitters.iter().filter_map(|e| e.design.as_ref()).map(|d| d.installed.water_content_l).sum();
             sol.water_volume_l = pipes_l + emitters_l + src.water_content_l;
             let z_src = p.elevation_m(source);
             let z_max = p.nodes().map(|n| p.elevation_m(n.id)).fold(z_src, f64::max);
@@ -1099,18 +1245,40 @@ impl<'f> Derivation<'f> {
         if children.len() < 2 {
             return 0.0;
         }
-        let flow_of = |r: RunId| self.supply_link.get(&r).map_or(0.0, |&l| flows[l].abs());
+        let flow_of = |r: RunId| self.supply_link.get(&r).and_then(|&l| flows.get(l)).map_or(0.0, |f| f.abs());
+        // Inner diameter of a run's supply pipe (sizes are chosen by now).
+        let diameter_of = |r: RunId| {
+            self.supply_pipe
+                .get(&r)
+                .and_then(|&i| self.pipes.get(i))
+                .and_then(|pd| pd.series.and_then(|s| s.sizes.get(pd.size)))
+                .map_or(0.0, crate::pipes::PipeSize::inner_diameter_m)
+        };
         let combined: f64 = children.iter().map(|&(r, _)| flow_of(r)).sum();
         if combined <= 0.0 {
             return 0.0;
         }
         let mine = flow_of(run);
-        let largest = children.iter().map(|&(r, _)| (flow_of(r), r)).fold((f64::MIN, run), |a, b| if b.0 > a.0 { b } else { a }).1;
+        let largest = children
+            .iter()
+            .map(|&(r, _)| (flow_of(r), r))
+            .fold((f64::MIN, run), |a, b| if b.0 > a.0 { b } else { a })
+            .1;
         let leg = if largest == run { fittings::TeeLeg::Run } else { fittings::TeeLeg::Branch };
         let flow = if side == Side::Supply { fittings::TeeFlow::Dividing } else { fittings::TeeFlow::Combining };
         let branch_flow = if leg == fittings::TeeLeg::Branch { mine } else { combined - mine };
         let ratio = (branch_flow / combined).clamp(0.0, 1.0);
-        fittings::Fitting::Tee { flow, leg, flow_ratio: ratio, branch_diameter_ratio: 1.0 }.zeta().unwrap_or(0.0)
+        // Branch over run diameter: the branch leg's pipe against the pipe
+        // feeding the tee (or the straight-through leg at the source).
+        let branch_run = if leg == fittings::TeeLeg::Branch {
+            run
+        } else {
+            children.iter().map(|&(r, _)| r).filter(|&r| r != run).max_by(|&a, &b| flow_of(a).total_cmp(&flow_of(b))).unwrap_or(run)
+        };
+        let feed = self.topo.parent_run.get(&tr.up).copied().unwrap_or(largest);
+        let (d_branch, d_run) = (diameter_of(branch_run), diameter_of(feed));
+        let beta = if d_branch > 0.0 && d_run > 0.0 { (d_branch / d_run).clamp(0.05, 1.0) } else { 1.0 };
+        fittings::Fitting::Tee { flow, leg, flow_ratio: ratio, branch_diameter_ratio: beta }.zeta().unwrap_or(0.0)
     }
 
     /// Findings from an emitter's own design.
@@ -1154,7 +1322,11 @@ impl<'f> Derivation<'f> {
                 if f.exceeds_length_limit {
                     self.findings.push(Finding::warning(
                         ItemRef::Node(node.id),
-                        format!("{}: loop length {:.0} m is long (common practice limit) — split it into two loops", node.label(), f.loop_length_m),
+                        format!(
+                            "{}: loop length {:.0} m is long (common practice limit) — split it into two loops",
+                            node.label(),
+                            f.loop_length_m
+                        ),
                     ));
                 }
             }
@@ -1320,8 +1492,7 @@ impl<'f> Derivation<'f> {
         sol.converged = report.converged;
         if !report.converged {
             let detail = report.diagnostic.as_ref().map_or_else(String::new, |d| {
-                let links: Vec<String> =
-                    d.suspect_links.iter().take(5).map(|s| self.describe_link(s.link)).collect();
+                let links: Vec<String> = d.suspect_links.iter().take(5).map(|s| self.describe_link(s.link)).collect();
                 format!(" (last flow change {:.2e}; links that oscillate: {})", d.last_flow_change, links.join(", "))
             });
             self.findings.push(Finding::error(
@@ -1333,7 +1504,11 @@ impl<'f> Derivation<'f> {
                 ),
             ));
         }
-        let flows = if report.flows_kg_s.iter().all(|f| f.is_finite()) { report.flows_kg_s.clone() } else { self.design_flows.clone() };
+        let flows = if report.flows_kg_s.iter().all(|f| f.is_finite()) {
+            report.flows_kg_s.clone()
+        } else {
+            self.design_flows.clone()
+        };
         ws.last_roles.clone_from(&self.roles);
         ws.last_flows.clone_from(&flows);
         sol.link_flows_kg_s.clone_from(&flows);
@@ -1379,7 +1554,9 @@ impl<'f> Derivation<'f> {
             };
             pump.operating_flow_m3_h = m / rp.density_kg_m3 * 3600.0;
             pump.operating_head_pa = rise;
-            pump.hydraulic_power_w = crate::pump::hydraulic_power_w(pump.operating_flow_m3_h.max(0.0), (rise / 1000.0).max(0.0)).unwrap_or(0.0);
+            pump.hydraulic_power_w =
+                crate::pump::hydraulic_power_w(pump.operating_flow_m3_h.max(0.0), (rise / 1000.0).max(0.0))
+                    .unwrap_or(0.0);
             if let Some(curve) = &pump.curve
                 && let Ok(h) = curve.head_kpa(pump.operating_flow_m3_h.max(0.0))
                 && rise > h * 1000.0 * 1.001
@@ -1459,8 +1636,14 @@ pub fn bend_count(p: &Project, run: &crate::project::Run) -> f64 {
 /// limits at mass flow `m`; (index, true) or (largest, false).
 fn choose_size(series: &PipeSeries, m: f64, props: &WaterProperties, v_lim: f64, grad_lim: f64) -> (usize, bool) {
     for (i, size) in series.sizes.iter().enumerate() {
-        let Ok(h) = PipeHydraulics::new(1.0, size.inner_diameter_m(), series.roughness_m, 0.0, props.density_kg_m3, props.viscosity_pa_s)
-        else {
+        let Ok(h) = PipeHydraulics::new(
+            1.0,
+            size.inner_diameter_m(),
+            series.roughness_m,
+            0.0,
+            props.density_kg_m3,
+            props.viscosity_pa_s,
+        ) else {
             continue;
         };
         if h.velocity_m_s(m).abs() <= v_lim && friction_gradient_pa_m(&h, m) <= grad_lim {
@@ -1505,7 +1688,9 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> crate::project::Edit {
         source.pump.design_flow_m3_h = Some(pump.design_flow_m3_h);
         source.pump.control = match source.pump.control {
             PumpControl::ConstantDp { .. } => PumpControl::ConstantDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
-            PumpControl::ProportionalDp { .. } => PumpControl::ProportionalDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
+            PumpControl::ProportionalDp { .. } => {
+                PumpControl::ProportionalDp { setpoint_kpa: pump.duty_head_pa / 1000.0 }
+            }
             PumpControl::FixedSpeed => PumpControl::FixedSpeed,
         };
         edits.push(Edit::SetNodeKind { id: src.id, kind: NodeKind::Source(source) });

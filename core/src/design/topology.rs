@@ -225,11 +225,8 @@ pub fn analyse(p: &Project) -> (Topology, Vec<Finding>) {
     // reverse-return chains.
     let mut layout: BTreeMap<RunId, ReturnLayout> = BTreeMap::new();
     for tr in &t.runs {
-        let inherited = t
-            .parent_run
-            .get(&tr.up)
-            .and_then(|pr| layout.get(pr).copied())
-            .unwrap_or(p.settings.return_layout);
+        let inherited =
+            t.parent_run.get(&tr.up).and_then(|pr| layout.get(pr).copied()).unwrap_or(p.settings.return_layout);
         let own = p.run(tr.run).and_then(|r| r.props.return_layout).unwrap_or(inherited);
         layout.insert(tr.run, own);
     }
@@ -241,8 +238,7 @@ pub fn analyse(p: &Project) -> (Topology, Vec<Finding>) {
         }
         // A chain starts where the upstream run is not reverse (or at the source).
         let upstream_reverse = t.parent_run.get(&tr.up).is_some_and(|pr| {
-            layout.get(pr) == Some(&ReturnLayout::Reverse)
-                && t.tree_run(*pr).is_some_and(|ptr| is_trunk_node(ptr.down))
+            layout.get(pr) == Some(&ReturnLayout::Reverse) && t.tree_run(*pr).is_some_and(|ptr| is_trunk_node(ptr.down))
         });
         if upstream_reverse {
             continue;
@@ -254,7 +250,12 @@ pub fn analyse(p: &Project) -> (Topology, Vec<Finding>) {
             let trunk: Vec<(RunId, NodeId)> = t
                 .children
                 .get(&at)
-                .map(|ch| ch.iter().copied().filter(|&(r, c)| is_trunk_node(c) && layout.get(&r) == Some(&ReturnLayout::Reverse)).collect())
+                .map(|ch| {
+                    ch.iter()
+                        .copied()
+                        .filter(|&(r, c)| is_trunk_node(c) && layout.get(&r) == Some(&ReturnLayout::Reverse))
+                        .collect()
+                })
                 .unwrap_or_default();
             match trunk.as_slice() {
                 [] => break,

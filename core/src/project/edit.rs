@@ -6,9 +6,7 @@
 
 use thiserror::Error;
 
-use super::{
-    DesignSettings, Level, LevelId, Node, NodeId, NodeKind, PlanPoint, Project, Run, RunId, RunProps,
-};
+use super::{DesignSettings, Level, LevelId, Node, NodeId, NodeKind, PlanPoint, Project, Run, RunId, RunProps};
 
 /// One change to the project.
 #[derive(Debug, Clone, PartialEq)]
@@ -154,6 +152,21 @@ pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError>
                 return Err(invalid(label, format!("room temperature {} °C — give 5 to 30 °C", e.room_c)));
             }
             e.model.validate().map_err(|err| invalid(label, err.to_string()))?;
+            // Hydraulic data far outside any real emitter would overflow the
+            // circuit pressure drops (Δp ∝ 1/Kv², ∝ ζ): generous bounds,
+            // common practice, like the source's Kv above.
+            match &e.model {
+                crate::emitters::EmitterModel::Terminal(t) if !finite_in(t.kv_m3_h, 0.01, 10_000.0) => {
+                    return Err(invalid(label, format!("terminal Kv {} m³/h — give 0.01 to 10000", t.kv_m3_h)));
+                }
+                crate::emitters::EmitterModel::FloorLoop(f) if !finite_in(f.zeta_sum, 0.0, 1000.0) => {
+                    return Err(invalid(label, format!("loop ζ sum {} — give 0 to 1000", f.zeta_sum)));
+                }
+                crate::emitters::EmitterModel::FloorLoop(f) if !finite_in(f.pipe_roughness_m, 0.0, 0.005) => {
+                    return Err(invalid(label, format!("pipe roughness {} m — give 0 to 0.005 m", f.pipe_roughness_m)));
+                }
+                _ => {}
+            }
             Ok(())
         }
     }
@@ -243,7 +256,10 @@ impl Project {
             }
             Edit::AddLevel { name, elevation_m } => {
                 if !(elevation_m.is_finite() && elevation_m.abs() <= 500.0) {
-                    return Err(invalid(format!("level {name}"), format!("elevation {elevation_m} m — give −500 to 500 m")));
+                    return Err(invalid(
+                        format!("level {name}"),
+                        format!("elevation {elevation_m} m — give −500 to 500 m"),
+                    ));
                 }
                 let id = LevelId(self.levels.iter().map(|l| l.id.0 + 1).max().unwrap_or(0));
                 self.levels.push(Level { id, name, elevation_m });
@@ -293,11 +309,8 @@ impl Project {
                         n.pos.y_m += dy_m;
                     }
                 }
-                let runs: Vec<RunId> = self
-                    .runs()
-                    .filter(|r| moved.contains(&r.a) && moved.contains(&r.b))
-                    .map(|r| r.id)
-                    .collect();
+                let runs: Vec<RunId> =
+                    self.runs().filter(|r| moved.contains(&r.a) && moved.contains(&r.b)).map(|r| r.id).collect();
                 for id in runs {
                     if let Some(r) = self.run_mut(id) {
                         for v in &mut r.vertices {
@@ -311,7 +324,8 @@ impl Project {
                 let label = self.node_label(id)?;
                 validate_node_kind(&label, &kind)?;
                 let old_word = self.node(id).map(|n| n.kind.word());
-                if matches!(kind, NodeKind::Source(_)) && old_word != Some("heat source") && !self.sources().is_empty() {
+                if matches!(kind, NodeKind::Source(_)) && old_word != Some("heat source") && !self.sources().is_empty()
+                {
                     return Err(invalid(label, "the project has a heat source already — one source per network"));
                 }
                 if matches!(kind, NodeKind::Emitter(_)) && self.runs_at(id).len() > 1 {
@@ -365,7 +379,8 @@ impl Project {
                         "a vertical run cannot be split on a plan — add a level between its ends instead",
                     ));
                 }
-                let level = self.node(r.a).map(|n| n.level).ok_or_else(|| EditError::Missing(format!("node {}", r.a)))?;
+                let level =
+                    self.node(r.a).map(|n| n.level).ok_or_else(|| EditError::Missing(format!("node {}", r.a)))?;
                 let (seg, p) = self.project_onto_run(&r, at);
                 let first: Vec<PlanPoint> = r.vertices[..seg].to_vec();
                 let second: Vec<PlanPoint> = r.vertices[seg..].to_vec();

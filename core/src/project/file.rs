@@ -20,6 +20,9 @@ pub const FORMAT_TAG: &str = "flowrise-project";
 pub const FORMAT_VERSION: u32 = 1;
 /// Largest project file accepted, bytes (guards memory on hostile input).
 pub const MAX_FILE_BYTES: u64 = 256 * 1024 * 1024;
+/// Deepest nesting of brackets the parser accepts (a project file nests
+/// about 8 deep; the limit keeps hostile files off the stack).
+pub const MAX_NESTING: usize = 64;
 
 /// The project file as stored (our own layout, not a library's).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -124,7 +127,10 @@ impl Project {
     }
 
     fn from_ron_named(text: &str, path: &str) -> Result<Self, FileError> {
-        let opts = ron::Options::default();
+        // Explicit nesting limit (ron 0.12 defaults to 128 too): a project
+        // nests about 8 deep, so hostile `((((…` fails fast without
+        // recursing deeply on the stack.
+        let opts = ron::Options::default().with_recursion_limit(MAX_NESTING);
         let file: ProjectFile = match opts.from_str(text) {
             Ok(f) => f,
             Err(e) => {
@@ -139,6 +145,11 @@ impl Project {
                     }
                     if head.format_version > FORMAT_VERSION {
                         return Err(newer(path, head.format_version));
+                    }
+                    if head.format_version < FORMAT_VERSION {
+                        // An older layout that does not parse as the current
+                        // one: only a migration step could read it.
+                        return Err(older(head.format_version));
                     }
                 }
                 return Err(FileError::Parse {
@@ -163,12 +174,14 @@ impl Project {
         if file.format != FORMAT_TAG {
             return Err(FileError::Version(format!("not a flowrise project (format \"{}\")", file.format)));
         }
-        if file.format_version == 0 || file.format_version > FORMAT_VERSION {
+        if file.format_version > FORMAT_VERSION {
             return Err(FileError::Version(format!(
                 "format version {} is not one this build reads (1 to {FORMAT_VERSION})",
                 file.format_version
             )));
         }
+        let from_version = file.format_version;
+        let file = migrate(file, from_version)?;
         if let Some(p) = file.settings.problems().first() {
             return Err(bad(format!("settings: {}", p.field), p.message.clone()));
         }
@@ -198,10 +211,16 @@ impl Project {
                 return Err(bad(format!("node {}", n.id), "this id is used twice — give each node its own id"));
             }
             if !level_ids.contains(&n.level) {
-                return Err(bad(label, format!("level {} does not exist — put the node on an existing level", n.level)));
+                return Err(bad(
+                    label,
+                    format!("level {} does not exist — put the node on an existing level", n.level),
+                ));
             }
             if !(n.pos.x_m.is_finite() && n.pos.y_m.is_finite() && n.pos.x_m.abs() <= 1e5 && n.pos.y_m.abs() <= 1e5) {
-                return Err(bad(label, format!("position ({}, {}) m is not a finite point within 100 km", n.pos.x_m, n.pos.y_m)));
+                return Err(bad(
+                    label,
+                    format!("position ({}, {}) m is not a finite point within 100 km", n.pos.x_m, n.pos.y_m),
+                ));
             }
             validate_node_kind(&label, &n.kind).map_err(|e| bad(label.clone(), e.to_string()))?;
             if matches!(n.kind, NodeKind::Source(_)) {
@@ -219,7 +238,10 @@ impl Project {
             }
             for end in [r.a, r.b] {
                 if p.node(end).is_none() {
-                    return Err(bad(item.clone(), format!("its end {end} does not exist — reconnect or delete the run")));
+                    return Err(bad(
+                        item.clone(),
+                        format!("its end {end} does not exist — reconnect or delete the run"),
+                    ));
                 }
             }
             if r.a == r.b {
@@ -234,10 +256,7 @@ impl Project {
             let level = p.node(r.a).map(|n| n.level);
             if r.props.length_override_m.is_none() && p.drawn_length_m(&r) <= 0.0 {
                 let lv = level.map_or_else(String::new, |l| format!(" on level {l}"));
-                return Err(bad(
-                    format!("{item}{lv}"),
-                    "length 0 m — draw its ends apart or give it a length > 0",
-                ));
+                return Err(bad(format!("{item}{lv}"), "length 0 m — draw its ends apart or give it a length > 0"));
             }
             p.insert_run(r);
         }
@@ -273,6 +292,34 @@ impl Project {
         let text = self.to_ron()?;
         write_atomic(path, text.as_bytes())
     }
+}
+
+/// Bring a file of an older format version up to [`FORMAT_VERSION`], one
+/// version step at a time.
+///
+/// Version 1 is the first format: for it this is a no-op. Version 0 was never
+/// written by any build and is refused with a message saying so. When the
+/// format changes, add a step per old version here (`1 => …` turning a
+/// version 1 file into a version 2 one); a change the current
+/// [`ProjectFile`] cannot even parse (a renamed or retyped field) needs the
+/// step on the raw text before the typed parse instead.
+///
+/// # Errors
+/// [`FileError::Version`] for a version no step leads from.
+pub fn migrate(file: ProjectFile, from_version: u32) -> Result<ProjectFile, FileError> {
+    match from_version {
+        FORMAT_VERSION => Ok(ProjectFile { format_version: FORMAT_VERSION, ..file }),
+        v if v > FORMAT_VERSION => Err(FileError::Version(format!(
+            "format version {v} is newer than this build reads (up to {FORMAT_VERSION}) — update flowrise to open it"
+        ))),
+        v => Err(older(v)),
+    }
+}
+
+fn older(version: u32) -> FileError {
+    FileError::Version(format!(
+        "format version {version} is older than the first flowrise project format (1) and cannot be migrated"
+    ))
 }
 
 /// The head of a project file; serde ignores every other field.

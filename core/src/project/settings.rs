@@ -186,10 +186,7 @@ impl DesignSettings {
         if !finite_in(self.room_c, 5.0, 30.0) {
             bad("room temperature", format!("{} °C is outside 5–30 °C", self.room_c));
         } else if self.room_c >= self.return_c {
-            bad(
-                "room temperature",
-                format!("room {} °C must be below the return {} °C", self.room_c, self.return_c),
-            );
+            bad("room temperature", format!("room {} °C must be below the return {} °C", self.room_c, self.return_c));
         }
         for class in PipeClass::ALL {
             let v = *self.velocity_limit_m_s.get(class);

@@ -47,24 +47,6 @@ pub const CIVIDIS_STOPS: [[u8; 3]; 33] = [
     [240, 216, 70],
     [249, 224, 58],
     [254, 232, 56],
-]; 17] = [
-    [0, 34, 78],
-    [0, 46, 106],
-    [26, 56, 111],
-    [50, 67, 109],
-    [67, 78, 108],
-    [83, 90, 109],
-    [97, 101, 111],
-    [111, 112, 115],
-    [125, 124, 120],
-    [140, 136, 120],
-    [155, 148, 118],
-    [171, 160, 114],
-    [188, 174, 108],
-    [205, 187, 99],
-    [222, 201, 88],
-    [240, 216, 70],
-    [254, 232, 56],
 ];
 
 /// Colour of `t` in 0..=1 on the cividis scale (clamped; NaN → 0), linear
@@ -114,8 +96,13 @@ fn legend(out: &mut String, x: f64, y: f64, id: &str) {
     }
     out.push_str("</linearGradient></defs>");
     out.push_str("<rect x=\"-6\" y=\"-16\" width=\"244\" height=\"50\" fill=\"#ffffff\" fill-opacity=\"0.9\" stroke=\"#cccccc\"/>");
-    out.push_str("<text x=\"0\" y=\"-4\" class=\"lg\">velocity margin v / v<tspan dy=\"2\" font-size=\"7\">limit</tspan></text>");
-    w!(out, "<rect x=\"0\" y=\"2\" width=\"120\" height=\"10\" fill=\"url(#{id})\" stroke=\"#333333\" stroke-width=\"0.5\"/>");
+    out.push_str(
+        "<text x=\"0\" y=\"-4\" class=\"lg\">velocity margin v / v<tspan dy=\"2\" font-size=\"7\">limit</tspan></text>",
+    );
+    w!(
+        out,
+        "<rect x=\"0\" y=\"2\" width=\"120\" height=\"10\" fill=\"url(#{id})\" stroke=\"#333333\" stroke-width=\"0.5\"/>"
+    );
     for (t, label) in [(0.0, "0"), (0.5, "0.5"), (1.0, "1")] {
         w!(out, "<text x=\"{:.1}\" y=\"24\" class=\"lg\" text-anchor=\"middle\">{label}</text>", t * 120.0);
     }
@@ -137,11 +124,12 @@ struct PlanMap {
     max_y: f64,
     scale: f64,
     margin: f64,
+    offset_x: f64,
 }
 
 impl PlanMap {
     fn px(&self, p: PlanPoint) -> (f64, f64) {
-        (self.margin + (p.x_m - self.min_x) * self.scale, self.margin + (self.max_y - p.y_m) * self.scale)
+        (self.offset_x + (p.x_m - self.min_x) * self.scale, self.margin + (self.max_y - p.y_m) * self.scale)
     }
 }
 
@@ -179,12 +167,13 @@ fn emitter_caption(sol: &Solution, id: NodeId) -> String {
 #[allow(clippy::too_many_lines)] // reason: one drawing, layer by layer
 pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
     const WIDTH: f64 = 720.0;
-    const MAX_HEIGHT: f64 = 470.0;
-    const MARGIN: f64 = 60.0;
+    const MAX_HEIGHT: f64 = 430.0;
+    const MARGIN: f64 = 48.0;
     let nodes: Vec<_> = p.nodes().filter(|n| n.level == level.id).collect();
     let on_level: BTreeSet<NodeId> = nodes.iter().map(|n| n.id).collect();
     let runs: Vec<&Run> = p.runs().filter(|r| on_level.contains(&r.a) && on_level.contains(&r.b)).collect();
-    let verticals: Vec<&Run> = p.runs().filter(|r| p.is_vertical(r) && (on_level.contains(&r.a) || on_level.contains(&r.b))).collect();
+    let verticals: Vec<&Run> =
+        p.runs().filter(|r| p.is_vertical(r) && (on_level.contains(&r.a) || on_level.contains(&r.b))).collect();
     let mut pts: Vec<PlanPoint> = nodes.iter().map(|n| n.pos).collect();
     for r in &runs {
         pts.extend_from_slice(&r.vertices);
@@ -206,9 +195,14 @@ pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
     let min_y = pts.iter().map(|q| q.y_m).fold(f64::INFINITY, f64::min);
     let max_y = pts.iter().map(|q| q.y_m).fold(f64::NEG_INFINITY, f64::max);
     let (span_x, span_y) = ((max_x - min_x).max(1.0), (max_y - min_y).max(1.0));
-    let scale = ((WIDTH - 2.0 * MARGIN) / span_x).min((MAX_HEIGHT - 2.0 * MARGIN) / span_y).min(80.0);
-    let map = PlanMap { min_x, max_y, scale, margin: MARGIN };
-    let height = (span_y * scale + 2.0 * MARGIN + 40.0).max(180.0);
+    let scale = ((WIDTH - 2.0 * MARGIN - 120.0) / span_x).min((MAX_HEIGHT - 2.0 * MARGIN) / span_y).min(80.0);
+    // Centre the drawing horizontally; leave room on the right for labels.
+    let offset_x = ((WIDTH - span_x * scale) / 2.0 - 40.0).max(MARGIN);
+    // Flat layouts get a taller frame, the drawing centred in it, so labels
+    // have room above and below.
+    let height = (span_y * scale + 2.0 * MARGIN + 30.0).max(260.0);
+    let margin_y = ((height - 30.0 - span_y * scale) / 2.0).max(MARGIN);
+    let map = PlanMap { min_x, max_y, scale, margin: margin_y, offset_x };
     w!(
         out,
         "<svg class=\"level-plan\" data-level=\"{}\" xmlns=\"http://www.w3.org/2000/svg\" viewBox=\"0 0 {WIDTH} {height:.0}\" \
@@ -216,17 +210,36 @@ pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
         level.id,
         esc(&level.name)
     );
-    out.push_str("<rect x=\"0.5\" y=\"0.5\" width=\"719\" height=\"");
-    w!(out, "{:.0}\" fill=\"#ffffff\" stroke=\"#cccccc\"/>", height - 1.0);
+    w!(
+        out,
+        "<rect x=\"0.5\" y=\"0.5\" width=\"719\" height=\"{:.0}\" fill=\"#ffffff\" stroke=\"#cccccc\"/>",
+        height - 1.0
+    );
 
-    // Runs: dark casing, then the colour; size label at the longest segment.
-    for r in &runs {
-        let Some(poly) = polyline_points(p, r) else { continue };
-        let pxs: Vec<(f64, f64)> = poly.iter().map(|&q| map.px(q)).collect();
+    // Obstacles for the labels: every run segment and every node symbol.
+    let polys: Vec<(&Run, Vec<(f64, f64)>)> = runs
+        .iter()
+        .filter_map(|r| polyline_points(p, r).map(|poly| (*r, poly.iter().map(|&q| map.px(q)).collect())))
+        .collect();
+    let mut labels = Labels::new(WIDTH, height - 40.0);
+    for (_, pxs) in &polys {
+        for s in pxs.windows(2) {
+            labels.segs.push((s[0], s[1]));
+        }
+    }
+    for n in &nodes {
+        let (x, y) = map.px(n.pos);
+        labels.boxes.push(Rect { x0: x - 11.0, y0: y - 11.0, x1: x + 11.0, y1: y + 11.0 });
+    }
+    let mut texts = String::new();
+
+    // Runs: dark casing, then the colour.
+    for (r, pxs) in &polys {
         let points: Vec<String> = pxs.iter().map(|(x, y)| format!("{x:.1},{y:.1}")).collect();
         let margin = velocity_margin(sol, r.id);
         let (colour, w, dash) = run_style(margin);
-        let title = sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map_or_else(
+        let supply = sol.run_pipes(r.id).find(|x| x.side == Side::Supply);
+        let title = supply.map_or_else(
             || r.id.to_string(),
             |x| format!("{} {} {:.2} m/s of {:.2} m/s", r.id, x.size, x.velocity_m_s, x.velocity_limit_m_s),
         );
@@ -235,25 +248,16 @@ pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
             out,
             "<g class=\"run{over}\" data-run=\"{}\"><title>{}</title>\
              <polyline points=\"{pts}\" fill=\"none\" stroke=\"#222222\" stroke-width=\"{:.1}\" stroke-linejoin=\"round\" stroke-linecap=\"round\"/>\
-             <polyline points=\"{pts}\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"{w:.1}\" stroke-linejoin=\"round\"{dash}/>",
+             <polyline points=\"{pts}\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"{w:.1}\" stroke-linejoin=\"round\"{dash}/></g>",
             r.id,
             esc(&title),
             w + 2.0,
             pts = points.join(" ")
         );
-        if let Some(size) = sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map(|x| x.size.clone()) {
-            let best = pxs.windows(2).max_by(|a, b| seg_len(a).total_cmp(&seg_len(b)));
-            if let Some(seg) = best {
-                let (mx, my) = ((seg[0].0 + seg[1].0) / 2.0, (seg[0].1 + seg[1].1) / 2.0);
-                let horizontal = (seg[1].0 - seg[0].0).abs() >= (seg[1].1 - seg[0].1).abs();
-                let (tx, ty, anchor) = if horizontal { (mx, my - 7.0, "middle") } else { (mx + 7.0, my + 3.0, "start") };
-                w!(out, "<text x=\"{tx:.1}\" y=\"{ty:.1}\" class=\"sz\" text-anchor=\"{anchor}\">{} {}</text>", r.id, esc(&size));
-            }
-        }
-        out.push_str("</g>");
     }
 
     // Risers: a ring with an arrow towards the other level.
+    let mut riser_labels: Vec<((f64, f64), String)> = Vec::new();
     for r in &verticals {
         let (here, there) = if on_level.contains(&r.a) { (r.a, r.b) } else { (r.b, r.a) };
         let Some(node) = p.node(here) else { continue };
@@ -262,60 +266,58 @@ pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
         let (colour, w, dash) = run_style(velocity_margin(sol, r.id));
         let arrow = if up { "▲" } else { "▼" };
         let other = p.node(there).and_then(|n| p.level(n.level)).map_or_else(String::new, |l| l.name.clone());
+        let size =
+            sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map_or_else(String::new, |x| format!(" {}", x.size));
         w!(
             out,
             "<g class=\"riser\" data-run=\"{}\"><title>{} riser to {}</title>\
              <circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"9\" fill=\"none\" stroke=\"#222222\" stroke-width=\"{:.1}\"/>\
-             <circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"9\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"{w:.1}\"{dash}/>\
-             <text x=\"{:.1}\" y=\"{:.1}\" class=\"sz\">{arrow} {} to {}</text></g>",
+             <circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"9\" fill=\"none\" stroke=\"{colour}\" stroke-width=\"{w:.1}\"{dash}/></g>",
             r.id,
             r.id,
             esc(&other),
-            w + 2.0,
-            x - 12.0,
-            y + (if up { -14.0 } else { 22.0 }),
-            r.id,
-            esc(&other)
+            w + 2.0
         );
+        riser_labels.push(((x, y), format!("{arrow} {}{size} to {other}", r.id)));
     }
 
-    // Nodes.
+    // Node symbols; their labels are placed afterwards.
+    let mut node_labels: Vec<((f64, f64), Vec<LabelLine>)> = Vec::new();
     for n in &nodes {
         let (x, y) = map.px(n.pos);
         match &n.kind {
             NodeKind::Junction => {
-                w!(out, "<circle class=\"junction\" data-node=\"{}\" cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"3\" fill=\"#222222\"/>", n.id);
+                w!(
+                    out,
+                    "<circle class=\"junction\" data-node=\"{}\" cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"3\" fill=\"#222222\"/>",
+                    n.id
+                );
             }
             NodeKind::Source(s) => {
                 w!(
                     out,
-                    "<g class=\"source\" data-node=\"{}\"><rect x=\"{:.1}\" y=\"{:.1}\" width=\"20\" height=\"20\" fill=\"#444444\" stroke=\"#000000\"/>\
-                     <text x=\"{x:.1}\" y=\"{:.1}\" class=\"lb\" text-anchor=\"middle\">{} ({})</text></g>",
+                    "<g class=\"source\" data-node=\"{}\"><rect x=\"{:.1}\" y=\"{:.1}\" width=\"20\" height=\"20\" fill=\"#444444\" stroke=\"#000000\"/></g>",
                     n.id,
                     x - 10.0,
-                    y - 10.0,
-                    y + 24.0,
-                    esc(&s.name),
-                    n.id
+                    y - 10.0
                 );
+                node_labels.push(((x, y), vec![(format!("{} ({})", s.name, n.id), "lb")]));
             }
             NodeKind::Header(h) => {
                 w!(
                     out,
                     "<g class=\"header\" data-node=\"{}\"><rect x=\"{:.1}\" y=\"{:.1}\" width=\"22\" height=\"12\" fill=\"#ffffff\" stroke=\"#000000\" stroke-width=\"1.5\"/>\
-                     <line x1=\"{:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"#000000\"/>\
-                     <text x=\"{:.1}\" y=\"{:.1}\" class=\"lb\">{} ({}, {} outlets)</text></g>",
+                     <line x1=\"{:.1}\" y1=\"{y:.1}\" x2=\"{:.1}\" y2=\"{y:.1}\" stroke=\"#000000\"/></g>",
                     n.id,
                     x - 11.0,
                     y - 6.0,
                     x - 11.0,
-                    x + 11.0,
-                    x + 14.0,
-                    y - 9.0,
-                    esc(&h.name),
-                    n.id,
-                    h.outlets
+                    x + 11.0
                 );
+                node_labels.push((
+                    (x, y),
+                    vec![(format!("{} ({})", h.name, n.id), "lb"), (format!("header, {} outlets", h.outlets), "sm")],
+                ));
             }
             NodeKind::Emitter(e) => {
                 let shape = match e.model {
@@ -349,24 +351,34 @@ pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
                         x + 5.0
                     ),
                 };
-                let index = if sol.index_emitter == Some(n.id) { " (index circuit)" } else { "" };
-                w!(
-                    out,
-                    "<g class=\"emitter\" data-emitter=\"{}\">{shape}\
-                     <text x=\"{:.1}\" y=\"{:.1}\" class=\"lb\">{} ({}){index}</text>\
-                     <text x=\"{:.1}\" y=\"{:.1}\" class=\"sm\">{}</text></g>",
-                    n.id,
-                    x + 12.0,
-                    y - 2.0,
-                    esc(&e.name),
-                    n.id,
-                    x + 12.0,
-                    y + 9.0,
-                    esc(&emitter_caption(sol, n.id))
-                );
+                w!(out, "<g class=\"emitter\" data-emitter=\"{}\">{shape}</g>", n.id);
+                let index = if sol.index_emitter == Some(n.id) { " · index circuit" } else { "" };
+                node_labels.push((
+                    (x, y),
+                    vec![
+                        (format!("{} ({})", e.name, n.id), "lb"),
+                        (format!("{}{index}", emitter_caption(sol, n.id)), "sm"),
+                    ],
+                ));
             }
         }
     }
+
+    // Labels, most important first: emitters, headers and source, risers,
+    // then the run sizes.
+    for ((x, y), lines) in &node_labels {
+        labels.place_node(&mut texts, *x, *y, lines);
+    }
+    for ((x, y), text) in &riser_labels {
+        labels.place_node(&mut texts, *x, *y, &[(text.clone(), "sz")]);
+    }
+    for (r, pxs) in &polys {
+        let Some(size) = sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map(|x| x.size.clone()) else { continue };
+        let mut segs: Vec<&[(f64, f64)]> = pxs.windows(2).collect();
+        segs.sort_by(|a, b| seg_len(b).total_cmp(&seg_len(a)));
+        labels.place_on_segments(&mut texts, &segs, &format!("{} {size}", r.id));
+    }
+    out.push_str(&texts);
 
     // Scale bar and legend along the lower edge.
     let bar_m = nice_step(span_x, 5.0);
@@ -390,6 +402,136 @@ pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
     legend(&mut out, WIDTH - 250.0, height - 36.0, &format!("vscale-{}", level.id));
     out.push_str("</svg>");
     out
+}
+
+/// One line of a label: text and its CSS class.
+type LabelLine = (String, &'static str);
+
+/// An axis-aligned box in pixels.
+#[derive(Debug, Clone, Copy)]
+struct Rect {
+    x0: f64,
+    y0: f64,
+    x1: f64,
+    y1: f64,
+}
+
+impl Rect {
+    fn overlaps(&self, o: &Self) -> bool {
+        self.x0 < o.x1 && o.x0 < self.x1 && self.y0 < o.y1 && o.y0 < self.y1
+    }
+    fn contains(&self, (x, y): (f64, f64)) -> bool {
+        (self.x0..=self.x1).contains(&x) && (self.y0..=self.y1).contains(&y)
+    }
+}
+
+/// Greedy label placement: each label takes the first of its candidate
+/// positions that crosses the fewest run segments and placed labels.
+#[derive(Debug)]
+struct Labels {
+    width: f64,
+    height: f64,
+    segs: Vec<((f64, f64), (f64, f64))>,
+    boxes: Vec<Rect>,
+}
+
+/// Approximate advance width of a character at `font_px`, px (sans-serif).
+fn text_width(text: &str, font_px: f64) -> f64 {
+    text.chars().count() as f64 * font_px * 0.6
+}
+
+fn font_px(class: &str) -> f64 {
+    if class == "lb" { 11.0 } else { 9.5 }
+}
+
+impl Labels {
+    fn new(width: f64, height: f64) -> Self {
+        Self { width, height, segs: Vec::new(), boxes: Vec::new() }
+    }
+
+    fn cost(&self, r: &Rect) -> f64 {
+        let mut c = 0.0;
+        if r.x0 < 2.0 || r.y0 < 2.0 || r.x1 > self.width - 2.0 || r.y1 > self.height {
+            c += 50.0;
+        }
+        let inflated = Rect { x0: r.x0 - 1.0, y0: r.y0 - 1.0, x1: r.x1 + 1.0, y1: r.y1 + 1.0 };
+        for &(a, b) in &self.segs {
+            let n = ((b.0 - a.0).hypot(b.1 - a.1) / 2.0).ceil().max(1.0) as usize;
+            if (0..=n).any(|i| {
+                let t = i as f64 / n as f64;
+                inflated.contains((a.0 + t * (b.0 - a.0), a.1 + t * (b.1 - a.1)))
+            }) {
+                c += 10.0;
+            }
+        }
+        c + 10.0 * self.boxes.iter().filter(|b| b.overlaps(r)).count() as f64
+    }
+
+    /// Place a block of lines (text, class) next to a point.
+    fn place_node(&mut self, out: &mut String, x: f64, y: f64, lines: &[LabelLine]) {
+        let w = lines.iter().map(|(t, c)| text_width(t, font_px(c))).fold(0.0, f64::max);
+        let h = lines.iter().map(|(_, c)| font_px(c) + 2.0).sum::<f64>();
+        let candidates = [
+            (x + 13.0, y - h / 2.0),
+            (x + 13.0, y - h - 2.0),
+            (x + 13.0, y + 4.0),
+            (x - 13.0 - w, y - h / 2.0),
+            (x - w / 2.0, y - 13.0 - h),
+            (x - w / 2.0, y + 13.0),
+            (x - 13.0 - w, y - h - 2.0),
+            (x - 13.0 - w, y + 4.0),
+            (x - w / 2.0, y - 40.0 - h),
+            (x - w / 2.0, y + 40.0),
+            (x - w / 2.0, y - 67.0 - h),
+            (x - w / 2.0, y + 67.0),
+        ];
+        let (bx, by) = self.best(&candidates, w, h);
+        let mut baseline = by;
+        for (text, class) in lines {
+            baseline += font_px(class);
+            w!(out, "<text x=\"{bx:.1}\" y=\"{baseline:.1}\" class=\"{class}\">{}</text>", esc(text));
+            baseline += 2.0;
+        }
+        self.boxes.push(Rect { x0: bx, y0: by, x1: bx + w, y1: by + h });
+    }
+
+    /// Place a run label beside one of its segments (longest first).
+    fn place_on_segments(&mut self, out: &mut String, segs: &[&[(f64, f64)]], text: &str) {
+        let (w, h) = (text_width(text, 9.5), 11.5);
+        let mut candidates = Vec::new();
+        for s in segs.iter().take(3) {
+            for f in [0.5, 0.25, 0.75] {
+                let (px, py) = (s[0].0 + f * (s[1].0 - s[0].0), s[0].1 + f * (s[1].1 - s[0].1));
+                let horizontal = (s[1].0 - s[0].0).abs() >= (s[1].1 - s[0].1).abs();
+                if horizontal {
+                    candidates.push((px - w / 2.0, py - 5.0 - h));
+                    candidates.push((px - w / 2.0, py + 5.0));
+                } else {
+                    candidates.push((px + 6.0, py - h / 2.0));
+                    candidates.push((px - 6.0 - w, py - h / 2.0));
+                }
+            }
+        }
+        if candidates.is_empty() {
+            return;
+        }
+        let (bx, by) = self.best(&candidates, w, h);
+        w!(out, "<text x=\"{bx:.1}\" y=\"{:.1}\" class=\"sz\">{}</text>", by + 9.5, esc(text));
+        self.boxes.push(Rect { x0: bx, y0: by, x1: bx + w, y1: by + h });
+    }
+
+    fn best(&self, candidates: &[(f64, f64)], w: f64, h: f64) -> (f64, f64) {
+        let mut best = candidates[0];
+        let mut best_cost = f64::INFINITY;
+        for (i, &(bx, by)) in candidates.iter().enumerate() {
+            let c = self.cost(&Rect { x0: bx, y0: by, x1: bx + w, y1: by + h }) + 0.01 * i as f64;
+            if c < best_cost {
+                best_cost = c;
+                best = (bx, by);
+            }
+        }
+        best
+    }
 }
 
 fn fmt_num(x: f64) -> String {
@@ -432,7 +574,9 @@ pub(super) fn riser_elevation(p: &Project, sol: &Solution, topo: &Topology) -> S
         let Some(a) = p.node(r.a) else { continue };
         columns.entry(key(a.pos)).or_default().push(r);
     }
-    let (z_min, z_max) = levels.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), l| (lo.min(l.elevation_m), hi.max(l.elevation_m)));
+    let (z_min, z_max) = levels
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), l| (lo.min(l.elevation_m), hi.max(l.elevation_m)));
     let span = (z_max - z_min).max(1.0);
     let storey_px = 78.0;
     let plot_h = if levels.len() > 1 { storey_px * (levels.len() - 1) as f64 } else { 0.0 };
@@ -461,7 +605,11 @@ pub(super) fn riser_elevation(p: &Project, sol: &Solution, topo: &Topology) -> S
         );
     }
     if columns.is_empty() {
-        w!(out, "<text x=\"200\" y=\"{:.1}\" class=\"lb\">No vertical runs: the network lies on one level.</text>", top + 10.0);
+        w!(
+            out,
+            "<text x=\"200\" y=\"{:.1}\" class=\"lb\">No vertical runs: the network lies on one level.</text>",
+            top + 10.0
+        );
     }
     let col_x0 = 190.0;
     let col_dx = if columns.len() > 1 { (260.0 / (columns.len() - 1) as f64).min(110.0) } else { 0.0 };
@@ -472,7 +620,8 @@ pub(super) fn riser_elevation(p: &Project, sol: &Solution, topo: &Topology) -> S
             let (za, zb) = (p.elevation_m(r.a), p.elevation_m(r.b));
             let (y1, y2) = (y_of(za), y_of(zb));
             let (colour, w, dash) = run_style(velocity_margin(sol, r.id));
-            let size = sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map_or_else(String::new, |x| x.size.clone());
+            let size =
+                sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map_or_else(String::new, |x| x.size.clone());
             let over = if velocity_margin(sol, r.id).is_some_and(|m| m > 1.0) { " over-limit" } else { "" };
             w!(
                 out,
@@ -506,7 +655,13 @@ pub(super) fn riser_elevation(p: &Project, sol: &Solution, topo: &Topology) -> S
             if downstream {
                 let ems = downstream_emitters(p, topo, other);
                 let load: f64 = ems.iter().filter_map(|&e| sol.emitter(e)).map(|e| e.load_w).sum();
-                stubs.push(format!("→ {}: {} emitter{}, {:.2} kW", on.label(), ems.len(), if ems.len() == 1 { "" } else { "s" }, load / 1000.0));
+                stubs.push(format!(
+                    "→ {}: {} emitter{}, {:.2} kW",
+                    on.label(),
+                    ems.len(),
+                    if ems.len() == 1 { "" } else { "s" },
+                    load / 1000.0
+                ));
             } else {
                 stubs.push(format!("← from {}", on.label()));
             }
@@ -524,7 +679,7 @@ pub(super) fn riser_elevation(p: &Project, sol: &Solution, topo: &Topology) -> S
         }
         w!(out, "<text x=\"{:.1}\" y=\"{:.1}\" class=\"sm\">{n}</text>", x + 5.0, y + 11.0);
     }
-    legend(&mut out, WIDTH - 250.0, height - 30.0, "vscale-riser");
+    legend(&mut out, WIDTH - 250.0, height - 36.0, "vscale-riser");
     out.push_str("</svg>");
     out
 }
@@ -543,7 +698,8 @@ pub(super) fn pump_chart(sol: &Solution) -> Option<String> {
     let h_op = pump.operating_head_pa / 1000.0;
     let (q_d, h_d) = (pump.design_flow_m3_h, pump.duty_head_pa / 1000.0);
     let q_max = curve.max_flow_m3_h().max(q_op * 1.3).max(q_d * 1.3).max(0.1);
-    let h_max = curve.shutoff_head_kpa().max(h_d).max(h_op) * 1.1;
+    // Head range with room above the curves for the legend.
+    let h_max = curve.shutoff_head_kpa().max(h_d).max(h_op) * 1.35;
     if !(q_max.is_finite() && h_max.is_finite() && h_max > 0.0) {
         return None;
     }
@@ -610,7 +766,10 @@ pub(super) fn pump_chart(sol: &Solution) -> Option<String> {
             .join(" ")
     };
     let pump_pts = sample(&|q| curve.head_kpa(q).ok());
-    w!(out, "<polyline class=\"pump-curve\" points=\"{pump_pts}\" fill=\"none\" stroke=\"#00224e\" stroke-width=\"2.5\"/>");
+    w!(
+        out,
+        "<polyline class=\"pump-curve\" points=\"{pump_pts}\" fill=\"none\" stroke=\"#00224e\" stroke-width=\"2.5\"/>"
+    );
     if !matches!(pump.control, PumpControl::FixedSpeed) && q_d > 0.0 {
         let ctrl_pts = sample(&|q| pump.control.head_kpa(curve, q, q_d).ok());
         w!(
@@ -620,19 +779,25 @@ pub(super) fn pump_chart(sol: &Solution) -> Option<String> {
     }
     if q_op > 0.0 {
         let sys_pts = sample(&|q| Some(h_op * (q / q_op).powi(2)));
-        w!(out, "<polyline class=\"system-curve\" points=\"{sys_pts}\" fill=\"none\" stroke=\"#7c7b78\" stroke-width=\"2\"/>");
+        w!(
+            out,
+            "<polyline class=\"system-curve\" points=\"{sys_pts}\" fill=\"none\" stroke=\"#7c7b78\" stroke-width=\"2\"/>"
+        );
     }
+    let (ox, oy) = (sx(q_op), sy(h_op));
+    w!(
+        out,
+        "<circle class=\"operating-point\" cx=\"{ox:.1}\" cy=\"{oy:.1}\" r=\"5\" fill=\"#c8a000\" stroke=\"#000000\" stroke-width=\"1.5\"/>"
+    );
     let (dx, dy) = (sx(q_d), sy(h_d));
     w!(
         out,
-        "<path class=\"duty-point\" d=\"M{:.1},{dy:.1} L{dx:.1},{:.1} L{:.1},{dy:.1} L{dx:.1},{:.1} Z\" fill=\"#ffffff\" stroke=\"#000000\" stroke-width=\"1.5\"/>",
-        dx - 6.0,
-        dy - 6.0,
-        dx + 6.0,
-        dy + 6.0
+        "<path class=\"duty-point\" d=\"M{:.1},{dy:.1} L{dx:.1},{:.1} L{:.1},{dy:.1} L{dx:.1},{:.1} Z\" fill=\"none\" stroke=\"#000000\" stroke-width=\"1.5\"/>",
+        dx - 8.0,
+        dy - 8.0,
+        dx + 8.0,
+        dy + 8.0
     );
-    let (ox, oy) = (sx(q_op), sy(h_op));
-    w!(out, "<circle class=\"operating-point\" cx=\"{ox:.1}\" cy=\"{oy:.1}\" r=\"5\" fill=\"#c8a000\" stroke=\"#000000\" stroke-width=\"1.5\"/>");
     // Legend.
     let lx = W - r - 220.0;
     w!(

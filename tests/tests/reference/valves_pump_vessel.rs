@@ -49,8 +49,7 @@ struct Fixture {
 }
 
 fn fixture() -> Fixture {
-    let text =
-        std::fs::read_to_string(flowrise_tests::fixture_path("valves_pump_vessel.json")).unwrap();
+    let text = std::fs::read_to_string(flowrise_tests::fixture_path("valves_pump_vessel.json")).unwrap();
     serde_json::from_str(&text).unwrap()
 }
 
@@ -81,13 +80,7 @@ fn kv_pressure_drop_matches_fluids() {
         // constant for ρ₀ = 1000 kg/m³ is 2·10⁵·3600²·(π/4)²/1000 = 1.5989e9,
         // so fluids' Δp is 0.07 % high. Tolerance 0.2 %.
         let dp = valves::dp_pa_from_kv(row.flow_m3_h, row.kv_m3_h, row.density_kg_m3).unwrap();
-        assert!(
-            rel(dp, row.dp_pa) < 2e-3,
-            "Kv {} Q {}: {dp} vs {}",
-            row.kv_m3_h,
-            row.flow_m3_h,
-            row.dp_pa
-        );
+        assert!(rel(dp, row.dp_pa) < 2e-3, "Kv {} Q {}: {dp} vs {}", row.kv_m3_h, row.flow_m3_h, row.dp_pa);
         // fluids 1.3.1 fittings.K_to_Kv(Kv_to_K(Kv)) round-trips: the
         // conversion is self-consistent, so the comparison above tests only
         // the Δp law.
@@ -121,13 +114,7 @@ fn pump_fit_passes_through_its_points() {
     assert!((op.head_kpa - 8.0 * op.flow_m3_h * op.flow_m3_h).abs() < 1e-9);
     assert!((op.head_kpa - curve.head_kpa(op.flow_m3_h).unwrap()).abs() < 1e-9);
     // Constant Δp: the head is the set-point wherever the curve allows it.
-    let op = pump::operating_point(
-        &curve,
-        &PumpControl::ConstantDp { setpoint_kpa: 30.0 },
-        12.0,
-        1.5,
-    )
-    .unwrap();
+    let op = pump::operating_point(&curve, &PumpControl::ConstantDp { setpoint_kpa: 30.0 }, 12.0, 1.5).unwrap();
     assert!((op.head_kpa - 30.0).abs() < 1e-9);
 }
 
@@ -137,8 +124,7 @@ fn expansion_coefficient_matches_iapws_density_ratio() {
     let fx = fixture();
     assert!(fx.source.contains("iapws 1.5.5"));
     for row in &fx.expansion {
-        let e =
-            vessel::expansion_coefficient(row.fill_temperature_c, row.max_temperature_c).unwrap();
+        let e = vessel::expansion_coefficient(row.fill_temperature_c, row.max_temperature_c).unwrap();
         assert!(
             rel(e, row.expansion_coefficient) < 5e-3,
             "{} → {} °C: {e} vs {}",
@@ -146,20 +132,13 @@ fn expansion_coefficient_matches_iapws_density_ratio() {
             row.max_temperature_c,
             row.expansion_coefficient
         );
-        assert!(
-            rel(
-                row.density_fill_kg_m3 / row.density_max_kg_m3 - 1.0,
-                row.expansion_coefficient
-            ) < 1e-12
-        );
+        assert!(rel(row.density_fill_kg_m3 / row.density_max_kg_m3 - 1.0, row.expansion_coefficient) < 1e-12);
     }
     // 10 → 90 °C is the brief's named case; about 3.6 % (iapws: 999.796/965.409).
     let row = fx
         .expansion
         .iter()
-        .find(|r| {
-            (r.fill_temperature_c - 10.0).abs() < 1e-9 && (r.max_temperature_c - 90.0).abs() < 1e-9
-        })
+        .find(|r| (r.fill_temperature_c - 10.0).abs() < 1e-9 && (r.max_temperature_c - 90.0).abs() < 1e-9)
         .unwrap();
     assert!((row.expansion_coefficient - 0.0356).abs() < 5e-4);
 }
@@ -186,9 +165,7 @@ fn vessel_worked_example_by_hand() {
     let row = fx
         .expansion
         .iter()
-        .find(|r| {
-            (r.fill_temperature_c - 10.0).abs() < 1e-9 && (r.max_temperature_c - 70.0).abs() < 1e-9
-        })
+        .find(|r| (r.fill_temperature_c - 10.0).abs() < 1e-9 && (r.max_temperature_c - 70.0).abs() < 1e-9)
         .unwrap();
     assert!((row.density_fill_kg_m3 - 999.796).abs() < 1e-3);
     assert!((row.density_max_kg_m3 - 977.867).abs() < 1e-3);
