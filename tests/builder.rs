@@ -1,6 +1,10 @@
 //! A small builder for projects in tests and demo generation: every change
 //! goes through `Project::apply` with an `Edit`, exactly as the GUI does.
 
+// reason: a test helper — a refused edit must stop the test loudly, and the
+// builder mirrors the many inputs of the items it builds.
+#![allow(clippy::unwrap_used, clippy::panic, clippy::too_many_arguments)]
+
 use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec};
 use flowrise_core::project::{

@@ -13,7 +13,12 @@ use flowrise_core::project::{Mode, NodeId, Project};
 pub const EXIT_INVALID: u8 = 2;
 
 #[derive(Debug, Parser)]
-#[command(name = "flowrise", version, about = "Design two-pipe hydronic heating networks", args_conflicts_with_subcommands = true)]
+#[command(
+    name = "flowrise",
+    version,
+    about = "Design two-pipe hydronic heating networks",
+    args_conflicts_with_subcommands = true
+)]
 struct Cli {
     #[command(subcommand)]
     command: Option<Command>,
@@ -122,7 +127,13 @@ pub fn main() -> ExitCode {
         Some(Command::ExportNetwork(args)) => perf::export_network(&args),
         Some(Command::BenchSolve(args)) => perf::bench_solve(&args),
         Some(Command::Sweep { file, from, to, step, target, frozen, json }) => {
-            let spec = flowrise_core::sweep::SweepSpec { from_c: from, to_c: to, step_k: step, frozen_presettings: frozen, target_c: target };
+            let spec = flowrise_core::sweep::SweepSpec {
+                from_c: from,
+                to_c: to,
+                step_k: step,
+                frozen_presettings: frozen,
+                target_c: target,
+            };
             crate::cli_sweep::run_sweep(&file, &spec, json)
         }
         Some(Command::PartLoad { file, close, fraction, seed, json }) => {

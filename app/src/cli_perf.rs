@@ -111,7 +111,12 @@ pub fn generate(a: &GenerateArgs) -> ExitCode {
         eprintln!("flowrise: {e}");
         return ExitCode::FAILURE;
     }
-    eprintln!("flowrise: wrote {} ({} emitters, {} runs)", a.output.display(), project.emitters().len(), project.run_count());
+    eprintln!(
+        "flowrise: wrote {} ({} emitters, {} runs)",
+        a.output.display(),
+        project.emitters().len(),
+        project.run_count()
+    );
     ExitCode::SUCCESS
 }
 

@@ -32,7 +32,13 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool) -> ExitCode {
         }
         return ExitCode::SUCCESS;
     }
-    println!("{} — supply-temperature sweep {:.0} → {:.0} °C ({})", p.name, spec.from_c, spec.to_c, if spec.frozen_presettings { "presettings frozen" } else { "re-balanced" });
+    println!(
+        "{} — supply-temperature sweep {:.0} → {:.0} °C ({})",
+        p.name,
+        spec.from_c,
+        spec.to_c,
+        if spec.frozen_presettings { "presettings frozen" } else { "re-balanced" }
+    );
     match (result.lowest_supply_c, &result.limiting_emitter) {
         (Some(t), Some(e)) => println!("every room covered down to {t:.1} °C; the first room short below it: {e}"),
         (Some(t), None) => println!("every room covered over the whole range, down to {t:.1} °C"),
@@ -42,9 +48,16 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool) -> ExitCode {
     if result.upgrades.is_empty() {
         println!("no radiator upgrade needed at {:.1} °C", result.target_c);
     } else {
-        println!("upgrades to cover every room at {:.1} °C supply (θr = θs − {:.0} K):", result.target_c, sweep::UPGRADE_DELTA_K);
+        println!(
+            "upgrades to cover every room at {:.1} °C supply (θr = θs − {:.0} K):",
+            result.target_c,
+            sweep::UPGRADE_DELTA_K
+        );
         for u in &result.upgrades {
-            println!("  {:<6} {:<24} {:>7.0} W nominal now → {:>7.0} W needed", u.id, u.name, u.current_nominal_w, u.needed_nominal_w);
+            println!(
+                "  {:<6} {:<24} {:>7.0} W nominal now → {:>7.0} W needed",
+                u.id, u.name, u.current_nominal_w, u.needed_nominal_w
+            );
         }
     }
     for id in &result.short_other {

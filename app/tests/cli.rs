@@ -42,19 +42,58 @@ fn cli_solve_json_matches_the_documented_schema_on_every_demo() {
         check(
             &v["totals"],
             "totals",
-            &["heat_load_w", "flow_l_h", "pump_head_kpa", "index_emitter", "water_volume_l", "expansion_vessel_l", "iterations", "solve_ms", "derive_ms", "design_ms", "operate_ms", "operate_iterations"],
+            &[
+                "heat_load_w",
+                "flow_l_h",
+                "pump_head_kpa",
+                "index_emitter",
+                "water_volume_l",
+                "expansion_vessel_l",
+                "iterations",
+                "solve_ms",
+                "derive_ms",
+                "design_ms",
+                "operate_ms",
+                "operate_iterations",
+            ],
         );
         let e = &v["emitters"][0];
         check(
             e,
             "emitters[]",
-            &["id", "name", "level", "load_w", "room_c", "flow_l_h", "supply_c", "return_c", "circuit_dp_kpa", "valve_dp_kpa", "presetting", "authority", "output_w"],
+            &[
+                "id",
+                "name",
+                "level",
+                "load_w",
+                "room_c",
+                "flow_l_h",
+                "supply_c",
+                "return_c",
+                "circuit_dp_kpa",
+                "valve_dp_kpa",
+                "presetting",
+                "authority",
+                "output_w",
+            ],
         );
         let p = &v["pipes"][0];
         check(
             p,
             "pipes[]",
-            &["run", "side", "length_m", "series", "size", "inner_mm", "flow_l_h", "velocity_m_s", "velocity_limit_m_s", "gradient_pa_m", "dp_kpa"],
+            &[
+                "run",
+                "side",
+                "length_m",
+                "series",
+                "size",
+                "inner_mm",
+                "flow_l_h",
+                "velocity_m_s",
+                "velocity_limit_m_s",
+                "gradient_pa_m",
+                "dp_kpa",
+            ],
         );
         assert!(v["warnings"].is_array());
         assert!(v["totals"]["pump_head_kpa"].as_f64().unwrap() > 0.0);
@@ -82,4 +121,3 @@ fn cli_exit_codes() {
     assert_eq!(out.status.code(), Some(2));
     std::fs::remove_dir_all(&dir).ok();
 }
-

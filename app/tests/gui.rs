@@ -1,6 +1,11 @@
 //! Interaction tests of the flowrise window (egui_kittest, no GPU, no
 //! display): they drive the real `FlowriseApp::ui` with pointer and key
 //! events and check both what the window shows and the project document.
+//!
+//! Run: `cargo test -p flowrise --test gui` (about a second; no display).
+
+// Test helpers outside `#[test]` functions unwrap too: a failure is the point.
+#![allow(clippy::unwrap_used, clippy::panic)]
 
 use egui::{Event, Key, Modifiers, Pos2, Vec2};
 use egui_kittest::Harness;
@@ -122,7 +127,10 @@ fn shift_dragging_a_branch_in_installed_mode_changes_the_flows() {
     assert!(dx.hypot(dy) > 3.0, "the header moved ({dx:.2}, {dy:.2}) m");
     for &id in &branch {
         let (a, b) = (project.node(id).unwrap().pos, h.state().project().node(id).unwrap().pos);
-        assert!(((b.x_m - a.x_m) - dx).abs() < 1e-9 && ((b.y_m - a.y_m) - dy).abs() < 1e-9, "{id} moved with its branch");
+        assert!(
+            ((b.x_m - a.x_m) - dx).abs() < 1e-9 && ((b.y_m - a.y_m) - dy).abs() < 1e-9,
+            "{id} moved with its branch"
+        );
     }
     let flows_after: Vec<f64> = emitters.iter().map(|&e| h.state().solution().emitter(e).unwrap().flow_l_h).collect();
     assert!(

@@ -47,7 +47,7 @@ fn pipeline(c: &mut Criterion) {
         g.bench_function(BenchmarkId::new("drag_edit_to_results", n), |b| {
             b.iter(|| {
                 step += 1;
-                let dx = if step % 2 == 0 { 0.05 } else { -0.05 };
+                let dx = if step.is_multiple_of(2) { 0.05 } else { -0.05 };
                 drag.apply(Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 }).expect("move");
                 black_box(solve_project(&drag, &opts, &mut ws))
             });

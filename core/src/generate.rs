@@ -272,7 +272,7 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
             let c = d.node(f, x, 0.0, NodeKind::Junction);
             d.run(corridor_prev, c, RunProps::default());
             corridor_prev = c;
-            let side = if k % 2 == 0 { 1.0 } else { -1.0 };
+            let side = if k.is_multiple_of(2) { 1.0 } else { -1.0 };
             let n = left.min(EMITTERS_PER_BRANCH);
             let mut prev = c;
             for i in 1..=n {

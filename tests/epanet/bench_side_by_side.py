@@ -52,7 +52,7 @@ def epanet_times(inp, repeat):
             d.initializeHydraulicAnalysis(0)
             d.runHydraulicAnalysis()
             run_only.append((time.perf_counter() - t1) * 1e3)
-            iters = d.getStatistic()["Iterations"] if hasattr(d, "getStatistic") else None
+            iters = int(getattr(d.getStatistic(), "Iterations", 0)) or None
             d.closeHydraulicAnalysis()
         d.unload()
     return statistics.median(cold), statistics.median(run_only), iters

@@ -324,7 +324,7 @@ fn mutate(text: &str, rng: &mut Rng) -> String {
         }
         // Replace a number by a hostile one (three quarters of the time a
         // float, where validation has to catch NaN/inf/huge).
-        5 | 6 | 7 => {
+        5..=7 => {
             let toks = number_tokens(text);
             let floats: Vec<_> = toks.iter().filter(|t| t.2).copied().collect();
             let pool = if !floats.is_empty() && rng.unit() < 0.75 { floats } else { toks };
@@ -447,7 +447,7 @@ fn mutated_files_load_or_refuse_without_panic() {
 }
 
 #[test]
-fn every_float_of_a_file_refuses_nan_and_infinity() {
+fn every_number_of_a_file_is_checked() {
     let text = every_field_project().to_ron().unwrap();
     let floats: Vec<_> = number_tokens(&text).into_iter().filter(|t| t.2).collect();
     assert!(floats.len() > 60, "only {} floats found", floats.len());
@@ -466,6 +466,18 @@ fn every_float_of_a_file_refuses_nan_and_infinity() {
         }
         // Huge but finite values either load and solve cleanly or are refused.
         for big in ["1e308", "-1e308", "-1", "0.0", "1e-300"] {
+            let t = format!("{}{big}{}", &text[..s], &text[e..]);
+            let line_text = text[..s].rsplit('\n').next().unwrap_or("").trim();
+            let what = format!("{big} at `{line_text}…`");
+            if let Err(e) = catch_unwind(|| load_and_solve(&t, &what)) {
+                failures.push(e.downcast_ref::<String>().cloned().unwrap_or(what));
+            }
+        }
+    }
+    // Every whole number (ids, references, sizes, outlet counts) at the
+    // extremes of its type: refused or loaded, never a panic.
+    for (s, e, _) in number_tokens(&text).into_iter().filter(|t| !t.2) {
+        for big in ["0", "4294967295", "1"] {
             let t = format!("{}{big}{}", &text[..s], &text[e..]);
             let line_text = text[..s].rsplit('\n').next().unwrap_or("").trim();
             let what = format!("{big} at `{line_text}…`");
@@ -758,8 +770,8 @@ fn extreme_but_valid_networks_converge_or_explain() {
         set_all_loads(&mut p, 0.0);
         solve_checked(&p, &SolveOptions::default(), &what("0 W loads"));
         // All valves closed but one, and all closed.
-        let mut opts = SolveOptions::default();
-        opts.closed_emitters = emitters.iter().skip(1).copied().collect();
+        let mut opts =
+            SolveOptions { closed_emitters: emitters.iter().skip(1).copied().collect(), ..SolveOptions::default() };
         solve_checked(&base, &opts, &what("all closed but one"));
         opts.closed_emitters = emitters.iter().copied().collect::<BTreeSet<_>>();
         solve_checked(&base, &opts, &what("all closed"));
@@ -795,8 +807,8 @@ fn ten_thousand_emitters_converge_or_explain() {
         set_pump(&mut weak, WEAK_PUMP, PumpControl::FixedSpeed);
         solve_checked(&weak, &SolveOptions::default(), "10 000 emitters, weak pump");
     }
-    let mut opts = SolveOptions::default();
-    opts.closed_emitters = base.emitters().into_iter().skip(1).collect();
+    let opts =
+        SolveOptions { closed_emitters: base.emitters().into_iter().skip(1).collect(), ..SolveOptions::default() };
     if long {
         solve_checked(&base, &opts, "10 000 emitters, one valve open");
     }

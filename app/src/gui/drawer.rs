@@ -71,7 +71,9 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
             Tab::Pipes => pipes_table(ui, project, sol, out),
             Tab::Emitters => emitters_table(ui, sol, out),
             Tab::Findings => {
-                ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| inspector::findings_list(ui, sol, out));
+                ScrollArea::vertical()
+                    .auto_shrink([false, false])
+                    .show(ui, |ui| inspector::findings_list(ui, sol, out));
             }
             Tab::Pump => pump_chart(ui, sol),
             Tab::Profile => profile_chart(ui, sol),
@@ -89,7 +91,10 @@ fn header(ui: &mut Ui, cols: &[&str]) {
 fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents) {
     ScrollArea::both().auto_shrink([false, false]).show(ui, |ui| {
         Grid::new("pipes_table").striped(true).num_columns(10).show(ui, |ui| {
-            header(ui, &["Run", "Side", "Class", "Size", "Length m", "Flow l/h", "v m/s", "v limit", "R Pa/m", "Δp kPa"]);
+            header(
+                ui,
+                &["Run", "Side", "Class", "Size", "Length m", "Flow l/h", "v m/s", "v limit", "R Pa/m", "Δp kPa"],
+            );
             for p in &sol.pipes {
                 if ui.selectable_label(false, p.run.to_string()).on_hover_text("Select and centre").clicked() {
                     out.centre_on = Some(ItemRef::Run(p.run));
@@ -104,7 +109,11 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
                 ui.label(if over { v.color(theme::ERROR) } else { v });
                 ui.label(format!("{:.1}", p.velocity_limit_m_s));
                 let r = RichText::new(format!("{:.0}", p.gradient_pa_m));
-                ui.label(if p.gradient_pa_m > project.settings.gradient_limit_pa_m { r.color(theme::WARNING) } else { r });
+                ui.label(if p.gradient_pa_m > project.settings.gradient_limit_pa_m {
+                    r.color(theme::WARNING)
+                } else {
+                    r
+                });
                 ui.label(format!("{:.2}", p.dp_pa / 1000.0));
                 ui.end_row();
             }
@@ -115,10 +124,25 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
 fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
     ScrollArea::both().auto_shrink([false, false]).show(ui, |ui| {
         Grid::new("emitters_table").striped(true).num_columns(10).show(ui, |ui| {
-            header(ui, &["Emitter", "Level", "Load W", "Output W", "Design l/h", "Flow l/h", "Return °C", "Presetting", "Authority", "Circuit kPa"]);
+            header(
+                ui,
+                &[
+                    "Emitter",
+                    "Level",
+                    "Load W",
+                    "Output W",
+                    "Design l/h",
+                    "Flow l/h",
+                    "Return °C",
+                    "Presetting",
+                    "Authority",
+                    "Circuit kPa",
+                ],
+            );
             for e in &sol.emitters {
                 let mark = if sol.index_emitter == Some(e.id) { " (index)" } else { "" };
-                if ui.selectable_label(false, format!("{}{mark}", e.name)).on_hover_text("Select and centre").clicked() {
+                if ui.selectable_label(false, format!("{}{mark}", e.name)).on_hover_text("Select and centre").clicked()
+                {
                     out.centre_on = Some(ItemRef::Node(e.id));
                 }
                 ui.label(&e.level);
@@ -157,7 +181,11 @@ fn pump_chart(ui: &mut Ui, sol: &Solution) {
         .collect();
     let (q_op, h_op) = (p.operating_flow_m3_h, p.operating_head_pa / 1000.0);
     let k = if q_op > 1e-9 { h_op / (q_op * q_op) } else { 0.0 };
-    let system: Vec<[f64; 2]> = (0..=n).map(|i| q_max * f64::from(i) / f64::from(n)).map(|q| [q, k * q * q]).take_while(|pt| pt[1] <= curve.shutoff_head_kpa() * 1.2).collect();
+    let system: Vec<[f64; 2]> = (0..=n)
+        .map(|i| q_max * f64::from(i) / f64::from(n))
+        .map(|q| [q, k * q * q])
+        .take_while(|pt| pt[1] <= curve.shutoff_head_kpa() * 1.2)
+        .collect();
     Plot::new("pump_chart")
         .legend(Legend::default())
         .x_axis_label("flow m³/h")
@@ -169,7 +197,12 @@ fn pump_chart(ui: &mut Ui, sol: &Solution) {
             pu.line(Line::new("pump curve (full speed)", pump).color(theme::ACCENT).width(2.0));
             pu.line(Line::new("system curve Δp = k·Q²", system).color(theme::INK).width(1.5));
             pu.points(Points::new("operating point", vec![[q_op, h_op]]).radius(6.0).color(theme::SELECT));
-            pu.points(Points::new("duty point (design + margin)", vec![[p.design_flow_m3_h, p.duty_head_pa / 1000.0]]).radius(6.0).shape(egui_plot::MarkerShape::Diamond).color(theme::WARNING));
+            pu.points(
+                Points::new("duty point (design + margin)", vec![[p.design_flow_m3_h, p.duty_head_pa / 1000.0]])
+                    .radius(6.0)
+                    .shape(egui_plot::MarkerShape::Diamond)
+                    .color(theme::WARNING),
+            );
         });
 }
 

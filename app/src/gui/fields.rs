@@ -42,7 +42,9 @@ impl FieldState {
         if !editing && !has_error {
             current.clone_into(buf);
         }
-        let resp = ui.add(TextEdit::singleline(buf).id_salt(key).desired_width(width)).labelled_by(label_id);
+        let resp = ui
+            .add(TextEdit::singleline(buf).id_salt(key).desired_width(width).min_size(egui::vec2(width, 0.0)))
+            .labelled_by(label_id);
         if resp.has_focus() {
             self.focused = Some(key.to_owned());
         } else if editing {
@@ -63,7 +65,16 @@ impl FieldState {
     /// A numeric field in a grid row: label | value unit | message.
     /// Returns a committed, parsed, in-range value different from `value`.
     #[allow(clippy::too_many_arguments)] // reason: one call per field reads best with all of them at hand
-    pub fn number(&mut self, ui: &mut Ui, key: &str, label: &str, unit: &str, value: f64, range: (f64, f64), decimals: usize) -> Option<f64> {
+    pub fn number(
+        &mut self,
+        ui: &mut Ui,
+        key: &str,
+        label: &str,
+        unit: &str,
+        value: f64,
+        range: (f64, f64),
+        decimals: usize,
+    ) -> Option<f64> {
         let current = format!("{value:.decimals$}");
         let mut out = None;
         let label_id = ui.label(label).id;

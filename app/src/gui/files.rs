@@ -51,7 +51,10 @@ pub fn run_window(start: StartProject) -> Result<(), WindowError> {
         return Err(WindowError::NoDisplay);
     }
     let options = eframe::NativeOptions {
-        viewport: egui::ViewportBuilder::default().with_inner_size([1440.0, 900.0]).with_min_inner_size([900.0, 600.0]).with_title("flowrise"),
+        viewport: egui::ViewportBuilder::default()
+            .with_inner_size([1440.0, 900.0])
+            .with_min_inner_size([900.0, 600.0])
+            .with_title("flowrise"),
         ..eframe::NativeOptions::default()
     };
     eframe::run_native(

@@ -5,7 +5,9 @@
 use egui::{Grid, RichText, ScrollArea, Ui};
 use flowrise_core::design::{ItemRef, Severity, Side, Solution};
 use flowrise_core::emitters::floor::FloorZone;
-use flowrise_core::emitters::{EmitterDetail, EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec, radiator};
+use flowrise_core::emitters::{
+    EmitterDetail, EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec, radiator,
+};
 use flowrise_core::pipes;
 use flowrise_core::project::{Edit, NodeId, NodeKind, PipeClass, Project, ReturnLayout, Run, RunId, RunProps};
 use flowrise_core::pump::PumpControl;
@@ -15,7 +17,14 @@ use super::fields::FieldState;
 use super::{Intents, Selection, settings_panel, theme};
 
 /// Show the inspector.
-pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, selection: Selection, fs: &mut FieldState, out: &mut Intents) {
+pub fn show(
+    ui: &mut Ui,
+    project: &Project,
+    sol: &Solution,
+    selection: Selection,
+    fs: &mut FieldState,
+    out: &mut Intents,
+) {
     ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| {
         match selection {
             Selection::None => {
@@ -44,7 +53,9 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, selection: Selection
             Selection::Run(id) => match project.run(id) {
                 Some(run) => {
                     ui.heading(format!("Run {id}"));
-                    ui.label(RichText::new(format!("{} – {}", label_of(project, run.a), label_of(project, run.b))).weak());
+                    ui.label(
+                        RichText::new(format!("{} – {}", label_of(project, run.a), label_of(project, run.b))).weak(),
+                    );
                     run_inputs(ui, project, sol, run, fs, out);
                     ui.separator();
                     run_results(ui, sol, id);
@@ -71,7 +82,11 @@ fn totals(ui: &mut Ui, sol: &Solution) {
         row(ui, "Water volume", format!("{:.0} l", sol.water_volume_l));
         if let Some(p) = &sol.pump {
             row(ui, "Pump duty", format!("{:.2} m³/h at {:.1} kPa", p.design_flow_m3_h, p.duty_head_pa / 1000.0));
-            row(ui, "Operating point", format!("{:.2} m³/h at {:.1} kPa", p.operating_flow_m3_h, p.operating_head_pa / 1000.0));
+            row(
+                ui,
+                "Operating point",
+                format!("{:.2} m³/h at {:.1} kPa", p.operating_flow_m3_h, p.operating_head_pa / 1000.0),
+            );
         }
         if let Some(v) = &sol.vessel {
             row(ui, "Expansion volume", format!("{:.1} l", v.expansion_volume_l));
@@ -107,13 +122,28 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
         match &node.kind {
             NodeKind::Emitter(e) => {
                 if let Some(v) = fs.text(ui, "em.name", "Name", &e.name) {
-                    set_kind(out, id, NodeKind::Emitter(flowrise_core::project::Emitter { name: v, ..e.clone() }), "em.name");
+                    set_kind(
+                        out,
+                        id,
+                        NodeKind::Emitter(flowrise_core::project::Emitter { name: v, ..e.clone() }),
+                        "em.name",
+                    );
                 }
                 if let Some(v) = fs.number(ui, "em.load", "Heat load", "W", e.load_w, (0.0, 1e6), 0) {
-                    set_kind(out, id, NodeKind::Emitter(flowrise_core::project::Emitter { load_w: v, ..e.clone() }), "em.load");
+                    set_kind(
+                        out,
+                        id,
+                        NodeKind::Emitter(flowrise_core::project::Emitter { load_w: v, ..e.clone() }),
+                        "em.load",
+                    );
                 }
                 if let Some(v) = fs.number(ui, "em.room", "Room", "°C", e.room_c, (5.0, 30.0), 1) {
-                    set_kind(out, id, NodeKind::Emitter(flowrise_core::project::Emitter { room_c: v, ..e.clone() }), "em.room");
+                    set_kind(
+                        out,
+                        id,
+                        NodeKind::Emitter(flowrise_core::project::Emitter { room_c: v, ..e.clone() }),
+                        "em.room",
+                    );
                 }
                 let label_id = ui.label("Emitter").id;
                 let kinds = ["Radiator", "Floor loop", "Terminal"];
@@ -123,17 +153,24 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     EmitterModel::Terminal(_) => 2,
                 };
                 let mut pick = cur;
-                egui::ComboBox::from_id_salt("em.model").selected_text(kinds[cur]).show_ui(ui, |ui| {
-                    for (i, k) in kinds.iter().enumerate() {
-                        ui.selectable_value(&mut pick, i, *k);
-                    }
-                })
-                .response
-                .labelled_by(label_id);
+                egui::ComboBox::from_id_salt("em.model")
+                    .selected_text(kinds[cur])
+                    .show_ui(ui, |ui| {
+                        for (i, k) in kinds.iter().enumerate() {
+                            ui.selectable_value(&mut pick, i, *k);
+                        }
+                    })
+                    .response
+                    .labelled_by(label_id);
                 ui.end_row();
                 if pick != cur {
                     let model = default_model(pick);
-                    set_kind(out, id, NodeKind::Emitter(flowrise_core::project::Emitter { model, ..e.clone() }), "em.model");
+                    set_kind(
+                        out,
+                        id,
+                        NodeKind::Emitter(flowrise_core::project::Emitter { model, ..e.clone() }),
+                        "em.model",
+                    );
                 }
                 model_inputs(ui, id, e, fs, out);
                 let label_id = ui.label("Valve").id;
@@ -143,13 +180,15 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     .filter_map(|k| valves::families_of_kind(k).ok())
                     .flatten()
                     .collect();
-                egui::ComboBox::from_id_salt("em.valve").selected_text(&family).show_ui(ui, |ui| {
-                    for f in &families {
-                        ui.selectable_value(&mut family, f.id.clone(), &f.name);
-                    }
-                })
-                .response
-                .labelled_by(label_id);
+                egui::ComboBox::from_id_salt("em.valve")
+                    .selected_text(&family)
+                    .show_ui(ui, |ui| {
+                        for f in &families {
+                            ui.selectable_value(&mut family, f.id.clone(), &f.name);
+                        }
+                    })
+                    .response
+                    .labelled_by(label_id);
                 ui.end_row();
                 if family != e.valves.valve_family {
                     let mut e2 = e.clone();
@@ -161,7 +200,11 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     ui.label("Presetting (fixed)");
                     ui.horizontal(|ui| {
                         ui.label(ps);
-                        if ui.small_button("Clear").on_hover_text("Let the design choose the presetting again").clicked() {
+                        if ui
+                            .small_button("Clear")
+                            .on_hover_text("Let the design choose the presetting again")
+                            .clicked()
+                        {
                             let mut e2 = e.clone();
                             e2.valves.presetting = None;
                             set_kind(out, id, NodeKind::Emitter(e2), "em.preset");
@@ -193,13 +236,15 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     PumpControl::ProportionalDp { setpoint_kpa } => (2, setpoint_kpa),
                 };
                 let mut pick = cur;
-                egui::ComboBox::from_id_salt("src.control").selected_text(names[cur]).show_ui(ui, |ui| {
-                    for (i, n) in names.iter().enumerate() {
-                        ui.selectable_value(&mut pick, i, *n);
-                    }
-                })
-                .response
-                .labelled_by(label_id);
+                egui::ComboBox::from_id_salt("src.control")
+                    .selected_text(names[cur])
+                    .show_ui(ui, |ui| {
+                        for (i, n) in names.iter().enumerate() {
+                            ui.selectable_value(&mut pick, i, *n);
+                        }
+                    })
+                    .response
+                    .labelled_by(label_id);
                 ui.end_row();
                 let control = |i: usize, sp: f64| match i {
                     1 => PumpControl::ConstantDp { setpoint_kpa: sp },
@@ -216,11 +261,15 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                 }
                 for (i, (q, h)) in s.pump.curve_points.iter().enumerate() {
                     let kq = format!("src.q{i}");
-                    if let Some(v) = fs.number(ui, &kq, &format!("Curve point {} flow", i + 1), "m³/h", *q, (0.0, 1000.0), 2) {
+                    if let Some(v) =
+                        fs.number(ui, &kq, &format!("Curve point {} flow", i + 1), "m³/h", *q, (0.0, 1000.0), 2)
+                    {
                         set_kind(out, id, with(&|x| x.pump.curve_points[i].0 = v), &kq);
                     }
                     let kh = format!("src.h{i}");
-                    if let Some(v) = fs.number(ui, &kh, &format!("Curve point {} head", i + 1), "kPa", *h, (0.0, 2000.0), 1) {
+                    if let Some(v) =
+                        fs.number(ui, &kh, &format!("Curve point {} head", i + 1), "kPa", *h, (0.0, 2000.0), 1)
+                    {
                         set_kind(out, id, with(&|x| x.pump.curve_points[i].1 = v), &kh);
                     }
                 }
@@ -272,7 +321,12 @@ fn default_model(kind: usize) -> EmitterModel {
             kv_m3_h: 2.5,
             water_content_l: 1.5,
         }),
-        _ => EmitterModel::Radiator(RadiatorSpec { type_code: "22".to_owned(), height_mm: 600, sizing: RadiatorSizing::ToSize, exponent_n: None }),
+        _ => EmitterModel::Radiator(RadiatorSpec {
+            type_code: "22".to_owned(),
+            height_mm: 600,
+            sizing: RadiatorSizing::ToSize,
+            exponent_n: None,
+        }),
     }
 }
 
@@ -282,20 +336,34 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
         EmitterModel::Radiator(r) => {
             let label_id = ui.label("Panel type").id;
             let mut code = r.type_code.clone();
-            let types: Vec<String> = radiator::radiator_catalog().map(|c| c.types.iter().map(|t| t.code.clone()).collect()).unwrap_or_default();
-            egui::ComboBox::from_id_salt("rad.type").selected_text(format!("type {code}")).show_ui(ui, |ui| {
-                for t in &types {
-                    ui.selectable_value(&mut code, t.clone(), format!("type {t}"));
-                }
-            })
-            .response
-            .labelled_by(label_id);
+            let types: Vec<String> = radiator::radiator_catalog()
+                .map(|c| c.types.iter().map(|t| t.code.clone()).collect())
+                .unwrap_or_default();
+            egui::ComboBox::from_id_salt("rad.type")
+                .selected_text(format!("type {code}"))
+                .show_ui(ui, |ui| {
+                    for t in &types {
+                        ui.selectable_value(&mut code, t.clone(), format!("type {t}"));
+                    }
+                })
+                .response
+                .labelled_by(label_id);
             ui.end_row();
             if code != r.type_code {
-                set_kind(out, id, with_model(EmitterModel::Radiator(RadiatorSpec { type_code: code, ..r.clone() })), "rad.type");
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::Radiator(RadiatorSpec { type_code: code, ..r.clone() })),
+                    "rad.type",
+                );
             }
             if let Some(v) = fs.number(ui, "rad.h", "Height", "mm", f64::from(r.height_mm), (100.0, 3000.0), 0) {
-                set_kind(out, id, with_model(EmitterModel::Radiator(RadiatorSpec { height_mm: v.round() as u32, ..r.clone() })), "rad.h");
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::Radiator(RadiatorSpec { height_mm: v.round() as u32, ..r.clone() })),
+                    "rad.h",
+                );
             }
             let existing = matches!(r.sizing, RadiatorSizing::Existing { .. });
             ui.label("Sizing");
@@ -306,39 +374,79 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
             });
             ui.end_row();
             if ex != existing {
-                let sizing = if ex { RadiatorSizing::Existing { nominal_output_w: 1500.0, length_mm: 1000 } } else { RadiatorSizing::ToSize };
-                set_kind(out, id, with_model(EmitterModel::Radiator(RadiatorSpec { sizing, ..r.clone() })), "rad.sizing");
+                let sizing = if ex {
+                    RadiatorSizing::Existing { nominal_output_w: 1500.0, length_mm: 1000 }
+                } else {
+                    RadiatorSizing::ToSize
+                };
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::Radiator(RadiatorSpec { sizing, ..r.clone() })),
+                    "rad.sizing",
+                );
             }
             if let RadiatorSizing::Existing { nominal_output_w, length_mm } = r.sizing {
-                if let Some(v) = fs.number(ui, "rad.nom", "Nominal output (75/65/20)", "W", nominal_output_w, (1.0, 1e5), 0) {
+                if let Some(v) =
+                    fs.number(ui, "rad.nom", "Nominal output (75/65/20)", "W", nominal_output_w, (1.0, 1e5), 0)
+                {
                     let sizing = RadiatorSizing::Existing { nominal_output_w: v, length_mm };
-                    set_kind(out, id, with_model(EmitterModel::Radiator(RadiatorSpec { sizing, ..r.clone() })), "rad.nom");
+                    set_kind(
+                        out,
+                        id,
+                        with_model(EmitterModel::Radiator(RadiatorSpec { sizing, ..r.clone() })),
+                        "rad.nom",
+                    );
                 }
                 if let Some(v) = fs.number(ui, "rad.len", "Length", "mm", f64::from(length_mm), (100.0, 6000.0), 0) {
                     let sizing = RadiatorSizing::Existing { nominal_output_w, length_mm: v.round() as u32 };
-                    set_kind(out, id, with_model(EmitterModel::Radiator(RadiatorSpec { sizing, ..r.clone() })), "rad.len");
+                    set_kind(
+                        out,
+                        id,
+                        with_model(EmitterModel::Radiator(RadiatorSpec { sizing, ..r.clone() })),
+                        "rad.len",
+                    );
                 }
             }
         }
         EmitterModel::FloorLoop(f) => {
             if let Some(v) = fs.number(ui, "fl.area", "Heated area", "m²", f.area_m2, (0.5, 500.0), 1) {
-                set_kind(out, id, with_model(EmitterModel::FloorLoop(FloorLoopSpec { area_m2: v, ..f.clone() })), "fl.area");
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::FloorLoop(FloorLoopSpec { area_m2: v, ..f.clone() })),
+                    "fl.area",
+                );
             }
             if let Some(v) = fs.number(ui, "fl.spacing", "Pipe spacing", "mm", f.spacing_m * 1000.0, (50.0, 400.0), 0) {
-                set_kind(out, id, with_model(EmitterModel::FloorLoop(FloorLoopSpec { spacing_m: v / 1000.0, ..f.clone() })), "fl.spacing");
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::FloorLoop(FloorLoopSpec { spacing_m: v / 1000.0, ..f.clone() })),
+                    "fl.spacing",
+                );
             }
-            if let Some(v) = fs.number(ui, "fl.cover", "Covering R", "m²K/W", f.covering_resistance_m2k_w, (0.0, 0.15), 3) {
-                set_kind(out, id, with_model(EmitterModel::FloorLoop(FloorLoopSpec { covering_resistance_m2k_w: v, ..f.clone() })), "fl.cover");
+            if let Some(v) =
+                fs.number(ui, "fl.cover", "Covering R", "m²K/W", f.covering_resistance_m2k_w, (0.0, 0.15), 3)
+            {
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::FloorLoop(FloorLoopSpec { covering_resistance_m2k_w: v, ..f.clone() })),
+                    "fl.cover",
+                );
             }
             let label_id = ui.label("Zone").id;
             let mut zone = f.zone;
-            egui::ComboBox::from_id_salt("fl.zone").selected_text(zone_name(zone)).show_ui(ui, |ui| {
-                for z in [FloorZone::Occupied, FloorZone::Edge, FloorZone::Bathroom] {
-                    ui.selectable_value(&mut zone, z, zone_name(z));
-                }
-            })
-            .response
-            .labelled_by(label_id);
+            egui::ComboBox::from_id_salt("fl.zone")
+                .selected_text(zone_name(zone))
+                .show_ui(ui, |ui| {
+                    for z in [FloorZone::Occupied, FloorZone::Edge, FloorZone::Bathroom] {
+                        ui.selectable_value(&mut zone, z, zone_name(z));
+                    }
+                })
+                .response
+                .labelled_by(label_id);
             ui.end_row();
             if zone != f.zone {
                 set_kind(out, id, with_model(EmitterModel::FloorLoop(FloorLoopSpec { zone, ..f.clone() })), "fl.zone");
@@ -346,10 +454,20 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
         }
         EmitterModel::Terminal(t) => {
             if let Some(v) = fs.number(ui, "tm.nom", "Nominal output", "W", t.nominal_output_w, (1.0, 1e6), 0) {
-                set_kind(out, id, with_model(EmitterModel::Terminal(TerminalSpec { nominal_output_w: v, ..t.clone() })), "tm.nom");
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::Terminal(TerminalSpec { nominal_output_w: v, ..t.clone() })),
+                    "tm.nom",
+                );
             }
             if let Some(v) = fs.number(ui, "tm.kv", "Coil Kv", "m³/h", t.kv_m3_h, (0.01, 1000.0), 2) {
-                set_kind(out, id, with_model(EmitterModel::Terminal(TerminalSpec { kv_m3_h: v, ..t.clone() })), "tm.kv");
+                set_kind(
+                    out,
+                    id,
+                    with_model(EmitterModel::Terminal(TerminalSpec { kv_m3_h: v, ..t.clone() })),
+                    "tm.kv",
+                );
             }
         }
     }
@@ -404,7 +522,11 @@ fn node_results(ui: &mut Ui, project: &Project, sol: &Solution, id: NodeId) {
                 row(ui, "Design flow", format!("{:.2} m³/h", p.design_flow_m3_h));
                 row(ui, "Index circuit Δp", format!("{:.1} kPa", p.index_dp_pa / 1000.0));
                 row(ui, "Duty head (+ margin)", format!("{:.1} kPa", p.duty_head_pa / 1000.0));
-                row(ui, "Operating point", format!("{:.2} m³/h at {:.1} kPa", p.operating_flow_m3_h, p.operating_head_pa / 1000.0));
+                row(
+                    ui,
+                    "Operating point",
+                    format!("{:.2} m³/h at {:.1} kPa", p.operating_flow_m3_h, p.operating_head_pa / 1000.0),
+                );
                 row(ui, "Hydraulic power", format!("{:.0} W", p.hydraulic_power_w));
             }
             row(ui, "Heat load", format!("{:.2} kW", sol.heat_load_w / 1000.0));
@@ -420,20 +542,30 @@ fn run_inputs(ui: &mut Ui, project: &Project, sol: &Solution, run: &Run, fs: &mu
     let set = |out: &mut Intents, props: RunProps, field: &str| out.edit_field(Edit::SetRunProps { id, props }, field);
     Grid::new("run_fields").num_columns(3).spacing([8.0, 4.0]).show(ui, |ui| {
         row(ui, "Drawn length", format!("{:.2} m", project.drawn_length_m(run)));
-        if let Some(v) = fs.optional_number(ui, "run.length", "Length override", "m", run.props.length_override_m, (0.01, 10_000.0), 2) {
+        if let Some(v) = fs.optional_number(
+            ui,
+            "run.length",
+            "Length override",
+            "m",
+            run.props.length_override_m,
+            (0.01, 10_000.0),
+            2,
+        ) {
             set(out, RunProps { length_override_m: v, ..run.props.clone() }, "run.length");
         }
         let label_id = ui.label("Pipe class").id;
         let mut class = run.props.class;
         let class_text = |c: Option<PipeClass>| c.map_or("from the layout", PipeClass::name);
-        egui::ComboBox::from_id_salt("run.class").selected_text(class_text(class)).show_ui(ui, |ui| {
-            ui.selectable_value(&mut class, None, class_text(None));
-            for c in PipeClass::ALL {
-                ui.selectable_value(&mut class, Some(c), c.name());
-            }
-        })
-        .response
-        .labelled_by(label_id);
+        egui::ComboBox::from_id_salt("run.class")
+            .selected_text(class_text(class))
+            .show_ui(ui, |ui| {
+                ui.selectable_value(&mut class, None, class_text(None));
+                for c in PipeClass::ALL {
+                    ui.selectable_value(&mut class, Some(c), c.name());
+                }
+            })
+            .response
+            .labelled_by(label_id);
         ui.end_row();
         if class != run.props.class {
             set(out, RunProps { class, ..run.props.clone() }, "run.class");
@@ -446,14 +578,16 @@ fn run_inputs(ui: &mut Ui, project: &Project, sol: &Solution, run: &Run, fs: &mu
             .unwrap_or_default();
         let mut fixed = run.props.fixed_size.clone();
         let size_text = |f: &Option<String>| f.clone().unwrap_or_else(|| "sized by design".to_owned());
-        egui::ComboBox::from_id_salt("run.size").selected_text(size_text(&fixed)).show_ui(ui, |ui| {
-            ui.selectable_value(&mut fixed, None, "sized by design");
-            for s in &sizes {
-                ui.selectable_value(&mut fixed, Some(s.clone()), s);
-            }
-        })
-        .response
-        .labelled_by(label_id);
+        egui::ComboBox::from_id_salt("run.size")
+            .selected_text(size_text(&fixed))
+            .show_ui(ui, |ui| {
+                ui.selectable_value(&mut fixed, None, "sized by design");
+                for s in &sizes {
+                    ui.selectable_value(&mut fixed, Some(s.clone()), s);
+                }
+            })
+            .response
+            .labelled_by(label_id);
         ui.end_row();
         if fixed != run.props.fixed_size {
             set(out, RunProps { fixed_size: fixed, ..run.props.clone() }, "run.size");
@@ -465,13 +599,15 @@ fn run_inputs(ui: &mut Ui, project: &Project, sol: &Solution, run: &Run, fs: &mu
             Some(ReturnLayout::Direct) => "direct return",
             Some(ReturnLayout::Reverse) => "reverse return",
         };
-        egui::ComboBox::from_id_salt("run.return").selected_text(lt(layout)).show_ui(ui, |ui| {
-            for l in [None, Some(ReturnLayout::Direct), Some(ReturnLayout::Reverse)] {
-                ui.selectable_value(&mut layout, l, lt(l));
-            }
-        })
-        .response
-        .labelled_by(label_id);
+        egui::ComboBox::from_id_salt("run.return")
+            .selected_text(lt(layout))
+            .show_ui(ui, |ui| {
+                for l in [None, Some(ReturnLayout::Direct), Some(ReturnLayout::Reverse)] {
+                    ui.selectable_value(&mut layout, l, lt(l));
+                }
+            })
+            .response
+            .labelled_by(label_id);
         ui.end_row();
         if layout != run.props.return_layout {
             set(out, RunProps { return_layout: layout, ..run.props.clone() }, "run.return");
@@ -521,7 +657,11 @@ pub fn findings_list(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
             Severity::Note => ("Note", theme::INK),
         };
         let text = RichText::new(format!("{mark} at {}: {}", f.item, f.message)).color(colour);
-        if ui.add(egui::Button::selectable(false, text).wrap()).on_hover_text("Select this item and centre the canvas on it").clicked() {
+        if ui
+            .add(egui::Button::selectable(false, text).wrap())
+            .on_hover_text("Select this item and centre the canvas on it")
+            .clicked()
+        {
             out.centre_on = Some(f.item);
             if f.item == ItemRef::Settings {
                 out.select = Some(Selection::None);

@@ -126,7 +126,12 @@ impl Intents {
     }
     /// Queue an edit from an inspector field.
     pub fn edit_field(&mut self, edit: Edit, field: &str) {
-        self.edits.push(QueuedEdit { edit, field: Some(field.to_owned()), during_drag: false, select_new: SelectNew::Nothing });
+        self.edits.push(QueuedEdit {
+            edit,
+            field: Some(field.to_owned()),
+            during_drag: false,
+            select_new: SelectNew::Nothing,
+        });
     }
     /// Queue one step of a drag (no undo step of its own).
     pub fn edit_during_drag(&mut self, edit: Edit) {
@@ -160,7 +165,13 @@ pub struct Prefs {
 
 impl Default for Prefs {
     fn default() -> Self {
-        Self { recent: Vec::new(), show_labels: true, colour_by: ColourBy::default(), show_elevation: false, drawer_open: true }
+        Self {
+            recent: Vec::new(),
+            show_labels: true,
+            colour_by: ColourBy::default(),
+            show_elevation: true,
+            drawer_open: true,
+        }
     }
 }
 
@@ -355,11 +366,10 @@ impl FlowriseApp {
         if let Some(pending) = self.pending {
             let choice = files::unsaved_prompt(ctx, &self.project.name);
             match choice {
-                Some(files::PromptChoice::Save) => {
-                    if self.save(false) {
-                        self.pending = None;
-                        self.after_prompt(pending, ctx);
-                    }
+                // A save that fails or is cancelled keeps the prompt open.
+                Some(files::PromptChoice::Save) if self.save(false) => {
+                    self.pending = None;
+                    self.after_prompt(pending, ctx);
                 }
                 Some(files::PromptChoice::Discard) => {
                     self.pending = None;
@@ -367,7 +377,7 @@ impl FlowriseApp {
                     self.after_prompt(pending, ctx);
                 }
                 Some(files::PromptChoice::Cancel) => self.pending = None,
-                None => {}
+                Some(files::PromptChoice::Save) | None => {}
             }
         }
     }

@@ -40,7 +40,8 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState,
         for class in PipeClass::ALL {
             let key = format!("set.v.{class:?}");
             let v0 = *s.velocity_limit_m_s.get(class);
-            if let Some(v) = fs.number(ui, &key, &format!("Velocity limit, {}", class.name()), "m/s", v0, (0.1, 3.0), 2) {
+            if let Some(v) = fs.number(ui, &key, &format!("Velocity limit, {}", class.name()), "m/s", v0, (0.1, 3.0), 2)
+            {
                 let mut s2 = s.clone();
                 *s2.velocity_limit_m_s.get_mut(class) = v;
                 set(out, s2, &key);
@@ -49,24 +50,32 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState,
         if let Some(v) = fs.number(ui, "set.grad", "Gradient limit", "Pa/m", s.gradient_limit_pa_m, (20.0, 1000.0), 0) {
             set(out, DesignSettings { gradient_limit_pa_m: v, ..s.clone() }, "set.grad");
         }
-        if let Some(v) = fs.number(ui, "set.margin", "Pump head margin", "%", s.head_margin_fraction * 100.0, (0.0, 100.0), 0) {
+        if let Some(v) =
+            fs.number(ui, "set.margin", "Pump head margin", "%", s.head_margin_fraction * 100.0, (0.0, 100.0), 0)
+        {
             set(out, DesignSettings { head_margin_fraction: v / 100.0, ..s.clone() }, "set.margin");
         }
-        if let Some(v) = fs.number(ui, "set.minvalve", "Min. valve Δp", "kPa", s.min_valve_dp_pa / 1000.0, (0.0, 50.0), 1) {
+        if let Some(v) =
+            fs.number(ui, "set.minvalve", "Min. valve Δp", "kPa", s.min_valve_dp_pa / 1000.0, (0.0, 50.0), 1)
+        {
             set(out, DesignSettings { min_valve_dp_pa: v * 1000.0, ..s.clone() }, "set.minvalve");
         }
         let all_series = pipes::builtin_series().unwrap_or_default();
         for class in PipeClass::ALL {
             let label_id = ui.label(format!("Series, {}", class.name())).id;
             let mut id = s.series.get(class).clone();
-            let name_of = |id: &str| all_series.iter().find(|x| x.id == id).map_or_else(|| id.to_owned(), |x| x.name.clone());
-            egui::ComboBox::from_id_salt(format!("set.series.{class:?}")).selected_text(name_of(&id)).width(170.0).show_ui(ui, |ui| {
-                for x in all_series {
-                    ui.selectable_value(&mut id, x.id.clone(), &x.name).on_hover_text(&x.standard);
-                }
-            })
-            .response
-            .labelled_by(label_id);
+            let name_of =
+                |id: &str| all_series.iter().find(|x| x.id == id).map_or_else(|| id.to_owned(), |x| x.name.clone());
+            egui::ComboBox::from_id_salt(format!("set.series.{class:?}"))
+                .selected_text(name_of(&id))
+                .width(170.0)
+                .show_ui(ui, |ui| {
+                    for x in all_series {
+                        ui.selectable_value(&mut id, x.id.clone(), &x.name).on_hover_text(&x.standard);
+                    }
+                })
+                .response
+                .labelled_by(label_id);
             ui.end_row();
             if &id != s.series.get(class) {
                 let mut s2 = s.clone();
@@ -98,5 +107,7 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState,
     if let Some(e) = fs.error("set.series").or(fs.error("set.mode")).or(fs.error("set.layout")) {
         ui.label(RichText::new(e).color(super::theme::ERROR));
     }
-    ui.label(RichText::new("Limits are common practice, not code requirements; change them to suit the job.").small().weak());
+    ui.label(
+        RichText::new("Limits are common practice, not code requirements; change them to suit the job.").small().weak(),
+    );
 }

@@ -6,7 +6,7 @@
 use std::sync::Arc;
 use std::sync::mpsc::{Receiver, channel};
 
-use flowrise_core::design::{SolveOptions, Solution, Workspace, solve_project};
+use flowrise_core::design::{Solution, SolveOptions, Workspace, solve_project};
 use flowrise_core::project::Project;
 
 /// A solve slower than this moves to the worker thread, ms.

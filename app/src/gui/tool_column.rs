@@ -11,11 +11,20 @@ fn icon(p: &egui::Painter, r: Rect, tool: Tool, c: Color32) {
     let m = r.center();
     match tool {
         Tool::Select => {
-            let pts = vec![m + vec2(-5.0, -7.0), m + vec2(5.0, 1.0), m + vec2(0.0, 1.5), m + vec2(-2.0, 7.0), m + vec2(-5.0, -7.0)];
+            let pts = vec![
+                m + vec2(-5.0, -7.0),
+                m + vec2(5.0, 1.0),
+                m + vec2(0.0, 1.5),
+                m + vec2(-2.0, 7.0),
+                m + vec2(-5.0, -7.0),
+            ];
             p.add(Shape::line(pts, s));
         }
         Tool::Run => {
-            p.add(Shape::line(vec![m + vec2(-7.0, 6.0), m + vec2(-1.0, -4.0), m + vec2(7.0, -4.0)], Stroke::new(2.5, c)));
+            p.add(Shape::line(
+                vec![m + vec2(-7.0, 6.0), m + vec2(-1.0, -4.0), m + vec2(7.0, -4.0)],
+                Stroke::new(2.5, c),
+            ));
             p.circle_filled(m + vec2(-7.0, 6.0), 2.5, c);
             p.circle_filled(m + vec2(7.0, -4.0), 2.5, c);
         }
@@ -37,11 +46,19 @@ fn icon(p: &egui::Painter, r: Rect, tool: Tool, c: Color32) {
         }
         Tool::Source => {
             p.rect_stroke(Rect::from_center_size(m, vec2(14.0, 14.0)), 2, s, egui::StrokeKind::Middle);
-            p.add(Shape::convex_polygon(vec![m + vec2(-2.5, 3.0), m + vec2(3.5, 0.0), m + vec2(-2.5, -3.0)], c, Stroke::NONE));
+            p.add(Shape::convex_polygon(
+                vec![m + vec2(-2.5, 3.0), m + vec2(3.5, 0.0), m + vec2(-2.5, -3.0)],
+                c,
+                Stroke::NONE,
+            ));
         }
         Tool::Riser => {
             p.line_segment([m + vec2(0.0, 7.0), m + vec2(0.0, -7.0)], Stroke::new(2.0, c));
-            p.add(Shape::convex_polygon(vec![m + vec2(-4.0, -3.0), m + vec2(0.0, -8.0), m + vec2(4.0, -3.0)], c, Stroke::NONE));
+            p.add(Shape::convex_polygon(
+                vec![m + vec2(-4.0, -3.0), m + vec2(0.0, -8.0), m + vec2(4.0, -3.0)],
+                c,
+                Stroke::NONE,
+            ));
             p.line_segment([m + vec2(-7.0, 7.0), m + vec2(7.0, 7.0)], s);
         }
         Tool::Split => {
@@ -60,14 +77,32 @@ fn tool_button(ui: &mut Ui, tool: Tool, active: bool) -> egui::Response {
     let (rect, resp) = ui.allocate_exact_size(vec2(ui.available_width(), 30.0), Sense::click());
     resp.widget_info(|| egui::WidgetInfo::selected(egui::Role::Button, true, active, tool.word()));
     let visuals = ui.style().interact_selectable(&resp, active);
-    let fill = if active { theme::ACCENT } else if resp.hovered() { visuals.bg_fill } else { Color32::TRANSPARENT };
+    let fill = if active {
+        theme::ACCENT
+    } else if resp.hovered() {
+        visuals.bg_fill
+    } else {
+        Color32::TRANSPARENT
+    };
     let ink = if active { Color32::WHITE } else { theme::INK };
     let p = ui.painter();
     p.rect_filled(rect, 4, fill);
     icon(p, Rect::from_min_size(rect.min + vec2(4.0, 3.0), vec2(24.0, 24.0)), tool, ink);
-    p.text(Pos2::new(rect.left() + 34.0, rect.center().y), Align2::LEFT_CENTER, tool.word(), FontId::proportional(13.5), ink);
+    p.text(
+        Pos2::new(rect.left() + 34.0, rect.center().y),
+        Align2::LEFT_CENTER,
+        tool.word(),
+        FontId::proportional(13.5),
+        ink,
+    );
     let key = format!("{:?}", tool.key());
-    p.text(Pos2::new(rect.right() - 6.0, rect.center().y), Align2::RIGHT_CENTER, key, FontId::monospace(11.0), if active { Color32::WHITE } else { theme::NO_RESULT });
+    p.text(
+        Pos2::new(rect.right() - 6.0, rect.center().y),
+        Align2::RIGHT_CENTER,
+        key,
+        FontId::monospace(11.0),
+        if active { Color32::WHITE } else { theme::NO_RESULT },
+    );
     resp.on_hover_text(tool.tooltip())
 }
 
@@ -83,7 +118,9 @@ pub fn show(ui: &mut Ui, tool: &mut Tool, header_outlets: &mut u32, out: &mut In
     if *tool == Tool::Header {
         ui.add_space(6.0);
         let l = ui.label("Outlets");
-        ui.add(egui::DragValue::new(header_outlets).range(1..=24)).labelled_by(l.id).on_hover_text("Outlet pairs of new headers");
+        ui.add(egui::DragValue::new(header_outlets).range(1..=24))
+            .labelled_by(l.id)
+            .on_hover_text("Outlet pairs of new headers");
     }
     ui.add_space(10.0);
     ui.separator();

@@ -7,8 +7,8 @@ use egui::{RichText, Ui};
 use flowrise_core::design::{Severity, Solution};
 use flowrise_core::project::{Mode, Project};
 
-use super::{Action, Intents, Prefs, settings_panel, theme};
 use super::theme::ColourBy;
+use super::{Action, Intents, Prefs, settings_panel, theme};
 
 /// What the strip shows.
 #[derive(Debug)]
@@ -60,7 +60,8 @@ pub fn show(ui: &mut Ui, m: &TopBar<'_>, project: &Project, sol: &Solution, pref
                 ui.separator();
                 ui.label(RichText::new("Recent").weak());
                 for p in m.recent {
-                    let name = p.file_name().map_or_else(|| p.display().to_string(), |n| n.to_string_lossy().into_owned());
+                    let name =
+                        p.file_name().map_or_else(|| p.display().to_string(), |n| n.to_string_lossy().into_owned());
                     if ui.button(name).on_hover_text(p.display().to_string()).clicked() {
                         out.actions.push(Action::Open);
                         out.status_note(format!("open {} from the dialog", p.display()));
@@ -87,11 +88,16 @@ pub fn show(ui: &mut Ui, m: &TopBar<'_>, project: &Project, sol: &Solution, pref
         }
         ui.separator();
         let mut colour_by = prefs.colour_by;
-        egui::ComboBox::from_label("Colour by").selected_text(colour_by.name()).show_ui(ui, |ui| {
-            for c in ColourBy::ALL {
-                ui.selectable_value(&mut colour_by, c, c.name());
-            }
-        });
+        let label_id = ui.label("Colour by").id;
+        egui::ComboBox::from_id_salt("colour_by")
+            .selected_text(colour_by.name())
+            .show_ui(ui, |ui| {
+                for c in ColourBy::ALL {
+                    ui.selectable_value(&mut colour_by, c, c.name());
+                }
+            })
+            .response
+            .labelled_by(label_id);
         prefs.colour_by = colour_by;
         ui.toggle_value(&mut prefs.show_labels, "Labels").on_hover_text(Action::ToggleLabels.tooltip());
         ui.toggle_value(&mut prefs.show_elevation, "Riser view").on_hover_text(Action::ToggleElevation.tooltip());

@@ -662,8 +662,10 @@ impl<'f> Derivation<'f> {
                     let bends: f64 = ch.runs.iter().filter_map(|&x| p.run(x)).map(|x| bend_count(p, x)).sum();
                     (r_last, r_first, total_len, bends, p.is_vertical(run))
                 } else {
-                    let (Some((_, ra)), Some((_, rb))) = (ends(nodes[i], &self.pairs), ends(nodes[i + 1], &self.pairs))
-                    else {
+                    // `get`: a chain run without a tree run (never built by the
+                    // topology) skips instead of indexing past the end.
+                    let (Some(&na), Some(&nb)) = (nodes.get(i), nodes.get(i + 1)) else { continue };
+                    let (Some((_, ra)), Some((_, rb))) = (ends(na, &self.pairs), ends(nb, &self.pairs)) else {
                         continue;
                     };
                     (ra, rb, p.length_m(run), bend_count(p, run), p.is_vertical(run))
@@ -957,7 +959,7 @@ impl<'f> Derivation<'f> {
         let duty = index_dp * (1.0 + s.head_margin_fraction);
 
         // Pump: control set-point and the head available for balancing.
-        let Some(curve) = self.curve.clone() else { return };
+        let Some(curve) = self.curve else { return };
         let q_design_m3_h = total / rp.density_kg_m3 * 3600.0;
         let source = self.source.unwrap_or(crate::project::NodeId(0));
         let control = match (s.mode, self.control) {
@@ -986,7 +988,7 @@ impl<'f> Derivation<'f> {
             ));
         }
         self.available_pa = available;
-        self.curve = Some(curve.clone());
+        self.curve = Some(curve);
 
         // Presettings.
         let mut results = Vec::with_capacity(self.emitters.len());
@@ -1273,7 +1275,12 @@ impl<'f> Derivation<'f> {
         let branch_run = if leg == fittings::TeeLeg::Branch {
             run
         } else {
-            children.iter().map(|&(r, _)| r).filter(|&r| r != run).max_by(|&a, &b| flow_of(a).total_cmp(&flow_of(b))).unwrap_or(run)
+            children
+                .iter()
+                .map(|&(r, _)| r)
+                .filter(|&r| r != run)
+                .max_by(|&a, &b| flow_of(a).total_cmp(&flow_of(b)))
+                .unwrap_or(run)
         };
         let feed = self.topo.parent_run.get(&tr.up).copied().unwrap_or(largest);
         let (d_branch, d_run) = (diameter_of(branch_run), diameter_of(feed));

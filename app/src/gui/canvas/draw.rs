@@ -167,7 +167,10 @@ pub fn node_symbol(painter: &Painter, at: Pos2, n: &Node) {
                 painter.rect(r, CornerRadius::same(1), Color32::WHITE, ink, StrokeKind::Middle);
                 for i in 1..5 {
                     let x = r.left() + i as f32 * r.width() / 5.0;
-                    painter.line_segment([pos2(x, r.top() + 2.0), pos2(x, r.bottom() - 2.0)], Stroke::new(1.0, theme::INK));
+                    painter.line_segment(
+                        [pos2(x, r.top() + 2.0), pos2(x, r.bottom() - 2.0)],
+                        Stroke::new(1.0, theme::INK),
+                    );
                 }
             }
             EmitterModel::FloorLoop(_) => {
@@ -176,7 +179,8 @@ pub fn node_symbol(painter: &Painter, at: Pos2, n: &Node) {
                 let mut pts = Vec::new();
                 for i in 0..4 {
                     let y = r.top() + 3.0 + i as f32 * 4.0;
-                    let (x0, x1) = if i % 2 == 0 { (r.left() + 3.0, r.right() - 3.0) } else { (r.right() - 3.0, r.left() + 3.0) };
+                    let (x0, x1) =
+                        if i % 2 == 0 { (r.left() + 3.0, r.right() - 3.0) } else { (r.right() - 3.0, r.left() + 3.0) };
                     pts.push(pos2(x0, y));
                     pts.push(pos2(x1, y));
                 }
@@ -219,7 +223,13 @@ pub fn draw_legend(painter: &Painter, rect: Rect, colour_by: ColourBy) {
     let (title, note) = colour_by.legend();
     let w = 170.0;
     let frame = Rect::from_min_size(pos2(rect.right() - w - 12.0, rect.top() + 12.0), vec2(w, 78.0));
-    painter.rect(frame, CornerRadius::same(5), Color32::from_rgba_unmultiplied(255, 255, 255, 235), Stroke::new(1.0, theme::GRID_MAJOR), StrokeKind::Inside);
+    painter.rect(
+        frame,
+        CornerRadius::same(5),
+        Color32::from_rgba_unmultiplied(255, 255, 255, 235),
+        Stroke::new(1.0, theme::GRID_MAJOR),
+        StrokeKind::Inside,
+    );
     painter.text(frame.min + vec2(8.0, 6.0), Align2::LEFT_TOP, title, FontId::proportional(12.0), theme::INK);
     let bar = Rect::from_min_size(frame.min + vec2(8.0, 24.0), vec2(w - 16.0, 10.0));
     let steps = 48;
@@ -237,7 +247,13 @@ pub fn draw_legend(painter: &Painter, rect: Rect, colour_by: ColourBy) {
     let y = frame.bottom() - 12.0;
     let x0 = frame.left() + 8.0;
     dashed(painter, &[pos2(x0, y), pos2(x0 + 26.0, y)], Stroke::new(5.0, theme::scale_colour(1.0)));
-    painter.text(pos2(x0 + 32.0, y), Align2::LEFT_CENTER, format!("over the limit · {note}"), FontId::proportional(10.0), theme::INK);
+    painter.text(
+        pos2(x0 + 32.0, y),
+        Align2::LEFT_CENTER,
+        format!("over the limit · {note}"),
+        FontId::proportional(10.0),
+        theme::INK,
+    );
 }
 
 /// Scale bar in the lower-left corner: one grid step.
@@ -250,7 +266,13 @@ pub fn draw_scale_bar(painter: &Painter, view: &View, bottom_left: Pos2) {
     for x in [x0, x0 + len] {
         painter.line_segment([pos2(x, y - 4.0), pos2(x, y + 4.0)], stroke);
     }
-    painter.text(pos2(x0 + len + 6.0, y), Align2::LEFT_CENTER, view.scale_text(), FontId::proportional(11.0), theme::INK);
+    painter.text(
+        pos2(x0 + len + 6.0, y),
+        Align2::LEFT_CENTER,
+        view.scale_text(),
+        FontId::proportional(11.0),
+        theme::INK,
+    );
 }
 
 /// Items with error or warning findings.

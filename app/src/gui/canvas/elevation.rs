@@ -11,7 +11,13 @@ use crate::gui::theme::{self, ColourBy};
 /// Draw the elevation of all vertical runs into `rect`.
 pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, colour_by: ColourBy) {
     painter.rect_filled(rect, 0, theme::PAPER);
-    painter.text(rect.left_top() + egui::vec2(8.0, 6.0), Align2::LEFT_TOP, "Riser view (from the south)", FontId::proportional(12.0), theme::INK);
+    painter.text(
+        rect.left_top() + egui::vec2(8.0, 6.0),
+        Align2::LEFT_TOP,
+        "Riser view (from the south)",
+        FontId::proportional(12.0),
+        theme::INK,
+    );
     let levels = &project.levels;
     if levels.is_empty() {
         return;
@@ -24,12 +30,27 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
     let y_of = |z: f64| bottom - ((z - z_min) / span) as f32 * (bottom - top);
     for l in levels {
         let y = y_of(l.elevation_m);
-        painter.line_segment([pos2(rect.left() + 6.0, y), pos2(rect.right() - 6.0, y)], Stroke::new(1.0, theme::GRID_MAJOR));
-        painter.text(pos2(rect.left() + 8.0, y - 2.0), Align2::LEFT_BOTTOM, format!("{}  {:+.1} m", l.name, l.elevation_m), FontId::proportional(10.5), theme::INK);
+        painter.line_segment(
+            [pos2(rect.left() + 6.0, y), pos2(rect.right() - 6.0, y)],
+            Stroke::new(1.0, theme::GRID_MAJOR),
+        );
+        painter.text(
+            pos2(rect.left() + 8.0, y - 2.0),
+            Align2::LEFT_BOTTOM,
+            format!("{}  {:+.1} m", l.name, l.elevation_m),
+            FontId::proportional(10.5),
+            theme::INK,
+        );
     }
     let vertical: Vec<_> = project.runs().filter(|r| project.is_vertical(r)).collect();
     if vertical.is_empty() {
-        painter.text(rect.center(), Align2::CENTER_CENTER, "no risers yet", FontId::proportional(12.0), theme::NO_RESULT);
+        painter.text(
+            rect.center(),
+            Align2::CENTER_CENTER,
+            "no risers yet",
+            FontId::proportional(12.0),
+            theme::NO_RESULT,
+        );
         return;
     }
     let xs: Vec<f64> = vertical.iter().filter_map(|r| project.node(r.a)).map(|n| n.pos.x_m).collect();
@@ -38,7 +59,9 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
     let x_span = (x_max - x_min).max(1.0);
     let left = rect.left() + 60.0;
     let right = rect.right() - 40.0;
-    let x_of = |x: f64| if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { 0.5 * (left + right) };
+    let x_of = |x: f64| {
+        if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { 0.5 * (left + right) }
+    };
     let limit = project.settings.gradient_limit_pa_m;
     for r in vertical {
         let (Some(a), Some(b)) = (project.node(r.a), project.node(r.b)) else { continue };
@@ -52,7 +75,13 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
             painter.circle_filled(pos2(x, y), 3.5, theme::INK);
         }
         if let Some(p) = sol.run_pipes(r.id).find(|p| p.side == Side::Supply) {
-            painter.text(pos2(x + 6.0, 0.5 * (ya + yb)), Align2::LEFT_CENTER, &p.size, FontId::proportional(10.5), Color32::from_rgb(0x26, 0x2b, 0x33));
+            painter.text(
+                pos2(x + 6.0, 0.5 * (ya + yb)),
+                Align2::LEFT_CENTER,
+                &p.size,
+                FontId::proportional(10.5),
+                Color32::from_rgb(0x26, 0x2b, 0x33),
+            );
         }
     }
 }

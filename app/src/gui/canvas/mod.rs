@@ -16,8 +16,8 @@ use egui::{Align2, FontId, Pos2, Sense, Shape, Stroke, Ui};
 use flowrise_core::design::Solution;
 use flowrise_core::project::{Edit, LevelId, NodeId, PlanPoint, Project};
 
-pub use tools::Tool;
 use tools::RunDraft;
+pub use tools::Tool;
 pub use view::View;
 
 use super::theme::{self, ColourBy};
@@ -71,14 +71,21 @@ impl Default for CanvasState {
 }
 
 impl CanvasState {
-    /// Fresh state for a newly opened project: its source's level, fitted.
+    /// Fresh state for a newly opened project: the level with the most
+    /// emitters (the source's level when there are none), fitted.
     #[must_use]
     pub fn for_project(project: &Project) -> Self {
-        let level = project
-            .sources()
-            .first()
-            .and_then(|&s| project.node(s))
-            .map(|n| n.level)
+        let emitters_on =
+            |l: LevelId| project.emitters().iter().filter(|&&e| project.node(e).is_some_and(|n| n.level == l)).count();
+        let busiest = project
+            .levels
+            .iter()
+            .map(|l| (emitters_on(l.id), l.id))
+            .filter(|&(n, _)| n > 0)
+            .max_by_key(|&(n, id)| (n, std::cmp::Reverse(id)))
+            .map(|(_, id)| id);
+        let level = busiest
+            .or_else(|| project.sources().first().and_then(|&s| project.node(s)).map(|n| n.level))
             .or_else(|| project.levels.first().map(|l| l.id))
             .unwrap_or(LevelId(0));
         Self { level, ..Self::default() }
@@ -95,8 +102,12 @@ impl CanvasState {
         if pts.is_empty() {
             pts.push(PlanPoint::new(0.0, 0.0));
         }
-        let min = pts.iter().fold(PlanPoint::new(f64::INFINITY, f64::INFINITY), |m, p| PlanPoint::new(m.x_m.min(p.x_m), m.y_m.min(p.y_m)));
-        let max = pts.iter().fold(PlanPoint::new(f64::NEG_INFINITY, f64::NEG_INFINITY), |m, p| PlanPoint::new(m.x_m.max(p.x_m), m.y_m.max(p.y_m)));
+        let min = pts.iter().fold(PlanPoint::new(f64::INFINITY, f64::INFINITY), |m, p| {
+            PlanPoint::new(m.x_m.min(p.x_m), m.y_m.min(p.y_m))
+        });
+        let max = pts.iter().fold(PlanPoint::new(f64::NEG_INFINITY, f64::NEG_INFINITY), |m, p| {
+            PlanPoint::new(m.x_m.max(p.x_m), m.y_m.max(p.y_m))
+        });
         self.view.fit(min, max);
     }
 
@@ -194,10 +205,22 @@ pub fn show(
     draw::draw_legend(&painter, rect, opts.colour_by);
     draw::draw_scale_bar(&painter, &state.view, rect.left_bottom());
     if project.node_count() == 0 {
-        painter.text(rect.center(), Align2::CENTER_CENTER, "Empty level — place a heat source (Q), then draw runs (R) to emitters (E)", FontId::proportional(14.0), theme::INK);
+        painter.text(
+            rect.center(),
+            Align2::CENTER_CENTER,
+            "Empty level — place a heat source (Q), then draw runs (R) to emitters (E)",
+            FontId::proportional(14.0),
+            theme::INK,
+        );
     }
     if let Some(p) = state.pointer_plan {
-        painter.text(rect.right_bottom() + egui::vec2(-10.0, -8.0), Align2::RIGHT_BOTTOM, format!("x {:.2} m   y {:.2} m", p.x_m, p.y_m), FontId::monospace(11.0), theme::INK);
+        painter.text(
+            rect.right_bottom() + egui::vec2(-10.0, -8.0),
+            Align2::RIGHT_BOTTOM,
+            format!("x {:.2} m   y {:.2} m", p.x_m, p.y_m),
+            FontId::monospace(11.0),
+            theme::INK,
+        );
     }
 }
 
@@ -205,13 +228,19 @@ fn handle_drag(ui: &Ui, resp: &egui::Response, project: &Project, state: &mut Ca
     if resp.drag_started() {
         let origin = ui.input(|i| i.pointer.press_origin()).or(resp.interact_pointer_pos()).unwrap_or(Pos2::ZERO);
         let shift = ui.input(|i| i.modifiers.shift);
-        let grabbed = if state.tool == Tool::Select { hit::hit_node(project, state.level, &state.view, origin) } else { None };
+        let grabbed =
+            if state.tool == Tool::Select { hit::hit_node(project, state.level, &state.view, origin) } else { None };
         state.drag = Some(match grabbed.and_then(|id| project.node(id)) {
             Some(node) => {
                 let ids = if shift { tools::branch_of(project, node.id) } else { vec![node.id] };
                 out.select = Some(Selection::Node(node.id));
                 out.drag_begin = true;
-                Drag::Move { ids, grabbed_start: node.pos, pointer_start: state.view.plan_from_screen(origin), applied: (0.0, 0.0) }
+                Drag::Move {
+                    ids,
+                    grabbed_start: node.pos,
+                    pointer_start: state.view.plan_from_screen(origin),
+                    applied: (0.0, 0.0),
+                }
             }
             None => Drag::Pan,
         });
@@ -221,7 +250,10 @@ fn handle_drag(ui: &Ui, resp: &egui::Response, project: &Project, state: &mut Ca
             Some(Drag::Pan) => state.view.pan_by_screen(resp.drag_delta()),
             Some(Drag::Move { ids, grabbed_start, pointer_start, applied }) => {
                 if let Some(p) = resp.interact_pointer_pos().map(|q| state.view.plan_from_screen(q)) {
-                    let target = state.view.snap(PlanPoint::new(grabbed_start.x_m + p.x_m - pointer_start.x_m, grabbed_start.y_m + p.y_m - pointer_start.y_m));
+                    let target = state.view.snap(PlanPoint::new(
+                        grabbed_start.x_m + p.x_m - pointer_start.x_m,
+                        grabbed_start.y_m + p.y_m - pointer_start.y_m,
+                    ));
                     let total = (target.x_m - grabbed_start.x_m, target.y_m - grabbed_start.y_m);
                     let (dx_m, dy_m) = (total.0 - applied.0, total.1 - applied.1);
                     if dx_m.abs() > 1e-9 || dy_m.abs() > 1e-9 {
@@ -262,7 +294,8 @@ fn handle_clicks(resp: &egui::Response, project: &Project, state: &mut CanvasSta
 fn draw_draft(painter: &egui::Painter, project: &Project, state: &CanvasState) {
     let Some(d) = &state.draft else { return };
     let Some(start) = project.node(d.start) else { return };
-    let mut pts: Vec<Pos2> = std::iter::once(start.pos).chain(d.vertices.iter().copied()).map(|p| state.view.screen_from_plan(p)).collect();
+    let mut pts: Vec<Pos2> =
+        std::iter::once(start.pos).chain(d.vertices.iter().copied()).map(|p| state.view.screen_from_plan(p)).collect();
     if let Some(p) = state.pointer_plan {
         pts.push(state.view.screen_from_plan(state.view.snap(p)));
     }
@@ -280,7 +313,11 @@ fn level_tabs(ui: &mut Ui, project: &Project, state: &mut CanvasState, out: &mut
         for l in levels {
             let count = project.nodes().filter(|n| n.level == l.id).count();
             let text = format!("{} ({count})", l.name);
-            if ui.selectable_label(state.level == l.id, text).on_hover_text(format!("elevation {:+.2} m", l.elevation_m)).clicked() {
+            if ui
+                .selectable_label(state.level == l.id, text)
+                .on_hover_text(format!("elevation {:+.2} m", l.elevation_m))
+                .clicked()
+            {
                 state.level = l.id;
                 state.draft = None;
                 state.fit_pending = true;

@@ -74,12 +74,18 @@ impl Tool {
     #[must_use]
     pub fn tooltip(self) -> &'static str {
         match self {
-            Self::Select => "Click to select; drag a node to move it, Shift+drag to move its whole branch; drag empty space to pan; scroll to zoom",
-            Self::Run => "Click a node to start, click bend points, finish on a node (or double-click empty space for a new junction); Esc cancels",
+            Self::Select => {
+                "Click to select; drag a node to move it, Shift+drag to move its whole branch; drag empty space to pan; scroll to zoom"
+            }
+            Self::Run => {
+                "Click a node to start, click bend points, finish on a node (or double-click empty space for a new junction); Esc cancels"
+            }
             Self::Emitter => "Click to place a radiator; click a junction, header or run to place it connected",
             Self::Header => "Click to place a header; click a run to turn a point of it into a header",
             Self::Source => "Click to place the heat source with its pump (one per network)",
-            Self::Riser => "Click a junction, header or the source: adds a junction on the level above and the vertical run to it",
+            Self::Riser => {
+                "Click a junction, header or the source: adds a junction on the level above and the vertical run to it"
+            }
             Self::Split => "Click a run to split it with a junction",
             Self::Erase => "Click a node or a run to remove it",
         }
@@ -140,7 +146,12 @@ fn count_kind(project: &Project, word: &str) -> usize {
 #[must_use]
 pub fn level_above(project: &Project, level: LevelId) -> Option<LevelId> {
     let z = project.level(level)?.elevation_m;
-    project.levels.iter().filter(|l| l.elevation_m > z).min_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m)).map(|l| l.id)
+    project
+        .levels
+        .iter()
+        .filter(|l| l.elevation_m > z)
+        .min_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m))
+        .map(|l| l.id)
 }
 
 /// A node and everything downstream of it in the supply tree.
@@ -160,6 +171,7 @@ pub fn branch_of(project: &Project, root: NodeId) -> Vec<NodeId> {
 
 /// What one click means. `at` is the snapped plan point, `hit` what lies
 /// under the pointer.
+#[allow(clippy::too_many_arguments)] // reason: a click needs the tool, the document, where, what and the tool state
 pub fn click(
     tool: Tool,
     project: &Project,
@@ -184,7 +196,9 @@ pub fn click(
             let name = format!("Room {}", count_kind(project, "emitter") + 1);
             let kind = new_radiator(project, &name);
             match hit {
-                Some(Hit::Node(id)) if matches!(project.node(id).map(|n| &n.kind), Some(NodeKind::Junction | NodeKind::Header(_))) => {
+                Some(Hit::Node(id))
+                    if matches!(project.node(id).map(|n| &n.kind), Some(NodeKind::Junction | NodeKind::Header(_))) =>
+                {
                     let pos = project.node(id).map_or(at, |n| PlanPoint::new(n.pos.x_m + 1.5, n.pos.y_m - 1.0));
                     out.edit_select(Edit::Batch(vec![
                         Edit::AddNode { level, pos, kind },
@@ -203,7 +217,10 @@ pub fn click(
             }
         }
         Tool::Header => {
-            let kind = NodeKind::Header(Header { name: format!("Header {}", count_kind(project, "header") + 1), outlets: header_outlets });
+            let kind = NodeKind::Header(Header {
+                name: format!("Header {}", count_kind(project, "header") + 1),
+                outlets: header_outlets,
+            });
             match hit {
                 Some(Hit::Run(run, p)) => out.edit_select(Edit::Batch(vec![
                     Edit::SplitRun { run, at: p },
@@ -278,7 +295,13 @@ fn run_click(project: &Project, at: PlanPoint, hit: Option<Hit>, draft: &mut Opt
 }
 
 /// Double-click on empty space while drawing: end the run on a new junction.
-pub fn run_double_click(project: &Project, level: LevelId, at: PlanPoint, draft: &mut Option<RunDraft>, out: &mut Intents) {
+pub fn run_double_click(
+    project: &Project,
+    level: LevelId,
+    at: PlanPoint,
+    draft: &mut Option<RunDraft>,
+    out: &mut Intents,
+) {
     let Some(mut d) = draft.take() else { return };
     // The first click of the double-click added a bend point here: drop it.
     if d.vertices.last().is_some_and(|v| v.distance_m(at) < 1e-6) {

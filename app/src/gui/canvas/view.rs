@@ -20,7 +20,11 @@ pub struct View {
 
 impl Default for View {
     fn default() -> Self {
-        Self { centre: PlanPoint::new(0.0, 0.0), px_per_m: 30.0, rect: Rect::from_min_size(Pos2::ZERO, vec2(800.0, 600.0)) }
+        Self {
+            centre: PlanPoint::new(0.0, 0.0),
+            px_per_m: 30.0,
+            rect: Rect::from_min_size(Pos2::ZERO, vec2(800.0, 600.0)),
+        }
     }
 }
 
@@ -59,9 +63,9 @@ impl View {
 
     /// Fit the plan box `(min, max)` into the canvas with a margin.
     pub fn fit(&mut self, min: PlanPoint, max: PlanPoint) {
-        let w_m = (max.x_m - min.x_m).max(16.0);
-        let h_m = (max.y_m - min.y_m).max(10.0);
-        let margin = 70.0;
+        let w_m = (max.x_m - min.x_m).max(12.0);
+        let h_m = (max.y_m - min.y_m).max(8.0);
+        let margin = 60.0;
         let sx = (self.rect.width() - 2.0 * margin).max(50.0) / w_m as f32;
         let sy = (self.rect.height() - 2.0 * margin).max(50.0) / h_m as f32;
         self.px_per_m = sx.min(sy).clamp(ZOOM_RANGE_PX_PER_M.0, ZOOM_RANGE_PX_PER_M.1);
