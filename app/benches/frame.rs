@@ -1,4 +1,5 @@
-//! One headless frame of the flowrise window on the largest demo project:
+//! One headless frame of the flowrise window on the largest demo project
+//! and on a generated 1,000-emitter building:
 //! layout, solve, paint and tessellation (`egui::Context::run_ui` +
 //! `Context::tessellate`), no GPU.
 //!
@@ -40,6 +41,26 @@ fn bench(c: &mut Criterion) {
 
     // A frame with nothing changed: layout + paint + tessellation only.
     c.bench_function("frame, results cached (apartment block)", |b| b.iter(|| frame(&ctx, &mut app)));
+
+    // A generated 1,000-emitter building (10 floors × 100).
+    let spec = flowrise_core::generate::BuildingSpec {
+        floors: 10,
+        per_floor: 100,
+        reverse_return: false,
+        headers: false,
+        seed: 1,
+    };
+    let Ok(big) = flowrise_core::generate::generate_building(&spec) else { return };
+    let mut app = FlowriseApp::new(big.clone(), None);
+    app.set_background_solve(false);
+    frame(&ctx, &mut app);
+    c.bench_function("frame with solve (generated, 1,000 emitters)", |b| {
+        b.iter(|| {
+            app.replace_project(big.clone(), None);
+            frame(&ctx, &mut app)
+        });
+    });
+    c.bench_function("frame, results cached (generated, 1,000 emitters)", |b| b.iter(|| frame(&ctx, &mut app)));
 }
 
 criterion_group!(benches, bench);

@@ -106,6 +106,8 @@ pub struct Intents {
     pub drag_end: bool,
     /// Status message.
     pub status: Option<Status>,
+    /// Open this file (recent files menu).
+    pub open_path: Option<PathBuf>,
 }
 
 impl Intents {
@@ -476,6 +478,16 @@ impl FlowriseApp {
         }
         if let Some(item) = out.centre_on {
             self.centre_on(item);
+        }
+        if let Some(path) = out.open_path {
+            if self.is_dirty() {
+                self.status = Some(Status {
+                    text: "save or undo your changes before opening another file".to_owned(),
+                    error: true,
+                });
+            } else {
+                self.open_path(path);
+            }
         }
         for a in out.actions {
             self.run_action(a, ctx);

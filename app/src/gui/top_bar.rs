@@ -63,8 +63,7 @@ pub fn show(ui: &mut Ui, m: &TopBar<'_>, project: &Project, sol: &Solution, pref
                     let name =
                         p.file_name().map_or_else(|| p.display().to_string(), |n| n.to_string_lossy().into_owned());
                     if ui.button(name).on_hover_text(p.display().to_string()).clicked() {
-                        out.actions.push(Action::Open);
-                        out.status_note(format!("open {} from the dialog", p.display()));
+                        out.open_path = Some(p.clone());
                         ui.close();
                     }
                 }
