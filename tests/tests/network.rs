@@ -102,6 +102,16 @@ fn every_demo_solves_and_balances() {
                 a.name
             );
         }
+        // Back to design follows layout: sizes and presettings are released
+        // and re-chosen, giving the original design again.
+        let mut back = q.clone();
+        back.apply(design::thaw_edit(&q)).unwrap();
+        assert_eq!(back.settings.mode, Mode::DesignFollowsLayout);
+        assert!(back.runs().all(|r| r.props.fixed_size.is_none()), "{name}: sizes released");
+        let sol3 = solve(&back);
+        for (a, b) in sol.pipes.iter().zip(&sol3.pipes) {
+            assert_eq!((a.run, a.side, &a.size), (b.run, b.side, &b.size), "{name}: thawed design differs");
+        }
     }
 }
 

@@ -20,7 +20,7 @@ fn set(out: &mut Intents, s: DesignSettings, field: &str) {
 pub fn mode_edit(project: &Project, sol: &Solution, mode: Mode) -> Edit {
     match mode {
         Mode::Installed => freeze_edit(project, sol),
-        Mode::DesignFollowsLayout => Edit::SetSettings(Box::new(DesignSettings { mode, ..project.settings.clone() })),
+        Mode::DesignFollowsLayout => flowrise_core::design::thaw_edit(project),
     }
 }
 

@@ -79,7 +79,7 @@ pub fn show(ui: &mut Ui, m: &TopBar<'_>, project: &Project, sol: &Solution, pref
         ui.separator();
         let mut mode = m.mode;
         ui.selectable_value(&mut mode, Mode::DesignFollowsLayout, "Design follows layout")
-            .on_hover_text("Sizes and presettings are re-chosen on every edit");
+            .on_hover_text("Sizes and presettings are re-chosen on every edit (switching back releases the frozen sizes and presettings; Undo restores them)");
         ui.selectable_value(&mut mode, Mode::Installed, "Installed")
             .on_hover_text("Freeze sizes and presettings as designed; edits show how the real flows move");
         if mode != m.mode {

@@ -1706,3 +1706,37 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> crate::project::Edit {
     edits.push(Edit::SetSettings(Box::new(settings)));
     Edit::Batch(edits)
 }
+
+/// The edit that switches back to *design follows layout*: every fixed pipe
+/// size and every presetting is released so the design re-chooses them on
+/// each edit (undo brings a released value back), and a proportional pump's
+/// stored design flow is cleared.
+#[must_use]
+pub fn thaw_edit(p: &Project) -> crate::project::Edit {
+    use crate::project::{Edit, RunProps};
+    let mut edits = Vec::new();
+    for run in p.runs() {
+        if run.props.fixed_size.is_some() || run.props.fixed_return_size.is_some() {
+            let props = RunProps { fixed_size: None, fixed_return_size: None, ..run.props.clone() };
+            edits.push(Edit::SetRunProps { id: run.id, props });
+        }
+    }
+    for node in p.nodes() {
+        match &node.kind {
+            NodeKind::Emitter(em) if em.valves.presetting.is_some() => {
+                let mut em = em.clone();
+                em.valves.presetting = None;
+                edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Emitter(em) });
+            }
+            NodeKind::Source(src) if src.pump.design_flow_m3_h.is_some() => {
+                let mut src = src.clone();
+                src.pump.design_flow_m3_h = None;
+                edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Source(src) });
+            }
+            _ => {}
+        }
+    }
+    let settings = crate::project::DesignSettings { mode: Mode::DesignFollowsLayout, ..p.settings.clone() };
+    edits.push(Edit::SetSettings(Box::new(settings)));
+    Edit::Batch(edits)
+}
