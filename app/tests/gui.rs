@@ -202,3 +202,17 @@ fn an_opened_demo_shows_pipe_sizes_in_the_pipes_table() {
     assert!(h.query_all_by_label_contains("DN").next().is_some(), "a steel size (DN…) is listed");
     assert!(h.query_all_by_label_contains("x2").next().is_some(), "a multilayer size (16x2 …) is listed");
 }
+
+#[test]
+fn the_parts_list_tab_lists_the_installers_parts_with_its_exports() {
+    let mut h = harness(demo(FLAT));
+    h.get_by_label("Parts list").click();
+    h.run();
+    // The buttons that write the CSV and the report are there …
+    h.get_by_label("Export parts list (CSV)…");
+    h.get_by_label("Export design report (HTML)…");
+    // … and the table holds the solved design's parts: pipe, pump, vessel.
+    assert!(h.query_all_by_label("pipe").next().is_some(), "pipe lines listed");
+    assert!(h.query_all_by_label("pump").next().is_some(), "the pump is listed");
+    assert!(h.query_all_by_label("vessel").next().is_some(), "the expansion vessel is listed");
+}

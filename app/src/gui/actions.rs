@@ -32,6 +32,10 @@ pub enum Action {
     Settings,
     /// Open the About window with the cautions.
     About,
+    /// Export the parts list as CSV.
+    ExportParts,
+    /// Export the design report as HTML.
+    ExportReport,
 }
 
 impl Action {
@@ -71,6 +75,8 @@ impl Action {
             Self::ToggleElevation => "Riser view",
             Self::Settings => "Design settings",
             Self::About => "About and cautions",
+            Self::ExportParts => "Export parts list (CSV)…",
+            Self::ExportReport => "Export design report (HTML)…",
         }
     }
 
@@ -89,7 +95,7 @@ impl Action {
             Self::Tool(t) => plain(t.key()),
             Self::ToggleLabels => plain(Key::L),
             Self::FitView => plain(Key::F),
-            Self::ToggleElevation | Self::Settings | Self::About => None,
+            Self::ToggleElevation | Self::Settings | Self::About | Self::ExportParts | Self::ExportReport => None,
         }
     }
 
@@ -115,6 +121,10 @@ impl Action {
             Self::ToggleElevation => "Show the riser across all levels beside the plan",
             Self::Settings => "Temperatures, velocity and gradient limits, pipe series, pump margin",
             Self::About => "What flowrise is for, and the cautions that go with its results",
+            Self::ExportParts => "Write the installer's parts list of the solved design as a CSV file",
+            Self::ExportReport => {
+                "Write the design report (drawings, tables, pump chart, parts, sources, cautions) as one HTML file"
+            }
         }
     }
 

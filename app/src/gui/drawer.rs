@@ -24,10 +24,12 @@ pub enum Tab {
     Pump,
     /// Index-circuit pressure profile.
     Profile,
+    /// Parts list with its exports.
+    Parts,
 }
 
 impl Tab {
-    const ALL: [Self; 5] = [Self::Emitters, Self::Pipes, Self::Findings, Self::Pump, Self::Profile];
+    const ALL: [Self; 6] = [Self::Emitters, Self::Pipes, Self::Findings, Self::Pump, Self::Profile, Self::Parts];
     fn name(self) -> &'static str {
         match self {
             Self::Pipes => "Pipes",
@@ -35,6 +37,7 @@ impl Tab {
             Self::Findings => "Findings",
             Self::Pump => "Pump chart",
             Self::Profile => "Index circuit profile",
+            Self::Parts => "Parts list",
         }
     }
 }
@@ -77,8 +80,58 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
             }
             Tab::Pump => pump_chart(ui, sol),
             Tab::Profile => profile_chart(ui, sol),
+            Tab::Parts => parts_table(ui, project, sol, out),
         }
     });
+}
+
+/// The installer's parts list of the solved design, with the exports.
+fn parts_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents) {
+    ui.horizontal(|ui| {
+        for a in [super::actions::Action::ExportParts, super::actions::Action::ExportReport] {
+            if ui.button(a.label()).on_hover_text(a.tooltip()).clicked() {
+                out.actions.push(a);
+            }
+        }
+    });
+    let list = match super::export::parts_of(project, sol) {
+        Ok(l) => l,
+        Err(e) => {
+            ui.label(RichText::new(e).color(theme::ERROR));
+            return;
+        }
+    };
+    ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| {
+        Grid::new("parts_table").striped(true).num_columns(6).show(ui, |ui| {
+            header(ui, &["Category", "Item", "Size", "Quantity", "Unit", "Serves"]);
+            for l in &list.lines {
+                ui.label(l.category.label());
+                ui.label(plain(&l.item)).on_hover_text(plain(&l.note));
+                ui.label(plain(&l.size));
+                ui.label(if l.unit == flowrise_core::parts::PartUnit::Metre {
+                    format!("{:.1}", l.quantity)
+                } else {
+                    format!("{:.0}", l.quantity)
+                });
+                ui.label(l.unit.symbol());
+                let serves = if l.serves.len() > 6 {
+                    format!("{} … ({} items)", l.serves[..6].join(", "), l.serves.len())
+                } else {
+                    l.serves.join(", ")
+                };
+                ui.label(serves);
+                ui.end_row();
+            }
+        });
+        for n in &list.notes {
+            ui.label(RichText::new(plain(n)).weak().small());
+        }
+    });
+}
+
+/// Text with the few symbols the window's font lacks spelled out.
+fn plain(s: &str) -> String {
+    s.replace('→', "->").replace('≥', ">=").replace('≤', "<=")
 }
 
 fn header(ui: &mut Ui, cols: &[&str]) {

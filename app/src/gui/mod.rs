@@ -18,6 +18,7 @@
 pub mod actions;
 pub mod canvas;
 mod drawer;
+mod export;
 mod fields;
 mod files;
 mod history;
@@ -528,6 +529,21 @@ impl FlowriseApp {
         }
     }
 
+    /// Export the parts list or the report of the current design (asks
+    /// where with a native dialog).
+    fn export(&mut self, kind: export::Kind) {
+        let sol = self.solution().clone();
+        if let Err(e) = export::text(kind, &self.project, &sol) {
+            self.status = Some(Status { text: format!("export: {e}"), error: true });
+            return;
+        }
+        let Some(path) = export::pick_path(kind, &self.project.name) else { return };
+        match export::write(kind, &self.project, &sol, &path) {
+            Ok(()) => self.status = Some(Status { text: format!("wrote {}", path.display()), error: false }),
+            Err(e) => self.status = Some(Status { text: format!("export: {e}"), error: true }),
+        }
+    }
+
     /// Carry out an action.
     pub fn run_action(&mut self, a: Action, ctx: &egui::Context) {
         match a {
@@ -553,6 +569,8 @@ impl FlowriseApp {
             Action::ToggleElevation => self.prefs.show_elevation = !self.prefs.show_elevation,
             Action::Settings => self.show_settings = true,
             Action::About => self.show_about = true,
+            Action::ExportParts => self.export(export::Kind::Parts),
+            Action::ExportReport => self.export(export::Kind::Report),
         }
         ctx.request_repaint();
     }

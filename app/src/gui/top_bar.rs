@@ -56,6 +56,13 @@ pub fn show(ui: &mut Ui, m: &TopBar<'_>, project: &Project, sol: &Solution, pref
                     ui.close();
                 }
             }
+            ui.separator();
+            for a in [Action::ExportParts, Action::ExportReport] {
+                if ui.button(a.label()).on_hover_text(a.tooltip()).clicked() {
+                    out.actions.push(a);
+                    ui.close();
+                }
+            }
             if !m.recent.is_empty() {
                 ui.separator();
                 ui.label(RichText::new("Recent").weak());
