@@ -216,3 +216,24 @@ fn the_parts_list_tab_lists_the_installers_parts_with_its_exports() {
     assert!(h.query_all_by_label("pump").next().is_some(), "the pump is listed");
     assert!(h.query_all_by_label("vessel").next().is_some(), "the expansion vessel is listed");
 }
+
+#[test]
+fn the_sweep_and_part_load_views_run_the_engine() {
+    let mut h = harness(demo(FLAT));
+    h.get_by_label("Supply temperature sweep").click();
+    h.run();
+    h.get_by_label("Run sweep").click();
+    h.run();
+    assert!(
+        h.query_all_by_label_contains("covered down to").next().is_some(),
+        "the sweep states the lowest covering supply temperature"
+    );
+    assert!(h.query_all_by_label_contains("Upgrades to cover every room at 45").next().is_some());
+    h.get_by_label("Part load").click();
+    h.run();
+    h.get_by_label("Solve part load").click();
+    h.run();
+    for control in ["fixed speed", "constant Δp", "proportional Δp"] {
+        assert!(h.query_all_by_label(control).next().is_some(), "{control} row");
+    }
+}

@@ -26,10 +26,23 @@ pub enum Tab {
     Profile,
     /// Parts list with its exports.
     Parts,
+    /// Supply-temperature sweep.
+    Sweep,
+    /// Part-load scenario.
+    PartLoad,
 }
 
 impl Tab {
-    const ALL: [Self; 6] = [Self::Emitters, Self::Pipes, Self::Findings, Self::Pump, Self::Profile, Self::Parts];
+    const ALL: [Self; 8] = [
+        Self::Emitters,
+        Self::Pipes,
+        Self::Findings,
+        Self::Pump,
+        Self::Profile,
+        Self::Parts,
+        Self::Sweep,
+        Self::PartLoad,
+    ];
     fn name(self) -> &'static str {
         match self {
             Self::Pipes => "Pipes",
@@ -38,6 +51,8 @@ impl Tab {
             Self::Pump => "Pump chart",
             Self::Profile => "Index circuit profile",
             Self::Parts => "Parts list",
+            Self::Sweep => "Supply temperature sweep",
+            Self::PartLoad => "Part load",
         }
     }
 }
@@ -47,6 +62,8 @@ impl Tab {
 pub struct DrawerState {
     /// Tab shown.
     pub tab: Tab,
+    /// Sweep and part-load inputs and results.
+    pub scenarios: super::scenarios::ScenarioState,
 }
 
 /// Show the drawer.
@@ -81,6 +98,8 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
             Tab::Pump => pump_chart(ui, sol),
             Tab::Profile => profile_chart(ui, sol),
             Tab::Parts => parts_table(ui, project, sol, out),
+            Tab::Sweep => super::scenarios::sweep_view(ui, project, &mut st.scenarios),
+            Tab::PartLoad => super::scenarios::part_load_view(ui, project, &mut st.scenarios),
         }
     });
 }

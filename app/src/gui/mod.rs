@@ -23,6 +23,7 @@ mod fields;
 mod files;
 mod history;
 mod inspector;
+mod scenarios;
 mod settings_panel;
 mod solve;
 pub mod theme;
