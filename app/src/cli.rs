@@ -50,6 +50,9 @@ enum Command {
         /// Print JSON.
         #[arg(long)]
         json: bool,
+        /// Also write the points as CSV to this file.
+        #[arg(long)]
+        csv: Option<PathBuf>,
     },
     /// Part load: close valves and solve for each pump control mode.
     PartLoad {
@@ -67,6 +70,9 @@ enum Command {
         /// Print JSON.
         #[arg(long)]
         json: bool,
+        /// Also write the cases as CSV to this file.
+        #[arg(long)]
+        csv: Option<PathBuf>,
     },
     /// Design and solve a project; print a summary or JSON.
     Solve {
@@ -97,6 +103,10 @@ enum Command {
         /// Output file (.html).
         #[arg(short, long)]
         output: Option<PathBuf>,
+        /// Include the supply-temperature sweep (75 → 35 °C, upgrades for 45 °C)
+        /// and a part-load case (half the valves closed, seed 1).
+        #[arg(long)]
+        studies: bool,
     },
     /// Generate a building (riser, floors, branches, emitters) as a project file.
     Generate(perf::GenerateArgs),
@@ -122,11 +132,13 @@ pub fn main() -> ExitCode {
     match cli.command {
         Some(Command::Solve { file, json, installed, close }) => solve(&file, json, installed, &close),
         Some(Command::Parts { file, output }) => export(&file, output.as_deref(), Export::Parts),
-        Some(Command::Report { file, output }) => export(&file, output.as_deref(), Export::Report),
+        Some(Command::Report { file, output, studies }) => {
+            export(&file, output.as_deref(), if studies { Export::ReportWithStudies } else { Export::Report })
+        }
         Some(Command::Generate(args)) => perf::generate(&args),
         Some(Command::ExportNetwork(args)) => perf::export_network(&args),
         Some(Command::BenchSolve(args)) => perf::bench_solve(&args),
-        Some(Command::Sweep { file, from, to, step, target, frozen, json }) => {
+        Some(Command::Sweep { file, from, to, step, target, frozen, json, csv }) => {
             let spec = flowrise_core::sweep::SweepSpec {
                 from_c: from,
                 to_c: to,
@@ -134,10 +146,10 @@ pub fn main() -> ExitCode {
                 frozen_presettings: frozen,
                 target_c: target,
             };
-            crate::cli_sweep::run_sweep(&file, &spec, json)
+            crate::cli_sweep::run_sweep(&file, &spec, json, csv.as_deref())
         }
-        Some(Command::PartLoad { file, close, fraction, seed, json }) => {
-            crate::cli_sweep::run_part_load(&file, &close, fraction, seed, json)
+        Some(Command::PartLoad { file, close, fraction, seed, json, csv }) => {
+            crate::cli_sweep::run_part_load(&file, &close, fraction, seed, json, csv.as_deref())
         }
         None => open_window(cli.file.as_deref()),
     }
@@ -236,6 +248,7 @@ fn solve(file: &std::path::Path, json: bool, installed: bool, close: &[String]) 
 enum Export {
     Parts,
     Report,
+    ReportWithStudies,
 }
 
 /// `flowrise parts` / `flowrise report`: solve, then write the parts CSV or
@@ -273,6 +286,24 @@ fn export(file: &std::path::Path, output: Option<&std::path::Path>, what: Export
             }
         },
         Export::Report => flowrise_core::report::report_html(&project, &sol, &parts),
+        Export::ReportWithStudies => {
+            use flowrise_core::sweep;
+            let sweep_result =
+                sweep::sweep(&project, &sweep::SweepSpec { target_c: Some(45.0), ..sweep::SweepSpec::default() });
+            let closed = sweep::random_closed_set(&project, 0.5, 1);
+            let cases = sweep::part_load(&project, &closed);
+            if let Err(e) = &sweep_result {
+                eprintln!("flowrise: sweep: {e} (left out of the report)");
+            }
+            if let Err(e) = &cases {
+                eprintln!("flowrise: part load: {e} (left out of the report)");
+            }
+            let studies = flowrise_core::report::Studies {
+                sweep: sweep_result.as_ref().ok(),
+                part_load: cases.as_ref().ok().map(|c| (c.as_slice(), closed.len())),
+            };
+            flowrise_core::report::report_html_with(&project, &sol, &parts, studies)
+        }
     };
     match output {
         Some(path) => {

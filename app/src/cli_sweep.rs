@@ -10,7 +10,7 @@ use flowrise_core::sweep::{self, SweepSpec};
 use crate::cli::{EXIT_INVALID, load_or_exit, parse_node_id};
 
 /// Supply-temperature sweep.
-pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool) -> ExitCode {
+pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) -> ExitCode {
     let p = match load_or_exit(file) {
         Ok(p) => p,
         Err(code) => return code,
@@ -22,6 +22,11 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool) -> ExitCode {
             return ExitCode::from(EXIT_INVALID);
         }
     };
+    if let Some(path) = csv
+        && let Err(code) = write_csv(path, sweep::sweep_csv(&result))
+    {
+        return code;
+    }
     if json {
         match serde_json::to_string_pretty(&result) {
             Ok(t) => println!("{t}"),
@@ -67,7 +72,14 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool) -> ExitCode {
 }
 
 /// Part-load scenario: valves closed, each pump control mode.
-pub fn run_part_load(file: &Path, close: &[String], fraction: Option<f64>, seed: u64, json: bool) -> ExitCode {
+pub fn run_part_load(
+    file: &Path,
+    close: &[String],
+    fraction: Option<f64>,
+    seed: u64,
+    json: bool,
+    csv: Option<&Path>,
+) -> ExitCode {
     let p: Project = match load_or_exit(file) {
         Ok(p) => p,
         Err(code) => return code,
@@ -102,6 +114,11 @@ pub fn run_part_load(file: &Path, close: &[String], fraction: Option<f64>, seed:
             return ExitCode::from(EXIT_INVALID);
         }
     };
+    if let Some(path) = csv
+        && let Err(code) = write_csv(path, sweep::part_load_csv(&cases))
+    {
+        return code;
+    }
     if json {
         let closed_ids: Vec<String> = closed.iter().map(NodeId::to_string).collect();
         let doc = serde_json::json!({ "closed": closed_ids, "cases": cases });
@@ -125,4 +142,16 @@ pub fn run_part_load(file: &Path, close: &[String], fraction: Option<f64>, seed:
         }
     }
     ExitCode::SUCCESS
+}
+
+/// Write CSV text atomically, or print the error and give the exit code.
+fn write_csv(path: &Path, text: Result<String, csv::Error>) -> Result<(), ExitCode> {
+    let text = text.map_err(|e| {
+        eprintln!("flowrise: CSV: {e}");
+        ExitCode::FAILURE
+    })?;
+    flowrise_core::project::file::write_atomic(path, text.as_bytes()).map_err(|e| {
+        eprintln!("flowrise: {e}");
+        ExitCode::from(EXIT_INVALID)
+    })
 }

@@ -106,9 +106,24 @@ fn kw(x: f64) -> String {
     format!("{:.2} kW", x / 1000.0)
 }
 
+/// Studies beyond the first design that a report can include.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Studies<'a> {
+    /// Supply-temperature sweep.
+    pub sweep: Option<&'a crate::sweep::SweepResult>,
+    /// Part-load cases and how many valves were closed.
+    pub part_load: Option<(&'a [crate::sweep::PartLoadCase], usize)>,
+}
+
 /// The design report of a solved project as one HTML document.
 #[must_use]
 pub fn report_html(p: &Project, sol: &Solution, parts: &PartsList) -> String {
+    report_html_with(p, sol, parts, Studies::default())
+}
+
+/// The design report with the sweep and part-load studies (section 10).
+#[must_use]
+pub fn report_html_with(p: &Project, sol: &Solution, parts: &PartsList, studies: Studies<'_>) -> String {
     let mut h = String::with_capacity(256 * 1024);
     let title = format!("Design report — {}", p.name);
     w!(
@@ -142,6 +157,7 @@ pub fn report_html(p: &Project, sol: &Solution, parts: &PartsList) -> String {
     pump_section(&mut h, sol);
     vessel_section(&mut h, sol);
     parts_section(&mut h, parts);
+    studies_section(&mut h, p, studies);
     methods(&mut h, p, parts);
     cautions(&mut h);
     w!(
@@ -485,7 +501,7 @@ fn parts_section(h: &mut String, parts: &PartsList) {
 }
 
 fn methods(h: &mut String, p: &Project, parts: &PartsList) {
-    h.push_str("<section id=\"methods\"><h2>10 Assumptions, methods and sources</h2><dl class=\"methods\">");
+    h.push_str("<section id=\"methods\"><h2>11 Assumptions, methods and sources</h2><dl class=\"methods\">");
     let items: [(&str, String); 14] = [
         (
             "Water properties",
@@ -589,7 +605,7 @@ fn methods(h: &mut String, p: &Project, parts: &PartsList) {
 
 fn cautions(h: &mut String) {
     h.push_str(
-        "<section id=\"cautions\"><h2>11 Cautions</h2><ul>\
+        "<section id=\"cautions\"><h2>12 Cautions</h2><ul>\
          <li>The results are design aids. They support an engineer's design; they do not certify it.</li>\
          <li>Pressures, temperatures, safety devices (safety valve, expansion vessel, temperature limiters) and materials \
          must follow the local codes and licensed practice — EN 12828 in Europe or the local equivalent.</li>\
@@ -633,4 +649,77 @@ mod tests {
         assert!(html.contains("<svg class=\"riser-elevation\""));
         assert!(html.trim_end().ends_with("</html>"));
     }
+}
+
+/// Section 10: the supply-temperature sweep and the part-load cases.
+fn studies_section(h: &mut String, p: &Project, studies: Studies<'_>) {
+    h.push_str("<section id=\"studies\"><h2>10 Supply-temperature sweep and part load</h2>");
+    match studies.sweep {
+        None => h.push_str("<p class=\"muted\">Sweep not included (run it with <code>flowrise report --studies</code> or from the window).</p>"),
+        Some(r) => {
+            let verdict = match (r.lowest_supply_c, &r.limiting_emitter) {
+                (Some(t), Some(e)) => format!("Every room is covered down to {t:.1} °C supply; {} falls short first below it.", esc(e)),
+                (Some(t), None) => format!("Every room is covered over the whole range, down to {t:.1} °C."),
+                (None, Some(e)) => format!("{} is short already at the top of the range.", esc(e)),
+                (None, None) => "No point of the sweep could be designed.".to_owned(),
+            };
+            w!(h, "<p class=\"sweep-verdict\">{verdict}</p>");
+            w!(h, "<table class=\"sweep\"><thead><tr><th>supply °C</th>");
+            let ids: Vec<&str> = r.points.first().map(|pt| pt.emitters.iter().map(|e| e.id.as_str()).collect()).unwrap_or_default();
+            for id in &ids {
+                let name = p.nodes().find(|n| n.id.to_string() == *id).map_or_else(|| (*id).to_owned(), crate::project::Node::label);
+                w!(h, "<th>{}</th>", esc(&name));
+            }
+            h.push_str("</tr></thead><tbody>");
+            for pt in r.points.iter().step_by(5.max(r.points.len() / 12)) {
+                w!(h, "<tr data-supply=\"{:.1}\"><td>{:.1}</td>", pt.supply_c, pt.supply_c);
+                for e in &pt.emitters {
+                    w!(h, "<td>{:.0} %</td>", e.fraction * 100.0);
+                }
+                h.push_str("</tr>");
+            }
+            h.push_str("</tbody></table>");
+            if r.upgrades.is_empty() {
+                w!(h, "<p>No radiator upgrade is needed at {:.1} °C supply.</p>", r.target_c);
+            } else {
+                w!(
+                    h,
+                    "<p>Upgrades to cover every room at {:.1} °C supply (EN 442 nominal output at θs = {:.1} °C, θr = θs − {:.0} K, common practice):</p>\
+                     <table class=\"upgrades\"><thead><tr><th>emitter</th><th>nominal now W</th><th>needed W</th></tr></thead><tbody>",
+                    r.target_c,
+                    r.target_c,
+                    crate::sweep::UPGRADE_DELTA_K
+                );
+                for u in &r.upgrades {
+                    w!(h, "<tr data-upgrade=\"{}\"><td>{} ({})</td><td>{:.0}</td><td>{:.0}</td></tr>", esc(&u.id), esc(&u.name), esc(&u.id), u.current_nominal_w, u.needed_nominal_w);
+                }
+                h.push_str("</tbody></table>");
+            }
+        }
+    }
+    match studies.part_load {
+        None => h.push_str("<p class=\"muted\">Part load not included.</p>"),
+        Some((cases, closed)) => {
+            w!(
+                h,
+                "<p>Part load: {closed} emitter valves closed; the installed network solved for each pump control. Valve Δp above about {:.0} kPa risks noise (common practice).</p>\
+                 <table class=\"part-load\"><thead><tr><th>pump control</th><th>pump flow l/h</th><th>pump head kPa</th><th>largest valve Δp kPa</th><th>largest over-supply</th></tr></thead><tbody>",
+                crate::sweep::NOISE_DP_PA / 1000.0
+            );
+            for c in cases {
+                let over = c.emitters.iter().map(|e| e.over_supply).fold(0.0_f64, f64::max);
+                w!(
+                    h,
+                    "<tr><td>{}</td><td>{:.0}</td><td>{:.1}</td><td>{:.1}</td><td>{:+.0} %</td></tr>",
+                    esc(&c.control),
+                    c.pump_flow_l_h,
+                    c.pump_head_kpa,
+                    c.max_valve_dp_kpa,
+                    over * 100.0
+                );
+            }
+            h.push_str("</tbody></table>");
+        }
+    }
+    h.push_str("</section>\n");
 }

@@ -421,3 +421,60 @@ pub fn valve_dp_pa(sol: &Solution, id: NodeId) -> f64 {
         _ => 0.0,
     }
 }
+
+/// The sweep as CSV (UTF-8, header row, units in the column names): one row
+/// per supply temperature and emitter.
+///
+/// # Errors
+/// The `csv` crate's error (writing to memory does not fail in practice).
+pub fn sweep_csv(r: &SweepResult) -> Result<String, csv::Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record(["supply_c", "emitter", "delivered_fraction", "flow_l_h"])?;
+    for pt in &r.points {
+        for e in &pt.emitters {
+            w.write_record([
+                format!("{:.2}", pt.supply_c),
+                e.id.clone(),
+                format!("{:.6}", e.fraction),
+                format!("{:.3}", e.flow_l_h),
+            ])?;
+        }
+    }
+    csv_text(w)
+}
+
+/// The part-load cases as CSV: one row per pump control and open emitter.
+///
+/// # Errors
+/// The `csv` crate's error.
+pub fn part_load_csv(cases: &[PartLoadCase]) -> Result<String, csv::Error> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record([
+        "pump_control",
+        "emitter",
+        "flow_l_h",
+        "over_supply_fraction",
+        "valve_dp_kpa",
+        "pump_flow_l_h",
+        "pump_head_kpa",
+    ])?;
+    for c in cases {
+        for e in &c.emitters {
+            w.write_record([
+                c.control.clone(),
+                e.id.clone(),
+                format!("{:.3}", e.flow_l_h),
+                format!("{:.6}", e.over_supply),
+                format!("{:.4}", e.valve_dp_kpa),
+                format!("{:.2}", c.pump_flow_l_h),
+                format!("{:.4}", c.pump_head_kpa),
+            ])?;
+        }
+    }
+    csv_text(w)
+}
+
+fn csv_text(w: csv::Writer<Vec<u8>>) -> Result<String, csv::Error> {
+    let bytes = w.into_inner().map_err(|e| csv::Error::from(e.into_error()))?;
+    Ok(String::from_utf8_lossy(&bytes).into_owned())
+}

@@ -138,3 +138,33 @@ fn random_closed_set_is_deterministic() {
     assert_eq!(sweep::random_closed_set(&p, 0.25, 9), sweep::random_closed_set(&p, 0.25, 9));
     assert_eq!(sweep::random_closed_set(&p, 0.25, 9).len(), 4);
 }
+
+#[test]
+fn sweep_and_part_load_export_as_csv_and_appear_in_the_report() {
+    let p = demo("flat-six-radiators.ron");
+    let r = sweep::sweep(&p, &spec()).unwrap();
+    let text = sweep::sweep_csv(&r).unwrap();
+    let mut lines = text.lines();
+    assert_eq!(lines.next(), Some("supply_c,emitter,delivered_fraction,flow_l_h"));
+    assert_eq!(lines.count(), r.points.len() * p.emitters().len(), "one row per temperature and emitter");
+    let closed = sweep::random_closed_set(&p, 0.5, 1);
+    let cases = sweep::part_load(&p, &closed).unwrap();
+    let text = sweep::part_load_csv(&cases).unwrap();
+    let open = p.emitters().len() - closed.len();
+    assert_eq!(text.lines().count(), 1 + 3 * open, "header + one row per pump control and open emitter");
+    // The report carries both in its section 10.
+    let sol = solve_project(&p, &SolveOptions::default(), &mut Workspace::default());
+    let parts = flowrise_core::parts::parts_list(&p, &sol, &flowrise_core::parts::PartsOptions::default()).unwrap();
+    let html = flowrise_core::report::report_html_with(
+        &p,
+        &sol,
+        &parts,
+        flowrise_core::report::Studies { sweep: Some(&r), part_load: Some((&cases, closed.len())) },
+    );
+    assert!(html.contains("id=\"studies\""));
+    assert!(html.contains(&format!("covered down to {:.1} °C", r.lowest_supply_c.unwrap())));
+    for u in &r.upgrades {
+        assert!(html.contains(&format!("data-upgrade=\"{}\"", u.id)), "upgrade {} listed", u.id);
+    }
+    assert!(html.contains("constant Δp"));
+}

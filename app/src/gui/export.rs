@@ -7,6 +7,7 @@ use std::path::{Path, PathBuf};
 use flowrise_core::design::Solution;
 use flowrise_core::parts::{self, PartsList, PartsOptions};
 use flowrise_core::project::Project;
+use flowrise_core::report::Studies;
 
 /// What to export.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -47,11 +48,11 @@ pub fn parts_of(project: &Project, sol: &Solution) -> Result<PartsList, String> 
 ///
 /// # Errors
 /// A message naming what is missing.
-pub fn text(kind: Kind, project: &Project, sol: &Solution) -> Result<String, String> {
+pub fn text(kind: Kind, project: &Project, sol: &Solution, studies: Studies<'_>) -> Result<String, String> {
     let list = parts_of(project, sol)?;
     match kind {
         Kind::Parts => parts::parts_csv(&list).map_err(|e| e.to_string()),
-        Kind::Report => Ok(flowrise_core::report::report_html(project, sol, &list)),
+        Kind::Report => Ok(flowrise_core::report::report_html_with(project, sol, &list, studies)),
     }
 }
 
@@ -59,8 +60,8 @@ pub fn text(kind: Kind, project: &Project, sol: &Solution) -> Result<String, Str
 ///
 /// # Errors
 /// A message naming the file.
-pub fn write(kind: Kind, project: &Project, sol: &Solution, path: &Path) -> Result<(), String> {
-    let t = text(kind, project, sol)?;
+pub fn write(kind: Kind, project: &Project, sol: &Solution, studies: Studies<'_>, path: &Path) -> Result<(), String> {
+    let t = text(kind, project, sol, studies)?;
     flowrise_core::project::file::write_atomic(path, t.as_bytes()).map_err(|e| e.to_string())
 }
 
@@ -90,11 +91,11 @@ mod tests {
         let dir = std::env::temp_dir().join(format!("flowrise-gui-export-{}", std::process::id()));
         std::fs::create_dir_all(&dir).unwrap();
         let csv = dir.join("parts.csv");
-        write(Kind::Parts, &p, &sol, &csv).unwrap();
+        write(Kind::Parts, &p, &sol, Studies::default(), &csv).unwrap();
         let back = parts::read_parts_csv(&std::fs::read_to_string(&csv).unwrap()).unwrap();
         assert_eq!(back, parts_of(&p, &sol).unwrap().lines);
         let html = dir.join("report.html");
-        write(Kind::Report, &p, &sol, &html).unwrap();
+        write(Kind::Report, &p, &sol, Studies::default(), &html).unwrap();
         let h = std::fs::read_to_string(&html).unwrap();
         assert!(h.contains("Living room") && h.contains("<svg"));
         std::fs::remove_dir_all(&dir).ok();

@@ -534,12 +534,29 @@ impl FlowriseApp {
     /// where with a native dialog).
     fn export(&mut self, kind: export::Kind) {
         let sol = self.solution().clone();
-        if let Err(e) = export::text(kind, &self.project, &sol) {
+        // The report carries the sweep and part-load results shown in the
+        // drawer when they belong to this revision of the project.
+        let sc = &self.drawer.scenarios;
+        let rev = self.project.revision;
+        let sweep = match &sc.sweep {
+            Some((r, Ok(s))) if *r == rev => Some(s.clone()),
+            _ => None,
+        };
+        let part_load = match &sc.part_load {
+            Some((r, Ok(c))) if *r == rev => Some(c.clone()),
+            _ => None,
+        };
+        let closed = flowrise_core::sweep::random_closed_set(&self.project, sc.closed_fraction, sc.seed).len();
+        let studies = flowrise_core::report::Studies {
+            sweep: sweep.as_ref(),
+            part_load: part_load.as_ref().map(|c| (c.as_slice(), closed)),
+        };
+        if let Err(e) = export::text(kind, &self.project, &sol, studies) {
             self.status = Some(Status { text: format!("export: {e}"), error: true });
             return;
         }
         let Some(path) = export::pick_path(kind, &self.project.name) else { return };
-        match export::write(kind, &self.project, &sol, &path) {
+        match export::write(kind, &self.project, &sol, studies, &path) {
             Ok(()) => self.status = Some(Status { text: format!("wrote {}", path.display()), error: false }),
             Err(e) => self.status = Some(Status { text: format!("export: {e}"), error: true }),
         }
