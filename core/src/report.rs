@@ -617,40 +617,6 @@ fn cautions(h: &mut String) {
     );
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn escaping_covers_markup_and_quotes() {
-        assert_eq!(esc("<b>\"Tom's\" & co</b>"), "&lt;b&gt;&quot;Tom&#39;s&quot; &amp; co&lt;/b&gt;");
-        assert_eq!(esc("Küche 3 °C"), "Küche 3 °C");
-    }
-
-    #[test]
-    fn cividis_is_clamped_and_ends_at_the_published_endpoints() {
-        // Endpoints: matplotlib 3.10.9 colormaps["cividis"] (see the table's doc).
-        assert_eq!(svg::cividis(0.0), [0, 34, 78]);
-        assert_eq!(svg::cividis(1.0), [254, 232, 56]);
-        assert_eq!(svg::cividis(-3.0), svg::cividis(0.0));
-        assert_eq!(svg::cividis(7.0), svg::cividis(1.0));
-        assert_eq!(svg::cividis(f64::NAN), svg::cividis(0.0));
-    }
-
-    #[test]
-    fn an_unsolved_project_still_gives_a_complete_document() {
-        let p = Project::new("A <script> & \"quotes\"");
-        let sol = Solution::default();
-        let parts = crate::parts::parts_list(&p, &sol, &crate::parts::PartsOptions::default()).unwrap();
-        let html = report_html(&p, &sol, &parts);
-        assert!(!html.contains("<script>"), "names are escaped");
-        assert!(html.contains("A &lt;script&gt; &amp; &quot;quotes&quot;"));
-        assert!(html.contains("<svg class=\"level-plan\" data-level=\"L0\""));
-        assert!(html.contains("<svg class=\"riser-elevation\""));
-        assert!(html.trim_end().ends_with("</html>"));
-    }
-}
-
 /// Section 10: the supply-temperature sweep and the part-load cases.
 fn studies_section(h: &mut String, p: &Project, studies: Studies<'_>) {
     h.push_str("<section id=\"studies\"><h2>10 Supply-temperature sweep and part load</h2>");
@@ -722,4 +688,38 @@ fn studies_section(h: &mut String, p: &Project, studies: Studies<'_>) {
         }
     }
     h.push_str("</section>\n");
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn escaping_covers_markup_and_quotes() {
+        assert_eq!(esc("<b>\"Tom's\" & co</b>"), "&lt;b&gt;&quot;Tom&#39;s&quot; &amp; co&lt;/b&gt;");
+        assert_eq!(esc("Küche 3 °C"), "Küche 3 °C");
+    }
+
+    #[test]
+    fn cividis_is_clamped_and_ends_at_the_published_endpoints() {
+        // Endpoints: matplotlib 3.10.9 colormaps["cividis"] (see the table's doc).
+        assert_eq!(svg::cividis(0.0), [0, 34, 78]);
+        assert_eq!(svg::cividis(1.0), [254, 232, 56]);
+        assert_eq!(svg::cividis(-3.0), svg::cividis(0.0));
+        assert_eq!(svg::cividis(7.0), svg::cividis(1.0));
+        assert_eq!(svg::cividis(f64::NAN), svg::cividis(0.0));
+    }
+
+    #[test]
+    fn an_unsolved_project_still_gives_a_complete_document() {
+        let p = Project::new("A <script> & \"quotes\"");
+        let sol = Solution::default();
+        let parts = crate::parts::parts_list(&p, &sol, &crate::parts::PartsOptions::default()).unwrap();
+        let html = report_html(&p, &sol, &parts);
+        assert!(!html.contains("<script>"), "names are escaped");
+        assert!(html.contains("A &lt;script&gt; &amp; &quot;quotes&quot;"));
+        assert!(html.contains("<svg class=\"level-plan\" data-level=\"L0\""));
+        assert!(html.contains("<svg class=\"riser-elevation\""));
+        assert!(html.trim_end().ends_with("</html>"));
+    }
 }

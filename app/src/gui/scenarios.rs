@@ -94,9 +94,8 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
 fn fraction_plot(ui: &mut Ui, project: &Project, r: &SweepResult) {
     let Some(first) = r.points.first() else { return };
     let limiting = r.limiting_emitter.as_deref();
-    let short_at_target: Vec<&str> = r.upgrades.iter().map(|u| u.id.as_str()).collect();
     Plot::new("sweep_plot")
-        .legend(Legend::default())
+        .legend(Legend::default().position(egui_plot::Corner::LeftTop))
         .x_axis_label("supply temperature °C")
         .y_axis_label("delivered share of load %")
         .height(ui.available_height().max(150.0))
@@ -111,7 +110,8 @@ fn fraction_plot(ui: &mut Ui, project: &Project, r: &SweepResult) {
                     .nodes()
                     .find(|n| n.id.to_string() == e.id)
                     .map_or_else(|| e.id.clone(), flowrise_core::project::Node::label);
-                let highlight = Some(e.id.as_str()) == limiting || short_at_target.contains(&e.id.as_str());
+                // The room that falls short first is the one to look at.
+                let highlight = Some(e.id.as_str()) == limiting;
                 let line = Line::new(name, pts).width(if highlight { 3.0 } else { 1.0 });
                 plot.line(if highlight { line.color(theme::ERROR) } else { line });
             }
