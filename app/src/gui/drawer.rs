@@ -95,7 +95,7 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
                     .auto_shrink([false, false])
                     .show(ui, |ui| inspector::findings_list(ui, sol, out));
             }
-            Tab::Pump => pump_chart(ui, sol),
+            Tab::Pump => pump_chart(ui, sol, &st.scenarios, project.revision),
             Tab::Profile => profile_chart(ui, sol),
             Tab::Parts => parts_table(ui, project, sol, out),
             Tab::Sweep => super::scenarios::sweep_view(ui, project, &mut st.scenarios),
@@ -234,7 +234,9 @@ fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
     });
 }
 
-fn pump_chart(ui: &mut Ui, sol: &Solution) {
+/// The pump chart; part-load operating points (from the Part load tab, when
+/// they belong to this revision) are marked too.
+fn pump_chart(ui: &mut Ui, sol: &Solution, scenarios: &super::scenarios::ScenarioState, revision: u64) {
     let Some(p) = &sol.pump else {
         ui.label("No pump result yet — the network needs a source with a run to an emitter.");
         return;
@@ -275,6 +277,20 @@ fn pump_chart(ui: &mut Ui, sol: &Solution) {
                     .shape(egui_plot::MarkerShape::Diamond)
                     .color(theme::WARNING),
             );
+            if let Some((rev, Ok(cases))) = &scenarios.part_load
+                && *rev == revision
+            {
+                for c in cases {
+                    pu.points(
+                        Points::new(
+                            format!("part load, {}", c.control),
+                            vec![[c.pump_flow_l_h / 1000.0, c.pump_head_kpa]],
+                        )
+                        .radius(5.0)
+                        .shape(egui_plot::MarkerShape::Square),
+                    );
+                }
+            }
         });
 }
 
