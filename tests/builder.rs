@@ -136,20 +136,7 @@ impl Builder {
         area_m2: f64,
         zone: FloorZone,
     ) -> NodeId {
-        let model = EmitterModel::FloorLoop(FloorLoopSpec {
-            area_m2,
-            zone,
-            spacing_m: 0.15,
-            covering_resistance_m2k_w: 0.05,
-            screed_above_pipe_m: 0.045,
-            screed_conductivity_w_mk: 1.2,
-            pipe_outer_diameter_m: 0.016,
-            pipe_inner_diameter_m: 0.012,
-            pipe_conductivity_w_mk: 0.35,
-            pipe_roughness_m: 7e-6,
-            lead_length_m: 4.0,
-            zeta_sum: 2.0,
-        });
+        let model = EmitterModel::FloorLoop(FloorLoopSpec::typical(area_m2, zone));
         let id = self.emitter(level, x, y, name, load_w, room_c, model);
         self.set_valve_family(id, "header-loop-demo");
         id

@@ -181,20 +181,7 @@ fn radiator() -> EmitterModel {
 }
 
 fn floor_loop(area_m2: f64) -> EmitterModel {
-    EmitterModel::FloorLoop(FloorLoopSpec {
-        area_m2,
-        zone: FloorZone::Occupied,
-        spacing_m: 0.15,
-        covering_resistance_m2k_w: 0.05,
-        screed_above_pipe_m: 0.045,
-        screed_conductivity_w_mk: 1.2,
-        pipe_outer_diameter_m: 0.016,
-        pipe_inner_diameter_m: 0.012,
-        pipe_conductivity_w_mk: 0.35,
-        pipe_roughness_m: 7e-6,
-        lead_length_m: 4.0,
-        zeta_sum: 2.0,
-    })
+    EmitterModel::FloorLoop(FloorLoopSpec::typical(area_m2, FloorZone::Occupied))
 }
 
 fn source_kind(total_load_w: f64, curve: [(f64, f64); 3], duty_kpa: f64) -> NodeKind {

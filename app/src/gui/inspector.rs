@@ -298,20 +298,7 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
 
 fn default_model(kind: usize) -> EmitterModel {
     match kind {
-        1 => EmitterModel::FloorLoop(FloorLoopSpec {
-            area_m2: 12.0,
-            zone: FloorZone::Occupied,
-            spacing_m: 0.15,
-            covering_resistance_m2k_w: 0.05,
-            screed_above_pipe_m: 0.045,
-            screed_conductivity_w_mk: 1.2,
-            pipe_outer_diameter_m: 0.016,
-            pipe_inner_diameter_m: 0.012,
-            pipe_conductivity_w_mk: 0.35,
-            pipe_roughness_m: 7e-6,
-            lead_length_m: 4.0,
-            zeta_sum: 2.0,
-        }),
+        1 => EmitterModel::FloorLoop(FloorLoopSpec::typical(12.0, FloorZone::Occupied)),
         2 => EmitterModel::Terminal(TerminalSpec {
             nominal_output_w: 2000.0,
             nominal_supply_c: 70.0,

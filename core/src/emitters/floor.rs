@@ -204,6 +204,30 @@ pub struct FloorLoopSpec {
     pub zeta_sum: f64,
 }
 
+impl FloorLoopSpec {
+    /// A typical loop for new emitters and generated buildings: 16×2 PE-X at
+    /// 150 mm spacing in 45 mm screed (λ 1.2 W/(m·K)), covering 0.05 m²K/W,
+    /// 4 m leads, ζ 2 (illustrative defaults, common practice; the user
+    /// edits them).
+    #[must_use]
+    pub fn typical(area_m2: f64, zone: FloorZone) -> Self {
+        Self {
+            area_m2,
+            zone,
+            spacing_m: 0.15,
+            covering_resistance_m2k_w: 0.05,
+            screed_above_pipe_m: 0.045,
+            screed_conductivity_w_mk: 1.2,
+            pipe_outer_diameter_m: 0.016,
+            pipe_inner_diameter_m: 0.012,
+            pipe_conductivity_w_mk: 0.35,
+            pipe_roughness_m: 7e-6,
+            lead_length_m: 4.0,
+            zeta_sum: 2.0,
+        }
+    }
+}
+
 /// The thermal characteristic of a floor loop (see the module docs).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FloorCharacteristic {
