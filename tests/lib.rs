@@ -18,4 +18,16 @@ pub fn repo_root() -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR")).parent().map_or_else(|| PathBuf::from("."), std::path::Path::to_path_buf)
 }
 
+/// The demo projects in `demo-projects/`, sorted (an empty list when the
+/// folder cannot be read; the callers assert how many they expect).
+#[must_use]
+pub fn demo_paths() -> Vec<PathBuf> {
+    let mut v: Vec<PathBuf> = std::fs::read_dir(repo_root().join("demo-projects"))
+        .map(|dir| dir.filter_map(Result::ok).map(|e| e.path()).collect())
+        .unwrap_or_default();
+    v.retain(|p| p.extension().is_some_and(|e| e == "ron"));
+    v.sort();
+    v
+}
+
 pub mod builder;

@@ -19,12 +19,7 @@ use flowrise_core::project::{NodeId, NodeKind, Project, RunId};
 use flowrise_core::report::{self, svg::cividis};
 
 fn demo_paths() -> Vec<PathBuf> {
-    let mut v: Vec<PathBuf> = std::fs::read_dir(flowrise_tests::repo_root().join("demo-projects"))
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().is_some_and(|e| e == "ron"))
-        .collect();
-    v.sort();
+    let v = flowrise_tests::demo_paths();
     assert!(v.len() >= 3, "three demo projects expected");
     v
 }

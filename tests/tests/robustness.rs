@@ -56,12 +56,7 @@ impl Rng {
 }
 
 fn demo_texts() -> Vec<(String, String)> {
-    let mut v: Vec<PathBuf> = std::fs::read_dir(flowrise_tests::repo_root().join("demo-projects"))
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().is_some_and(|e| e == "ron"))
-        .collect();
-    v.sort();
+    let v = flowrise_tests::demo_paths();
     assert!(v.len() >= 3, "three demo projects expected");
     v.into_iter()
         .map(|p| (p.file_name().unwrap().to_string_lossy().into_owned(), std::fs::read_to_string(&p).unwrap()))
