@@ -7,10 +7,14 @@
 // Test helpers outside `#[test]` functions unwrap too: a failure is the point.
 #![allow(clippy::unwrap_used, clippy::panic)]
 
+use std::path::PathBuf;
+use std::time::Duration;
+
 use egui::{Event, Key, Modifiers, Pos2, Vec2};
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 use flowrise::gui::canvas::tools;
+use flowrise::gui::recovery::RecoveryConfig;
 use flowrise::gui::{FlowriseApp, Selection};
 use flowrise_core::project::{Edit, LevelId, NodeId, NodeKind, PlanPoint, Project};
 
@@ -19,7 +23,11 @@ const FLAT: &str = include_str!("../../demo-projects/flat-six-radiators.ron");
 
 /// A harness around the app at the screenshot size, solving on the UI thread.
 fn harness(project: Project) -> Harness<'static, FlowriseApp> {
-    let mut app = FlowriseApp::new(project, None);
+    harness_app(FlowriseApp::new(project, None))
+}
+
+/// A harness around a prepared app.
+fn harness_app(mut app: FlowriseApp) -> Harness<'static, FlowriseApp> {
     app.set_background_solve(false);
     let mut h = Harness::builder()
         .with_size(Vec2::new(1440.0, 900.0))
@@ -236,4 +244,155 @@ fn the_sweep_and_part_load_views_run_the_engine() {
     for control in ["fixed speed", "constant Δp", "proportional Δp"] {
         assert!(h.query_all_by_label(control).next().is_some(), "{control} row");
     }
+}
+
+/// A fresh temporary folder for one test.
+fn temp_dir(tag: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("flowrise-gui-{tag}-{}", std::process::id()));
+    std::fs::remove_dir_all(&d).ok();
+    d
+}
+
+/// A project with a source only.
+fn source_only() -> Project {
+    let mut p = Project::new("Sketch");
+    p.apply(Edit::AddNode { level: LevelId(0), pos: PlanPoint::new(0.0, 0.0), kind: tools::new_source() }).unwrap();
+    p
+}
+
+/// Draw an emitter at `x` m and a run to it from the source at the origin,
+/// with the window's tools.
+fn draw_emitter(h: &mut Harness<'_, FlowriseApp>, x: f64) {
+    h.key_press(Key::E);
+    h.run();
+    click_plan(h, PlanPoint::new(x, 0.0));
+    h.key_press(Key::R);
+    h.run();
+    click_plan(h, PlanPoint::new(0.0, 0.0));
+    click_plan(h, PlanPoint::new(x, 0.0));
+    h.key_press(Key::Escape);
+    h.run();
+}
+
+#[test]
+fn after_a_crash_the_window_offers_the_autosave_and_recovering_restores_the_drawing() {
+    let dir = temp_dir("recover");
+    // Autosave after every edit, as a long sketching session would after 20.
+    let cfg = RecoveryConfig { dir: dir.clone(), interval: Duration::from_secs(3600), every_edits: 1 };
+
+    // Session 1: draw, never save, then the process dies (the app is
+    // dropped without the clean close that removes its files).
+    let mut h = harness_app(FlowriseApp::new(source_only(), None).with_recovery(cfg.clone(), false));
+    draw_emitter(&mut h, 6.0);
+    let drawn = h.state().project().clone();
+    assert_eq!((drawn.emitters().len(), drawn.run_count()), (1, 1), "the sketch has an emitter and its run");
+    let autosave = h.state().autosave_path().unwrap();
+    assert_eq!(Project::load(&autosave).unwrap(), drawn, "the autosave holds the drawing");
+    drop(h);
+
+    // Session 2 opens on another project and finds the crashed session's work.
+    let mut h = harness_app(FlowriseApp::new(demo(FLAT), None).with_recovery(cfg.clone(), false));
+    assert!(h.query_by_label_contains("Recover unsaved work?").is_some(), "the offer is shown");
+    assert!(h.query_by_label_contains("never saved to a file").is_some());
+    h.get_by_label("Recover").click();
+    h.run();
+    assert!(h.query_by_label_contains("Recover unsaved work?").is_none(), "the offer closes");
+    assert_eq!(*h.state().project(), drawn, "recovering restores the drawing exactly");
+    assert!(h.state().is_dirty(), "recovered work is shown as unsaved");
+    assert!(!autosave.exists(), "the crashed session's file is gone …");
+    let own = h.state().autosave_path().unwrap();
+    assert_eq!(Project::load(&own).unwrap(), drawn, "… once this session has autosaved the work itself");
+    assert_eq!(h.state().solution().emitters.len(), 1, "the recovered drawing is solved");
+
+    // A clean close leaves nothing behind, so the next start offers nothing.
+    h.state_mut().close_cleanly();
+    drop(h);
+    let h = harness_app(FlowriseApp::new(demo(FLAT), None).with_recovery(cfg, false));
+    assert!(h.query_by_label_contains("Recover unsaved work?").is_none());
+    assert!(h.state().orphans().is_empty());
+}
+
+#[test]
+fn discarding_the_offer_deletes_the_autosave() {
+    let dir = temp_dir("discard");
+    let cfg = RecoveryConfig { dir: dir.clone(), interval: Duration::from_secs(3600), every_edits: 1 };
+    let mut h = harness_app(FlowriseApp::new(source_only(), None).with_recovery(cfg.clone(), false));
+    draw_emitter(&mut h, 5.0);
+    drop(h);
+    let mut h = harness_app(FlowriseApp::new(demo(FLAT), None).with_recovery(cfg, false));
+    h.get_by_label("Discard").click();
+    h.run();
+    assert!(h.query_by_label_contains("Recover unsaved work?").is_none());
+    assert_eq!(*h.state().project(), demo(FLAT), "the open project is untouched");
+    let left: Vec<_> = std::fs::read_dir(&dir).unwrap().flatten().map(|e| e.file_name()).collect();
+    assert!(left.iter().all(|n| n.to_string_lossy().contains(&format!("session-{}-", std::process::id()))));
+    assert!(h.state().orphans().is_empty());
+}
+
+#[test]
+fn the_unsaved_changes_prompt_guards_new_and_cancel_keeps_the_drawing() {
+    let mut h = harness(source_only());
+    draw_emitter(&mut h, 6.0);
+    assert!(h.state().is_dirty());
+    let drawn = h.state().project().clone();
+
+    h.key_press_modifiers(Modifiers::COMMAND, Key::N);
+    h.run();
+    assert!(h.query_by_label_contains("has changes that are not saved").is_some(), "the prompt is shown");
+    h.get_by_label("Cancel").click();
+    h.run();
+    assert!(h.query_by_label_contains("has changes that are not saved").is_none());
+    assert_eq!(*h.state().project(), drawn, "Cancel keeps the drawing");
+
+    h.key_press_modifiers(Modifiers::COMMAND, Key::N);
+    h.run();
+    h.get_by_label("Discard").click();
+    h.run();
+    assert_eq!(h.state().project().name, "Untitled project", "Discard goes on to the new project");
+    assert!(!h.state().is_dirty());
+}
+
+#[test]
+fn a_failed_save_keeps_the_drawing_and_its_undo_history() {
+    let bad = temp_dir("failed-save").join("no-such-folder").join("plant.ron");
+    let mut h = harness_app(FlowriseApp::new(source_only(), Some(bad.clone())));
+    let start = h.state().project().clone();
+    draw_emitter(&mut h, 6.0);
+    let one = h.state().project().clone();
+    draw_emitter(&mut h, -6.0);
+    let two = h.state().project().clone();
+    assert_eq!(two.emitters().len(), 2);
+
+    h.key_press_modifiers(Modifiers::COMMAND, Key::S);
+    h.run();
+    assert!(h.query_by_label_contains("cannot save").is_some(), "the failure is reported");
+    assert!(!bad.exists());
+    assert!(h.state().is_dirty(), "still unsaved");
+    assert_eq!(*h.state().project(), two, "the drawing is kept");
+
+    // Undo walks back through both drawings' steps, redo comes forward.
+    for _ in 0..4 {
+        h.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+        h.run();
+    }
+    assert_eq!(*h.state().project(), start, "undo reaches the state before drawing");
+    for _ in 0..2 {
+        h.key_press_modifiers(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z);
+        h.run();
+    }
+    assert_eq!(*h.state().project(), one, "redo re-applies the first emitter and its run");
+}
+
+#[test]
+fn a_return_temperature_above_supply_is_refused_beside_the_field() {
+    let mut h = harness(demo(FLAT));
+    h.state_mut().select(Selection::None);
+    h.run();
+    let before = h.state().project().clone();
+    let supply = before.settings.supply_c;
+    h.get_by_label("Design settings").click();
+    h.run();
+    type_into(&mut h, "Return", &format!("{}", supply + 5.0));
+    assert_eq!(*h.state().project(), before, "the impossible setting is not applied");
+    assert!(h.query_by_label_contains("must be below supply").is_some(), "the refusal is shown beside the field");
 }

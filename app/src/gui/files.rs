@@ -5,6 +5,7 @@ use std::path::PathBuf;
 
 use flowrise_core::project::Project;
 
+use super::recovery::{self, RecoveryConfig};
 use super::{FlowriseApp, PREFS_KEY, Prefs, theme};
 
 /// The embedded default demo project.
@@ -50,6 +51,9 @@ pub fn run_window(start: StartProject) -> Result<(), WindowError> {
     if !has_display() {
         return Err(WindowError::NoDisplay);
     }
+    recovery::install_crash_hook();
+    let recovery_dir =
+        std::env::var_os("FLOWRISE_RECOVERY_DIR").map(PathBuf::from).or_else(RecoveryConfig::default_dir);
     let options = eframe::NativeOptions {
         viewport: egui::ViewportBuilder::default()
             .with_inner_size([1440.0, 900.0])
@@ -63,6 +67,9 @@ pub fn run_window(start: StartProject) -> Result<(), WindowError> {
         Box::new(move |cc| {
             theme::apply_style(&cc.egui_ctx);
             let mut app = FlowriseApp::new(start.project, start.path);
+            if let Some(dir) = recovery_dir {
+                app = app.with_recovery(RecoveryConfig::in_dir(dir), true);
+            }
             if let Some(prefs) = cc.storage.and_then(|s| eframe::get_value::<Prefs>(s, PREFS_KEY)) {
                 app.prefs = prefs;
             }

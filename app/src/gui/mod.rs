@@ -23,6 +23,7 @@ mod fields;
 mod files;
 mod history;
 mod inspector;
+pub mod recovery;
 mod scenarios;
 mod settings_panel;
 mod solve;
@@ -213,6 +214,10 @@ pub struct FlowriseApp {
     show_settings: bool,
     pending: Option<Pending>,
     allow_close: bool,
+    // ---- no lost work
+    autosave: Option<recovery::Autosaver>,
+    /// Work of sessions that did not close cleanly, offered on start.
+    orphans: Vec<recovery::Orphan>,
 }
 
 impl FlowriseApp {
@@ -236,6 +241,92 @@ impl FlowriseApp {
             show_settings: false,
             pending: None,
             allow_close: false,
+            autosave: None,
+            orphans: Vec::new(),
+        }
+    }
+
+    /// Turn on autosave in `cfg.dir` and look there for work left by
+    /// sessions that did not close cleanly (offered in a window on the next
+    /// frame). A folder that cannot be used is reported in the status line.
+    #[must_use]
+    pub fn with_recovery(mut self, cfg: recovery::RecoveryConfig, background: bool) -> Self {
+        self.orphans = recovery::find_orphans(&cfg.dir);
+        match recovery::Autosaver::start(cfg, self.project.revision) {
+            Ok(mut a) => {
+                a.background = background;
+                self.autosave = Some(a);
+            }
+            Err(e) => self.status = Some(Status { text: format!("no autosave: {e}"), error: true }),
+        }
+        self
+    }
+
+    /// This session's autosave file, when autosave is on.
+    #[must_use]
+    pub fn autosave_path(&self) -> Option<PathBuf> {
+        self.autosave.as_ref().map(recovery::Autosaver::project_path)
+    }
+
+    /// Work offered for recovery.
+    #[must_use]
+    pub fn orphans(&self) -> &[recovery::Orphan] {
+        &self.orphans
+    }
+
+    /// A clean close: remove this session's recovery files.
+    pub fn close_cleanly(&mut self) {
+        if let Some(a) = &mut self.autosave {
+            a.finish();
+        }
+    }
+
+    /// Recover the work of offer `i`: it becomes the open document (with
+    /// unsaved changes, tied to its original file), is autosaved by this
+    /// session, and only then are the old files removed.
+    pub fn recover(&mut self, i: usize) {
+        if i >= self.orphans.len() {
+            return;
+        }
+        let o = self.orphans.remove(i);
+        match o.load() {
+            Ok(p) => {
+                let on_disk = o.original_path.as_ref().and_then(|q| Project::load(q).ok());
+                self.replace_project(p, o.original_path.clone());
+                // Compared with the file on disk (or with nothing, if it
+                // never had one) the recovered work shows as unsaved.
+                self.saved = on_disk.unwrap_or_else(|| Project::new(""));
+                let kept = match &mut self.autosave {
+                    Some(a) => {
+                        a.write(&self.project, self.path.as_deref());
+                        a.tick(&self.project, true, self.path.as_deref(), false);
+                        a.error.is_none()
+                    }
+                    None => false,
+                };
+                if kept && let Some(a) = &self.autosave {
+                    o.remove(a.dir());
+                }
+                self.status = Some(Status {
+                    text: format!("recovered “{}” — save it to keep it", self.project.name),
+                    error: false,
+                });
+            }
+            Err(e) => {
+                self.status =
+                    Some(Status { text: format!("cannot recover {}: {e}", o.project_path.display()), error: true });
+                self.orphans.insert(i, o);
+            }
+        }
+    }
+
+    /// Delete the work of offer `i`.
+    pub fn discard_orphan(&mut self, i: usize) {
+        if i < self.orphans.len() {
+            let o = self.orphans.remove(i);
+            if let Some(dir) = o.project_path.parent() {
+                o.remove(dir);
+            }
         }
     }
 
@@ -344,12 +435,81 @@ impl FlowriseApp {
         });
         self.windows(&ctx, &mut out);
         self.apply(out, &ctx);
+        self.autosave_tick(&ctx);
         if busy {
             ctx.request_repaint_after(std::time::Duration::from_millis(30));
         }
     }
 
+    fn autosave_tick(&mut self, ctx: &egui::Context) {
+        let dirty = self.is_dirty();
+        let Some(a) = &mut self.autosave else { return };
+        let hold = ctx.input(|i| i.pointer.any_down());
+        if let Some(wait) = a.tick(&self.project, dirty, self.path.as_deref(), hold) {
+            ctx.request_repaint_after(wait);
+        }
+        if let Some(e) = a.error.take() {
+            self.status = Some(Status { text: e, error: true });
+        }
+    }
+
+    /// The recovery offer, while there is work to offer.
+    fn recovery_offer(&mut self, ctx: &egui::Context) {
+        if self.orphans.is_empty() {
+            return;
+        }
+        enum Choice {
+            Recover(usize),
+            Discard(usize),
+            Later,
+        }
+        let mut choice = None;
+        egui::Modal::new(egui::Id::unique("recovery_offer")).show(ctx, |ui| {
+            ui.set_max_width(560.0);
+            ui.heading("Recover unsaved work?");
+            ui.label("flowrise did not close cleanly last time. This unsaved work was kept:");
+            ui.add_space(6.0);
+            for (i, o) in self.orphans.iter().enumerate() {
+                ui.group(|ui| {
+                    match &o.summary {
+                        Ok(s) => ui.label(RichText::new(s).strong()),
+                        Err(e) => ui.label(RichText::new(format!("damaged autosave: {e}")).color(theme::ERROR)),
+                    };
+                    let from = o
+                        .original_path
+                        .as_ref()
+                        .map_or_else(|| "never saved to a file".to_owned(), |p| format!("from {}", p.display()));
+                    ui.label(format!("{from}; autosaved {}", o.age_text()));
+                    ui.label(RichText::new(o.project_path.display().to_string()).small().weak());
+                    ui.horizontal(|ui| {
+                        if o.summary.is_ok() && ui.button("Recover").clicked() {
+                            choice = Some(Choice::Recover(i));
+                        }
+                        if ui.button("Discard").clicked() {
+                            choice = Some(Choice::Discard(i));
+                        }
+                    });
+                });
+            }
+            ui.add_space(6.0);
+            if ui.button("Decide later").on_hover_text("Keep the files; ask again next start").clicked() {
+                choice = Some(Choice::Later);
+            }
+        });
+        match choice {
+            Some(Choice::Recover(i)) => {
+                self.recover(i);
+                // One document at a time: the rest stay for the next start.
+                self.orphans.clear();
+            }
+            Some(Choice::Discard(i)) => self.discard_orphan(i),
+            Some(Choice::Later) => self.orphans.clear(),
+            None => {}
+        }
+    }
+
     fn windows(&mut self, ctx: &egui::Context, out: &mut Intents) {
+        self.recovery_offer(ctx);
         if self.show_about {
             egui::Window::new("About flowrise").open(&mut self.show_about).collapsible(false).show(ctx, |ui| {
                 ui.heading("flowrise");
@@ -685,5 +845,9 @@ impl eframe::App for FlowriseApp {
 
     fn save(&mut self, storage: &mut dyn eframe::Storage) {
         eframe::set_value(storage, PREFS_KEY, &self.prefs);
+    }
+
+    fn on_exit(&mut self, _gl: Option<&eframe::glow::Context>) {
+        self.close_cleanly();
     }
 }
