@@ -28,33 +28,16 @@ pub const WARNING: Color32 = Color32::from_rgb(0xc0, 0x7a, 0x00);
 /// Accent of the flowrise look (top strip, active tool).
 pub const ACCENT: Color32 = Color32::from_rgb(0x0f, 0x6e, 0x6a);
 
-/// The viridis colormap sampled at nine points 0, 1/8 … 1 (sRGB).
-/// Source: the published viridis map of matplotlib (van der Walt & Smith,
-/// 2015), a perceptually uniform scale readable with the common forms of
-/// colour-vision deficiency. Hex values recalled from memory, not verified
-/// against the document.
-const VIRIDIS: [[u8; 3]; 9] = [
-    [0x44, 0x01, 0x54],
-    [0x47, 0x2d, 0x7b],
-    [0x3b, 0x52, 0x8b],
-    [0x2c, 0x72, 0x8e],
-    [0x21, 0x91, 0x8c],
-    [0x28, 0xae, 0x80],
-    [0x5e, 0xc9, 0x62],
-    [0xad, 0xdc, 0x30],
-    [0xfd, 0xe7, 0x25],
-];
-
-/// Colour of `t` ∈ [0, 1] on the scale (clamped), linear between samples.
+/// Colour of `t` ∈ [0, 1] on the run-colour scale (clamped; NaN → 0).
+///
+/// The same scale as the report's plan: cividis (Nuñez, Anderton & Renslow
+/// 2018), perceptually uniform and readable with the common forms of
+/// colour-vision deficiency, its stops checked against matplotlib 3.10.9
+/// (`flowrise_core::report::svg::CIVIDIS_STOPS`).
 #[must_use]
 pub fn scale_colour(t: f64) -> Color32 {
-    let t = if t.is_finite() { t.clamp(0.0, 1.0) } else { 0.0 };
-    let x = t * (VIRIDIS.len() - 1) as f64;
-    let i = (x.floor() as usize).min(VIRIDIS.len() - 2);
-    let f = x - i as f64;
-    let mix = |a: u8, b: u8| (f64::from(a) + (f64::from(b) - f64::from(a)) * f).round() as u8;
-    let (a, b) = (VIRIDIS[i], VIRIDIS[i + 1]);
-    Color32::from_rgb(mix(a[0], b[0]), mix(a[1], b[1]), mix(a[2], b[2]))
+    let [r, g, b] = flowrise_core::report::svg::cividis(t);
+    Color32::from_rgb(r, g, b)
 }
 
 /// What the run colours show.
@@ -148,9 +131,12 @@ mod tests {
     use super::*;
 
     #[test]
-    fn scale_ends_are_the_table_ends_and_clamps() {
-        assert_eq!(scale_colour(0.0), Color32::from_rgb(0x44, 0x01, 0x54));
-        assert_eq!(scale_colour(1.0), Color32::from_rgb(0xfd, 0xe7, 0x25));
+    fn scale_ends_are_the_checked_table_ends_and_clamps() {
+        use flowrise_core::report::svg::CIVIDIS_STOPS;
+        let [r, g, b] = CIVIDIS_STOPS[0];
+        assert_eq!(scale_colour(0.0), Color32::from_rgb(r, g, b));
+        let [r, g, b] = CIVIDIS_STOPS[CIVIDIS_STOPS.len() - 1];
+        assert_eq!(scale_colour(1.0), Color32::from_rgb(r, g, b));
         assert_eq!(scale_colour(7.0), scale_colour(1.0));
         assert_eq!(scale_colour(f64::NAN), scale_colour(0.0));
     }

@@ -36,11 +36,116 @@ pub struct PlanScene<'a> {
     pub flagged: &'a BTreeSet<ItemRef>,
 }
 
-fn label_box(painter: &Painter, at: Pos2, anchor: Align2, text: &str, colour: Color32, size: f32) {
-    let galley = painter.layout_no_wrap(text.to_owned(), FontId::proportional(size), colour);
-    let rect = anchor.anchor_size(at, galley.size()).expand2(vec2(3.0, 1.0));
-    painter.rect_filled(rect, CornerRadius::same(3), Color32::from_rgba_unmultiplied(0xf4, 0xf3, 0xef, 215));
-    painter.galley(rect.min + vec2(3.0, 1.0), galley, colour);
+/// Text size of the plan labels (points).
+const LABEL_SIZE: f32 = 11.5;
+
+/// A label waiting for a place on the plan.
+#[derive(Debug)]
+pub struct LabelRequest {
+    text: String,
+    /// Places to try, best first: anchor point and alignment.
+    spots: Vec<(Pos2, Align2)>,
+    /// Drawn first and always (selected or hovered item).
+    must: bool,
+}
+
+/// Labels of one frame: collected while drawing, placed at the end so none
+/// covers another. Labels outside the view are skipped before any text
+/// layout; a label that finds no free spot is left out (zoom in to see it)
+/// unless its item is selected or under the pointer.
+#[derive(Debug, Default)]
+pub struct Labels {
+    requests: Vec<LabelRequest>,
+    /// Screen areas labels must not cover (node symbols).
+    obstacles: Vec<Rect>,
+}
+
+impl Labels {
+    /// Keep labels off `rect`.
+    pub fn avoid(&mut self, rect: Rect) {
+        self.obstacles.push(rect);
+    }
+
+    fn add(&mut self, text: String, spots: Vec<(Pos2, Align2)>, must: bool) {
+        self.requests.push(LabelRequest { text, spots, must });
+    }
+
+    /// These labels, then `other`'s (placed in that order).
+    #[must_use]
+    pub fn then(mut self, other: Self) -> Self {
+        self.requests.extend(other.requests);
+        self.obstacles.extend(other.obstacles);
+        self
+    }
+
+    /// Lay out and paint the labels that fit. Returns how many were drawn.
+    pub fn paint(mut self, painter: &Painter) -> usize {
+        let clip = painter.clip_rect();
+        // Selected/hovered first; otherwise in drawing order (nodes were
+        // queued before runs: names win over sizes).
+        self.requests.sort_by_key(|r| !r.must);
+        let mut placed = PlacedRects::default();
+        for &o in self.obstacles.iter().filter(|o| clip.intersects(**o)) {
+            placed.insert(o);
+        }
+        let mut drawn = 0;
+        for r in self.requests {
+            // A generous estimate of the size culls labels far outside the
+            // view without laying out their text.
+            let guess = vec2(7.5 * r.text.chars().count() as f32 + 6.0, LABEL_SIZE + 6.0);
+            if !r.spots.iter().any(|&(at, a)| clip.intersects(a.anchor_size(at, guess))) {
+                continue;
+            }
+            let galley = painter.layout_no_wrap(r.text, FontId::proportional(LABEL_SIZE), theme::INK);
+            let size = galley.size() + vec2(6.0, 2.0);
+            let spot = r
+                .spots
+                .iter()
+                .map(|&(at, a)| a.anchor_size(at, size))
+                .find(|rect| clip.contains_rect(*rect) && !placed.overlaps(*rect))
+                .or_else(|| r.must.then(|| r.spots.first().map(|&(at, a)| a.anchor_size(at, size))).flatten());
+            let Some(rect) = spot else { continue };
+            placed.insert(rect);
+            painter.rect_filled(rect, CornerRadius::same(3), Color32::from_rgba_unmultiplied(0xf4, 0xf3, 0xef, 215));
+            painter.galley(rect.min + vec2(3.0, 1.0), galley, theme::INK);
+            drawn += 1;
+        }
+        drawn
+    }
+}
+
+/// Rectangles already taken, bucketed on a coarse screen grid so a test
+/// costs a few comparisons however many labels there are.
+#[derive(Debug, Default)]
+struct PlacedRects {
+    rects: Vec<Rect>,
+    cells: std::collections::HashMap<(i32, i32), Vec<usize>>,
+}
+
+impl PlacedRects {
+    const CELL: f32 = 64.0;
+
+    fn cells_of(rect: Rect) -> impl Iterator<Item = (i32, i32)> {
+        let (x0, x1) = ((rect.min.x / Self::CELL).floor() as i32, (rect.max.x / Self::CELL).floor() as i32);
+        let (y0, y1) = ((rect.min.y / Self::CELL).floor() as i32, (rect.max.y / Self::CELL).floor() as i32);
+        (x0..=x1).flat_map(move |x| (y0..=y1).map(move |y| (x, y)))
+    }
+
+    fn overlaps(&self, rect: Rect) -> bool {
+        Self::cells_of(rect).any(|c| {
+            self.cells
+                .get(&c)
+                .is_some_and(|ids| ids.iter().any(|&i| self.rects.get(i).is_some_and(|r| r.intersects(rect))))
+        })
+    }
+
+    fn insert(&mut self, rect: Rect) {
+        let i = self.rects.len();
+        self.rects.push(rect);
+        for c in Self::cells_of(rect) {
+            self.cells.entry(c).or_default().push(i);
+        }
+    }
 }
 
 /// Dashed polyline (over-limit runs).
@@ -48,8 +153,8 @@ fn dashed(painter: &Painter, pts: &[Pos2], stroke: Stroke) {
     painter.extend(Shape::dashed_line(pts, stroke, 9.0, 5.0));
 }
 
-/// Draw the runs of the level.
-pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>) {
+/// Draw the runs of the level; their labels go to `labels`.
+pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
     let limit = s.project.settings.gradient_limit_pa_m;
     for run in s.project.runs() {
         let Some(pts) = run_polyline(s.project, run, s.level, s.view) else { continue };
@@ -72,7 +177,7 @@ pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>) {
             warning_badge(painter, mid + vec2(0.0, -12.0));
         }
         if s.show_labels {
-            run_label(painter, s, run.id, &pts);
+            run_label(s, run.id, &pts, selected || hovered, labels);
         }
     }
 }
@@ -88,7 +193,7 @@ fn longest_segment_mid(pts: &[Pos2]) -> (Pos2, Vec2) {
     (best.0, best.1)
 }
 
-fn run_label(painter: &Painter, s: &PlanScene<'_>, run: flowrise_core::project::RunId, pts: &[Pos2]) {
+fn run_label(s: &PlanScene<'_>, run: flowrise_core::project::RunId, pts: &[Pos2], must: bool, labels: &mut Labels) {
     let Some(p) = s.sol.run_pipes(run).find(|p| p.side == Side::Supply) else { return };
     let (mid, dir) = longest_segment_mid(pts);
     if dir.length() < 40.0 {
@@ -97,7 +202,16 @@ fn run_label(painter: &Painter, s: &PlanScene<'_>, run: flowrise_core::project::
     let normal = vec2(-dir.y, dir.x).normalized();
     let n = if normal.y > 0.0 { -normal } else { normal };
     let text = format!("{}  {:.0} l/h", p.size, p.flow_l_h);
-    label_box(painter, mid + n * 11.0, Align2::CENTER_CENTER, &text, theme::INK, 11.5);
+    // Beside the run on the upper side, else on the lower side, else a
+    // little along it.
+    let along = dir.normalized() * (0.25 * dir.length()).min(60.0);
+    let spots = vec![
+        (mid + n * 11.0, Align2::CENTER_CENTER),
+        (mid - n * 11.0, Align2::CENTER_CENTER),
+        (mid + along + n * 11.0, Align2::CENTER_CENTER),
+        (mid - along + n * 11.0, Align2::CENTER_CENTER),
+    ];
+    labels.add(text, spots, must);
 }
 
 fn warning_badge(painter: &Painter, at: Pos2) {
@@ -106,8 +220,9 @@ fn warning_badge(painter: &Painter, at: Pos2) {
     painter.text(at + vec2(0.0, 1.0), Align2::CENTER_CENTER, "!", FontId::proportional(9.0), Color32::WHITE);
 }
 
-/// Draw the nodes of the level with their symbols.
-pub fn draw_nodes(painter: &Painter, s: &PlanScene<'_>) {
+/// Draw the nodes of the level with their symbols; their labels go to
+/// `labels`.
+pub fn draw_nodes(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
     for n in s.project.nodes().filter(|n| n.level == s.level) {
         let at = s.view.screen_from_plan(n.pos);
         let selected = s.selection == Selection::Node(n.id);
@@ -129,11 +244,14 @@ pub fn draw_nodes(painter: &Painter, s: &PlanScene<'_>) {
             painter.line_segment([c + vec2(0.0, -3.0), c + vec2(0.0, 3.0)], Stroke::new(1.5, theme::INK));
         }
         node_symbol(painter, at, n);
+        if !matches!(n.kind, NodeKind::Junction) {
+            labels.avoid(Rect::from_center_size(at, vec2(22.0, 18.0)));
+        }
         if s.flagged.contains(&ItemRef::Node(n.id)) {
             warning_badge(painter, at + vec2(12.0, -12.0));
         }
         if s.show_labels {
-            node_label(painter, s, n, at);
+            node_label(s, n, at, selected || hovered, labels);
         }
     }
 }
@@ -196,8 +314,8 @@ pub fn node_symbol(painter: &Painter, at: Pos2, n: &Node) {
     }
 }
 
-fn node_label(painter: &Painter, s: &PlanScene<'_>, n: &Node, at: Pos2) {
-    match &n.kind {
+fn node_label(s: &PlanScene<'_>, n: &Node, at: Pos2, must: bool, labels: &mut Labels) {
+    let (text, gap) = match &n.kind {
         NodeKind::Emitter(e) => {
             let mut text = format!("{}  {:.0} W", e.name, e.load_w);
             if let Some(r) = s.sol.emitter(n.id) {
@@ -206,16 +324,20 @@ fn node_label(painter: &Painter, s: &PlanScene<'_>, n: &Node, at: Pos2) {
                     text.push_str(&format!("  ·  short {:.0} W", r.load_w - r.output_w));
                 }
             }
-            label_box(painter, at + vec2(0.0, 12.0), Align2::CENTER_TOP, &text, theme::INK, 11.5);
+            (text, 12.0)
         }
-        NodeKind::Header(h) => {
-            label_box(painter, at + vec2(0.0, 12.0), Align2::CENTER_TOP, &h.name, theme::INK, 11.5);
-        }
-        NodeKind::Source(src) => {
-            label_box(painter, at + vec2(0.0, 15.0), Align2::CENTER_TOP, &src.name, theme::INK, 11.5);
-        }
-        NodeKind::Junction => {}
-    }
+        NodeKind::Header(h) => (h.name.clone(), 12.0),
+        NodeKind::Source(src) => (src.name.clone(), 15.0),
+        NodeKind::Junction => return,
+    };
+    // Below the symbol, else above, else to the right or left.
+    let spots = vec![
+        (at + vec2(0.0, gap), Align2::CENTER_TOP),
+        (at - vec2(0.0, gap), Align2::CENTER_BOTTOM),
+        (at + vec2(gap + 4.0, 0.0), Align2::LEFT_CENTER),
+        (at - vec2(gap + 4.0, 0.0), Align2::RIGHT_CENTER),
+    ];
+    labels.add(text, spots, must);
 }
 
 /// Legend of the colour scale in the canvas's upper-right corner.
@@ -279,4 +401,59 @@ pub fn draw_scale_bar(painter: &Painter, view: &View, bottom_left: Pos2) {
 #[must_use]
 pub fn flagged_items(sol: &Solution) -> BTreeSet<ItemRef> {
     sol.findings.iter().filter(|f| f.severity != Severity::Note).map(|f| f.item).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Place `labels` in a 400×300 view; returns how many were drawn.
+    fn place(labels: Labels) -> usize {
+        let ctx = egui::Context::default();
+        let mut drawn = 0;
+        let mut labels = Some(labels);
+        let input = egui::RawInput {
+            screen_rect: Some(Rect::from_min_size(Pos2::ZERO, vec2(400.0, 300.0))),
+            ..Default::default()
+        };
+        let mut out = ctx.run_ui(input, |ui| {
+            let painter = ui.painter_at(Rect::from_min_size(Pos2::ZERO, vec2(400.0, 300.0)));
+            if let Some(l) = labels.take() {
+                drawn = l.paint(&painter);
+            }
+        });
+        out.textures_delta.clear();
+        drawn
+    }
+
+    #[test]
+    fn labels_never_cover_each_other_or_symbols_and_off_view_ones_are_skipped() {
+        let one_spot = |l: &mut Labels, text: &str, at: Pos2, must: bool| {
+            l.add(text.to_owned(), vec![(at, Align2::CENTER_CENTER)], must);
+        };
+        let mut l = Labels::default();
+        one_spot(&mut l, "Room 1  800 W", pos2(200.0, 150.0), false);
+        one_spot(&mut l, "Room 2  900 W", pos2(205.0, 152.0), false);
+        assert_eq!(place(l), 1, "the second label has no free spot");
+
+        let mut l = Labels::default();
+        l.add("Room 1".to_owned(), vec![(pos2(200.0, 150.0), Align2::CENTER_CENTER)], false);
+        l.add(
+            "Room 2".to_owned(),
+            vec![(pos2(200.0, 150.0), Align2::CENTER_CENTER), (pos2(200.0, 190.0), Align2::CENTER_CENTER)],
+            false,
+        );
+        assert_eq!(place(l), 2, "the second label takes its next spot");
+
+        let mut l = Labels::default();
+        l.avoid(Rect::from_center_size(pos2(200.0, 150.0), vec2(22.0, 18.0)));
+        one_spot(&mut l, "Room 1", pos2(200.0, 150.0), false);
+        one_spot(&mut l, "far away", pos2(5000.0, 150.0), false);
+        assert_eq!(place(l), 0, "a symbol is not covered; a label outside the view is skipped");
+
+        let mut l = Labels::default();
+        one_spot(&mut l, "Room 1", pos2(200.0, 150.0), false);
+        one_spot(&mut l, "selected room", pos2(200.0, 150.0), true);
+        assert_eq!(place(l), 1, "the selected item's label wins the spot");
+    }
 }

@@ -199,8 +199,11 @@ pub fn show(
         hover: state.hover,
         flagged: &flagged,
     };
-    draw::draw_runs(&painter, &scene);
-    draw::draw_nodes(&painter, &scene);
+    // Runs under nodes; labels over both, node names placed before run sizes.
+    let (mut run_labels, mut node_labels) = (draw::Labels::default(), draw::Labels::default());
+    draw::draw_runs(&painter, &scene, &mut run_labels);
+    draw::draw_nodes(&painter, &scene, &mut node_labels);
+    node_labels.then(run_labels).paint(&painter);
     draw_draft(&painter, project, state);
     draw::draw_legend(&painter, rect, opts.colour_by);
     draw::draw_scale_bar(&painter, &state.view, rect.left_bottom());
