@@ -396,3 +396,22 @@ fn a_return_temperature_above_supply_is_refused_beside_the_field() {
     assert_eq!(*h.state().project(), before, "the impossible setting is not applied");
     assert!(h.query_by_label_contains("must be below supply").is_some(), "the refusal is shown beside the field");
 }
+
+#[test]
+fn a_project_starts_from_a_building_outline() {
+    let mut h = harness(Project::new("Empty"));
+    h.get_by_label("File").click();
+    h.run();
+    h.get_by_label_contains("New from building outline").click();
+    h.run();
+    assert!(h.query_by_label_contains("24 emitters in total").is_some(), "the default outline: 4 floors × 6 rooms");
+    h.get_by_label("reverse return").click();
+    h.run();
+    h.get_by_label("Create project").click();
+    h.run();
+    let p = h.state().project();
+    assert_eq!(p.levels.len(), 4);
+    assert_eq!(p.emitters().len(), 24);
+    assert_eq!(h.state().solution().emitters.len(), 24, "the new building is solved");
+    assert!(h.query_by_label_contains("Create project").is_none(), "the form closes");
+}

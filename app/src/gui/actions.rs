@@ -10,6 +10,8 @@ use super::canvas::Tool;
 pub enum Action {
     /// Start a new, empty project.
     New,
+    /// Start a project from a building outline (floors, rooms per floor).
+    NewFromOutline,
     /// Open a project file.
     Open,
     /// Save to the current file (asks for one when there is none).
@@ -64,6 +66,7 @@ impl Action {
     pub fn label(self) -> &'static str {
         match self {
             Self::New => "New",
+            Self::NewFromOutline => "New from building outline…",
             Self::Open => "Open…",
             Self::Save => "Save",
             Self::SaveAs => "Save as…",
@@ -95,7 +98,12 @@ impl Action {
             Self::Tool(t) => plain(t.key()),
             Self::ToggleLabels => plain(Key::L),
             Self::FitView => plain(Key::F),
-            Self::ToggleElevation | Self::Settings | Self::About | Self::ExportParts | Self::ExportReport => None,
+            Self::NewFromOutline
+            | Self::ToggleElevation
+            | Self::Settings
+            | Self::About
+            | Self::ExportParts
+            | Self::ExportReport => None,
         }
     }
 
@@ -110,6 +118,9 @@ impl Action {
     pub fn tooltip(self) -> &'static str {
         match self {
             Self::New => "Start a new project with one level",
+            Self::NewFromOutline => {
+                "Start a project with a riser, floor branches and emitters from the number of floors and rooms"
+            }
             Self::Open => "Open a flowrise project (.ron)",
             Self::Save => "Save the project to its file",
             Self::SaveAs => "Save the project to a new file",

@@ -23,6 +23,7 @@ mod fields;
 mod files;
 mod history;
 mod inspector;
+mod outline;
 pub mod recovery;
 mod scenarios;
 mod settings_panel;
@@ -188,6 +189,7 @@ pub const PREFS_KEY: &str = "flowrise-prefs";
 enum Pending {
     Close,
     New,
+    NewFromOutline,
     Open,
 }
 
@@ -212,6 +214,7 @@ pub struct FlowriseApp {
     status: Option<Status>,
     show_about: bool,
     show_settings: bool,
+    outline: Option<outline::OutlineForm>,
     pending: Option<Pending>,
     allow_close: bool,
     // ---- no lost work
@@ -239,6 +242,7 @@ impl FlowriseApp {
             status: None,
             show_about: false,
             show_settings: false,
+            outline: None,
             pending: None,
             allow_close: false,
             autosave: None,
@@ -527,6 +531,30 @@ impl FlowriseApp {
             });
             self.show_settings = open;
         }
+        if let Some(form) = &mut self.outline {
+            let mut open = true;
+            let mut outcome = outline::OutlineOutcome::Open;
+            egui::Window::new("New from building outline")
+                .open(&mut open)
+                .collapsible(false)
+                .default_width(420.0)
+                .show(ctx, |ui| outcome = outline::show(ui, form));
+            match outcome {
+                outline::OutlineOutcome::Created(mut p) => {
+                    let n = p.emitters().len();
+                    p.name = format!("New building, {} floors", p.levels.len());
+                    self.replace_project(*p, None);
+                    self.outline = None;
+                    self.status = Some(Status {
+                        text: format!("new project with {n} emitters — replace the room loads with your own"),
+                        error: false,
+                    });
+                }
+                outline::OutlineOutcome::Cancelled => self.outline = None,
+                outline::OutlineOutcome::Open if !open => self.outline = None,
+                outline::OutlineOutcome::Open => {}
+            }
+        }
         if let Some(pending) = self.pending {
             let choice = files::unsaved_prompt(ctx, &self.project.name);
             match choice {
@@ -553,6 +581,7 @@ impl FlowriseApp {
                 ctx.send_viewport_cmd(egui::ViewportCommand::Close);
             }
             Pending::New => self.replace_project(Project::new("Untitled project"), None),
+            Pending::NewFromOutline => self.outline = Some(outline::OutlineForm::default()),
             Pending::Open => self.open_dialog(),
         }
     }
@@ -725,10 +754,15 @@ impl FlowriseApp {
     /// Carry out an action.
     pub fn run_action(&mut self, a: Action, ctx: &egui::Context) {
         match a {
-            Action::New | Action::Open if self.is_dirty() => {
-                self.pending = Some(if a == Action::New { Pending::New } else { Pending::Open });
+            Action::New | Action::NewFromOutline | Action::Open if self.is_dirty() => {
+                self.pending = Some(match a {
+                    Action::New => Pending::New,
+                    Action::NewFromOutline => Pending::NewFromOutline,
+                    _ => Pending::Open,
+                });
             }
             Action::New => self.replace_project(Project::new("Untitled project"), None),
+            Action::NewFromOutline => self.outline = Some(outline::OutlineForm::default()),
             Action::Open => self.open_dialog(),
             Action::Save => {
                 self.save(false);

@@ -50,7 +50,7 @@ pub fn show(ui: &mut Ui, m: &TopBar<'_>, project: &Project, sol: &Solution, pref
         ui.label(RichText::new(title).strong()).on_hover_text(if m.dirty { "unsaved changes" } else { "saved" });
         ui.separator();
         ui.menu_button("File", |ui| {
-            for a in [Action::New, Action::Open, Action::Save, Action::SaveAs] {
+            for a in [Action::New, Action::NewFromOutline, Action::Open, Action::Save, Action::SaveAs] {
                 if ui.button(a.menu_text(ui.ctx())).on_hover_text(a.tooltip()).clicked() {
                     out.actions.push(a);
                     ui.close();
