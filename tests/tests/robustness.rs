@@ -837,15 +837,22 @@ fn save_leaves_no_temp_file_and_survives_stale_ones() {
     p.save(&path).unwrap();
     assert!(temp_files(&dir).is_empty(), "{:?}", temp_files(&dir));
     // Stale temporary files of killed saves (with our pid and another
-    // process's) do not stop a save.
+    // process's) do not stop a save; the one of a process that no longer
+    // runs is cleared (pid 4194304 is above Linux's pid_max; pid 1 runs).
     let ours = dir.join(format!(".plant room.ron.{}.tmp", std::process::id()));
     std::fs::write(&ours, "half a fil").unwrap();
     std::fs::write(dir.join(".plant room.ron.1.tmp"), "(((").unwrap();
+    let dead = dir.join(".plant room.ron.4194304.tmp");
+    std::fs::write(&dead, "(((").unwrap();
     let mut q = p.clone();
     q.name = "Renamed".to_owned();
     q.save(&path).unwrap();
     assert_eq!(Project::load(&path).unwrap(), q);
     assert!(!ours.exists(), "our stale temp file was not reused");
+    if Path::new("/proc/self").exists() {
+        assert!(!dead.exists(), "a dead process's temp file is cleared");
+        assert!(dir.join(".plant room.ron.1.tmp").exists(), "a running process's temp file is left alone");
+    }
     // A save that fails (directory gone) leaves the old file and no temp.
     let missing = dir.join("no such dir").join("x.ron");
     assert!(matches!(p.save(&missing), Err(FileError::Io { .. })));
@@ -925,9 +932,12 @@ fn killed_save_leaves_old_or_new_file() {
     }
     let stale = temp_files(&dir).len();
     eprintln!("killed saves: {kills} rounds, old file {saw_a}, new file {saw_b}, {stale} stale temp files");
-    // A save after all those kills works and leaves only the files it
-    // should (stale temp files of the killed children may remain).
+    // A save after all those kills works and clears the killed children's
+    // temporary files (their processes are gone).
     b.save(&target).unwrap();
     assert_eq!(Project::load(&target).unwrap(), b);
+    if Path::new("/proc/self").exists() {
+        assert!(temp_files(&dir).is_empty(), "stale temp files remain: {:?}", temp_files(&dir));
+    }
     std::fs::remove_dir_all(&dir).ok();
 }

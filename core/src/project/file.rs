@@ -359,6 +359,35 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), FileError> {
     })();
     if result.is_err() {
         std::fs::remove_file(&tmp).ok();
+    } else {
+        remove_stale_temps(dir, &name);
     }
     result.map_err(io)
+}
+
+/// Remove temporary files `.NAME.PID.tmp` left by saves that were killed
+/// (their process no longer runs). Where `/proc` is not available, only
+/// files older than a day go. Best effort: errors are ignored.
+fn remove_stale_temps(dir: &Path, name: &str) {
+    let prefix = format!(".{name}.");
+    let Ok(entries) = std::fs::read_dir(dir) else { return };
+    let procfs = Path::new("/proc/self").exists();
+    for e in entries.flatten() {
+        let file = e.file_name();
+        let file = file.to_string_lossy();
+        let Some(pid) = file.strip_prefix(&prefix).and_then(|r| r.strip_suffix(".tmp")) else { continue };
+        let Ok(pid) = pid.parse::<u32>() else { continue };
+        let stale = if procfs {
+            !Path::new("/proc").join(pid.to_string()).exists()
+        } else {
+            e.metadata()
+                .and_then(|m| m.modified())
+                .ok()
+                .and_then(|t| t.elapsed().ok())
+                .is_some_and(|age| age > std::time::Duration::from_secs(86_400))
+        };
+        if stale && pid != std::process::id() {
+            std::fs::remove_file(e.path()).ok();
+        }
+    }
 }
