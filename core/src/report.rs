@@ -3,7 +3,7 @@
 //!
 //! Contents, in order: project and design conditions with the key results;
 //! a plan of every level and the riser elevation, runs coloured by velocity
-//! margin v / v_limit on the cividis scale (over-limit runs thicker and
+//! margin v / v_limit on the viridis scale (over-limit runs thicker and
 //! dashed); emitters and circuits; pipes; findings; the pump chart; water
 //! volume and expansion vessel with the vessel's assumptions; the parts
 //! list; assumptions, methods and sources; the cautions.
@@ -256,7 +256,7 @@ fn drawings(h: &mut String, p: &Project, sol: &Solution) {
     let (topo, _) = topology::analyse(p);
     h.push_str(
         "<section id=\"plans\"><h2>2 Level plans</h2><p class=\"muted\">Runs are drawn as one line for the supply + return \
-         pair, coloured by the velocity margin v / v<sub>limit</sub> of the worse side (cividis scale, 0 → 1); runs over \
+         pair, coloured by the velocity margin v / v<sub>limit</sub> of the worse side (viridis scale, 0 → 1); runs over \
          their limit are drawn thicker and dashed. Labels: run id and supply size; emitters with their load and presetting. \
          ▲/▼ marks a riser to the level above or below.</p>",
     );
@@ -338,7 +338,7 @@ fn pipes_table(h: &mut String, sol: &Solution) {
     );
     for x in &sol.pipes {
         let ratio = if x.velocity_limit_m_s > 0.0 { x.velocity_m_s / x.velocity_limit_m_s } else { 0.0 };
-        let c = svg::cividis(ratio);
+        let c = svg::viridis(ratio);
         let side = match x.side {
             Side::Supply => "supply",
             Side::Return => "return",
@@ -590,7 +590,7 @@ fn methods(h: &mut String, p: &Project, parts: &PartsList) {
         (
             "Design assumptions",
             "No heat loss from the pipes; every emitter receives the source's supply temperature; the drawing colours use the \
-             cividis colormap (Nuñez, Anderton & Renslow, PLOS ONE 2018), readable with colour-vision deficiency."
+             viridis colormap (van der Walt & Smith, SciPy 2015; stops from matplotlib 3.10.9), readable with colour-vision deficiency."
                 .to_owned(),
         ),
     ];
@@ -701,13 +701,13 @@ mod tests {
     }
 
     #[test]
-    fn cividis_is_clamped_and_ends_at_the_published_endpoints() {
-        // Endpoints: matplotlib 3.10.9 colormaps["cividis"] (see the table's doc).
-        assert_eq!(svg::cividis(0.0), [0, 34, 78]);
-        assert_eq!(svg::cividis(1.0), [254, 232, 56]);
-        assert_eq!(svg::cividis(-3.0), svg::cividis(0.0));
-        assert_eq!(svg::cividis(7.0), svg::cividis(1.0));
-        assert_eq!(svg::cividis(f64::NAN), svg::cividis(0.0));
+    fn viridis_is_clamped_and_ends_at_the_published_endpoints() {
+        // Endpoints: matplotlib 3.10.9 colormaps["viridis"] (see the table's doc).
+        assert_eq!(svg::viridis(0.0), [68, 1, 84]);
+        assert_eq!(svg::viridis(1.0), [253, 231, 37]);
+        assert_eq!(svg::viridis(-3.0), svg::viridis(0.0));
+        assert_eq!(svg::viridis(7.0), svg::viridis(1.0));
+        assert_eq!(svg::viridis(f64::NAN), svg::viridis(0.0));
     }
 
     #[test]

@@ -16,7 +16,7 @@ use flowrise_core::design::{LinkRole, Side, Solution, SolveOptions, Workspace, b
 use flowrise_core::parts::{self, PartCategory, PartUnit, PartsList, PartsOptions};
 use flowrise_core::pipes;
 use flowrise_core::project::{NodeId, NodeKind, Project, RunId};
-use flowrise_core::report::{self, svg::cividis};
+use flowrise_core::report::{self, svg::viridis};
 
 fn demo_paths() -> Vec<PathBuf> {
     let v = flowrise_tests::demo_paths();
@@ -358,15 +358,15 @@ fn the_csv_parses_back_to_the_same_rows() {
 }
 
 #[test]
-fn cividis_scale_matches_the_published_colormap() {
-    // Fixture: matplotlib 3.10.9 colormaps["cividis"] at 65 points
+fn viridis_scale_matches_the_published_colormap() {
+    // Fixture: matplotlib 3.10.9 colormaps["viridis"] at 65 points
     // (tests/reference/gen_colormap.py).
     let text = std::fs::read_to_string(flowrise_tests::fixture_path("colormap.json")).unwrap();
     let v: serde_json::Value = serde_json::from_str(&text).unwrap();
     for s in v["samples"].as_array().unwrap() {
         let t = s["t"].as_f64().unwrap();
         let want: Vec<i64> = s["rgb"].as_array().unwrap().iter().map(|x| x.as_i64().unwrap()).collect();
-        let got = cividis(t);
+        let got = viridis(t);
         // At the embedded stops (every 1/32) the colours are the published
         // ones; between them the linear interpolation stays within 5/255 of
         // matplotlib's 256-entry lookup table (which does not interpolate).

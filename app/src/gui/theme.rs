@@ -30,13 +30,13 @@ pub const ACCENT: Color32 = Color32::from_rgb(0x0f, 0x6e, 0x6a);
 
 /// Colour of `t` ∈ [0, 1] on the run-colour scale (clamped; NaN → 0).
 ///
-/// The same scale as the report's plan: cividis (Nuñez, Anderton & Renslow
-/// 2018), perceptually uniform and readable with the common forms of
-/// colour-vision deficiency, its stops checked against matplotlib 3.10.9
-/// (`flowrise_core::report::svg::CIVIDIS_STOPS`).
+/// The same scale as the report's plan: viridis (van der Walt & Smith 2015),
+/// perceptually uniform and readable with the common forms of colour-vision
+/// deficiency, its stops checked against matplotlib 3.10.9
+/// (`flowrise_core::report::svg::VIRIDIS_STOPS`).
 #[must_use]
 pub fn scale_colour(t: f64) -> Color32 {
-    let [r, g, b] = flowrise_core::report::svg::cividis(t);
+    let [r, g, b] = flowrise_core::report::svg::viridis(t);
     Color32::from_rgb(r, g, b)
 }
 
@@ -132,10 +132,10 @@ mod tests {
 
     #[test]
     fn scale_ends_are_the_checked_table_ends_and_clamps() {
-        use flowrise_core::report::svg::CIVIDIS_STOPS;
-        let [r, g, b] = CIVIDIS_STOPS[0];
+        use flowrise_core::report::svg::VIRIDIS_STOPS;
+        let [r, g, b] = VIRIDIS_STOPS[0];
         assert_eq!(scale_colour(0.0), Color32::from_rgb(r, g, b));
-        let [r, g, b] = CIVIDIS_STOPS[CIVIDIS_STOPS.len() - 1];
+        let [r, g, b] = VIRIDIS_STOPS[VIRIDIS_STOPS.len() - 1];
         assert_eq!(scale_colour(1.0), Color32::from_rgb(r, g, b));
         assert_eq!(scale_colour(7.0), scale_colour(1.0));
         assert_eq!(scale_colour(f64::NAN), scale_colour(0.0));

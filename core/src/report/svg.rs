@@ -8,57 +8,59 @@ use crate::design::{Side, Solution, topology::Topology};
 use crate::project::{Level, NodeId, NodeKind, PlanPoint, Project, Run, RunId};
 use crate::pump::PumpControl;
 
-/// The cividis colormap (Nuñez, Anderton & Renslow 2018, PLOS ONE
-/// 13(7): e0199239), sampled every 1/32 from matplotlib 3.10.9's
-/// `colormaps["cividis"]` (script `tests/reference/gen_colormap.py`).
-/// Continuous, perceptually uniform and readable with red–green colour
-/// vision deficiency.
-pub const CIVIDIS_STOPS: [[u8; 3]; 33] = [
-    [0, 34, 78],
-    [0, 40, 91],
-    [0, 46, 106],
-    [5, 51, 113],
-    [26, 56, 111],
-    [39, 62, 110],
-    [50, 67, 109],
-    [59, 73, 108],
-    [67, 78, 108],
-    [75, 84, 108],
-    [83, 90, 109],
-    [90, 95, 110],
-    [97, 101, 111],
-    [104, 106, 113],
-    [111, 112, 115],
-    [118, 118, 118],
-    [125, 124, 120],
-    [132, 130, 121],
-    [140, 136, 120],
-    [147, 142, 120],
-    [155, 148, 118],
-    [163, 154, 116],
-    [171, 160, 114],
-    [180, 167, 111],
-    [188, 174, 108],
-    [196, 180, 104],
-    [205, 187, 99],
-    [213, 194, 94],
-    [222, 201, 88],
-    [231, 209, 80],
-    [240, 216, 70],
-    [249, 224, 58],
-    [254, 232, 56],
+/// The viridis colormap (van der Walt & Smith, "A better default colormap
+/// for matplotlib", SciPy 2015), sampled every 1/32 from matplotlib
+/// 3.10.9's `colormaps["viridis"]` (script `tests/reference/gen_colormap.py`).
+/// Continuous, perceptually uniform, readable with the common forms of
+/// colour-vision deficiency and in greyscale print; its middle is a clear
+/// teal, so no value reads as the grey of "no result". The window and the
+/// report colour runs with it.
+pub const VIRIDIS_STOPS: [[u8; 3]; 33] = [
+    [68, 1, 84],
+    [71, 13, 96],
+    [72, 24, 106],
+    [72, 35, 116],
+    [71, 45, 123],
+    [69, 55, 129],
+    [66, 64, 134],
+    [62, 73, 137],
+    [59, 82, 139],
+    [55, 91, 141],
+    [51, 99, 141],
+    [47, 107, 142],
+    [44, 114, 142],
+    [41, 122, 142],
+    [38, 130, 142],
+    [35, 137, 142],
+    [33, 145, 140],
+    [31, 152, 139],
+    [31, 160, 136],
+    [34, 167, 133],
+    [40, 174, 128],
+    [50, 182, 122],
+    [63, 188, 115],
+    [78, 195, 107],
+    [94, 201, 98],
+    [112, 207, 87],
+    [132, 212, 75],
+    [152, 216, 62],
+    [173, 220, 48],
+    [194, 223, 35],
+    [216, 226, 25],
+    [236, 229, 27],
+    [253, 231, 37],
 ];
 
-/// Colour of `t` in 0..=1 on the cividis scale (clamped; NaN → 0), linear
+/// Colour of `t` in 0..=1 on the viridis scale (clamped; NaN → 0), linear
 /// between the stops.
 #[must_use]
-pub fn cividis(t: f64) -> [u8; 3] {
+pub fn viridis(t: f64) -> [u8; 3] {
     let t = if t.is_nan() { 0.0 } else { t.clamp(0.0, 1.0) };
-    let segments = CIVIDIS_STOPS.len() - 1;
+    let segments = VIRIDIS_STOPS.len() - 1;
     let x = t * segments as f64;
     let i = (x.floor() as usize).min(segments - 1);
     let f = x - i as f64;
-    let (a, b) = (CIVIDIS_STOPS[i], CIVIDIS_STOPS[i + 1]);
+    let (a, b) = (VIRIDIS_STOPS[i], VIRIDIS_STOPS[i + 1]);
     let mix = |k: usize| (f64::from(a[k]) + f * (f64::from(b[k]) - f64::from(a[k]))).round().clamp(0.0, 255.0) as u8;
     [mix(0), mix(1), mix(2)]
 }
@@ -81,8 +83,8 @@ pub fn velocity_margin(sol: &Solution, run: RunId) -> Option<f64> {
 /// thicker and dashed over the limit.
 fn run_style(margin: Option<f64>) -> (String, f64, &'static str) {
     match margin {
-        Some(m) if m > 1.0 => (hex(cividis(1.0)), 6.0, " stroke-dasharray=\"9 5\""),
-        Some(m) => (hex(cividis(m)), 3.0, ""),
+        Some(m) if m > 1.0 => (hex(viridis(1.0)), 6.0, " stroke-dasharray=\"9 5\""),
+        Some(m) => (hex(viridis(m)), 3.0, ""),
         None => ("#bbbbbb".to_owned(), 2.0, ""),
     }
 }
@@ -91,8 +93,8 @@ fn run_style(margin: Option<f64>) -> (String, f64, &'static str) {
 fn legend(out: &mut String, x: f64, y: f64, id: &str) {
     w!(out, "<g class=\"legend\" transform=\"translate({x:.1},{y:.1})\">");
     w!(out, "<defs><linearGradient id=\"{id}\" x1=\"0\" x2=\"1\" y1=\"0\" y2=\"0\">");
-    for (i, c) in CIVIDIS_STOPS.iter().enumerate() {
-        w!(out, "<stop offset=\"{:.4}\" stop-color=\"{}\"/>", i as f64 / (CIVIDIS_STOPS.len() - 1) as f64, hex(*c));
+    for (i, c) in VIRIDIS_STOPS.iter().enumerate() {
+        w!(out, "<stop offset=\"{:.4}\" stop-color=\"{}\"/>", i as f64 / (VIRIDIS_STOPS.len() - 1) as f64, hex(*c));
     }
     out.push_str("</linearGradient></defs>");
     out.push_str("<rect x=\"-6\" y=\"-16\" width=\"244\" height=\"50\" fill=\"#ffffff\" fill-opacity=\"0.9\" stroke=\"#cccccc\"/>");
