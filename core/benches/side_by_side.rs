@@ -5,7 +5,9 @@
 //! stages of a cold solve (new workspace) and the warm drag cycle.
 //!
 //! Run: `cargo bench -p flowrise-core --bench side_by_side -- <dir> <repeat> <emitters>...`
-//! (emitters one of 100, 1000, 10000, 50000).
+//! (emitters one of 100, 1000, 10000, 50000). For profiling the drag alone,
+//! `SIDE_BY_SIDE_WARM_REPEAT=N` runs the warm drag cycle N times instead of
+//! `<repeat>` times.
 
 #![allow(clippy::expect_used, clippy::unwrap_used)] // reason: benchmark harness, not product code
 
@@ -62,13 +64,17 @@ fn main() {
         let mut ws = Workspace::default();
         let _ = solve_project(&drag, &opts, &mut ws);
         let (mut w_op, mut w_total, mut w_it) = (vec![], vec![], vec![]);
-        for i in 0..repeat {
+        let (mut w_derive, mut w_design) = (vec![], vec![]);
+        let warm_repeat = std::env::var("SIDE_BY_SIDE_WARM_REPEAT").ok().and_then(|v| v.parse().ok()).unwrap_or(repeat);
+        for i in 0..warm_repeat {
             let dx = if i % 2 == 0 { 0.05 } else { -0.05 };
             let t = Instant::now();
             drag.apply(Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 }).expect("move");
             let s = solve_project(&drag, &opts, &mut ws);
             w_total.push(t.elapsed().as_secs_f64() * 1e3);
             w_op.push(s.timings.operate_ms);
+            w_derive.push(s.timings.derive_ms);
+            w_design.push(s.timings.design_ms);
             w_it.push(s.iterations as f64);
         }
         println!(
@@ -80,6 +86,7 @@ fn main() {
                 "cold_derive_ms": median(&mut derive), "cold_design_ms": median(&mut design),
                 "cold_operate_ms": median(&mut operate), "cold_total_ms": median(&mut total),
                 "cold_iterations": median(&mut iters),
+                "warm_derive_ms": median(&mut w_derive), "warm_design_ms": median(&mut w_design),
                 "warm_operate_ms": median(&mut w_op), "warm_edit_to_results_ms": median(&mut w_total),
                 "warm_iterations": median(&mut w_it),
             })

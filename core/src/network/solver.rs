@@ -432,17 +432,26 @@ fn eval_law(law: &LinkLaw, m: f64) -> (f64, f64) {
 }
 
 /// Every node and link value checked (topology is checked by the
-/// workspace).
-fn validate_values(net: &HydraulicNetwork) -> Result<(), SolveError> {
+/// workspace). A link law equal to the one validated at the workspace's last
+/// solve is not checked again; a changed law is checked, remembered, and its
+/// cached evaluation dropped.
+fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<(), SolveError> {
     check::finite("reference pressure", net.reference_pressure_pa, "Pa")
         .map_err(SolveError::InvalidReferencePressure)?;
     for (node, n) in net.nodes.iter().enumerate() {
-        check::finite("node elevation", n.elevation_m, "m")
-            .and_then(|_| check::finite("node demand", n.demand_kg_s, "kg/s"))
-            .map_err(|source| SolveError::InvalidNode { node, source })?;
+        if !(n.elevation_m.is_finite() && n.demand_kg_s.is_finite()) {
+            check::finite("node elevation", n.elevation_m, "m")
+                .and_then(|_| check::finite("node demand", n.demand_kg_s, "kg/s"))
+                .map_err(|source| SolveError::InvalidNode { node, source })?;
+        }
     }
     for (link, l) in net.links.iter().enumerate() {
-        let checked = check::positive("link water density", l.density_kg_m3, "kg/m³").and_then(|_| match l.law {
+        check::positive("link water density", l.density_kg_m3, "kg/m³")
+            .map_err(|source| SolveError::InvalidLink { link, source })?;
+        if ws.known_law[link].as_ref() == Some(&l.law) {
+            continue;
+        }
+        let checked = match l.law {
             LinkLaw::Pipe(ref p) => PipeHydraulics::new(
                 p.length_m,
                 p.inner_diameter_m,
@@ -459,8 +468,13 @@ fn validate_values(net: &HydraulicNetwork) -> Result<(), SolveError> {
                 .and_then(|_| check::finite("pump coefficient a1", a1_pa_s_kg, "Pa·s/kg"))
                 .and_then(|_| check::finite("pump coefficient a2", a2_pa_s2_kg2, "Pa·s²/kg²"))
                 .map(|_| ()),
-        });
+        };
         checked.map_err(|source| SolveError::InvalidLink { link, source })?;
+        match &mut ws.known_law[link] {
+            Some(known) => known.clone_from(&l.law),
+            slot => *slot = Some(l.law.clone()),
+        }
+        ws.eval_flow_kg_s[link] = f64::NAN;
     }
     Ok(())
 }
@@ -496,7 +510,7 @@ pub fn solve(
         *workspace = SolverWorkspace::new(net)?;
         timings.symbolic_us = micros(t);
     }
-    validate_values(net)?;
+    validate_values(net, workspace)?;
     if let Some(init) = initial_flows_kg_s {
         if init.len() != net.links.len() {
             return Err(SolveError::InitialFlowCount { expected: net.links.len(), got: init.len() });
@@ -584,7 +598,14 @@ fn prepare(
     ws.sign_flips.iter_mut().for_each(|v| *v = 0);
     ws.rel_pressure_pa.iter_mut().for_each(|v| *v = 0.0);
 
-    // Parts cut off by closed links: one anchor each.
+    // Parts cut off by closed links: one anchor each. When the open flags
+    // are those of the last solve and it had no such part, there is none.
+    if !ws.last_had_isolated && ws.last_open == ws.open {
+        ws.anchors.clear();
+        return Ok(Vec::new());
+    }
+    ws.last_open.clone_from(&ws.open);
+    ws.last_had_isolated = true;
     ws.anchors.clear();
     let mut isolated = Vec::new();
     let open = std::mem::take(&mut ws.open);
@@ -608,6 +629,7 @@ fn prepare(
     }
     ws.open = open;
     result?;
+    ws.last_had_isolated = !isolated.is_empty();
     isolated.sort_unstable();
     Ok(isolated)
 }
@@ -659,7 +681,17 @@ fn evaluate_links(
             continue;
         }
         let m = ws.flow_kg_s[k];
-        let (drop_pa, slope) = eval_law(&l.law, m);
+        // Same flow as the last evaluation of this (unchanged) law: reuse it
+        // (a warm start from the last answer re-evaluates nothing here).
+        let (drop_pa, slope) = if ws.eval_flow_kg_s[k].to_bits() == m.to_bits() {
+            (ws.eval_drop_pa[k], ws.eval_slope_pa_s_kg[k])
+        } else {
+            let (d, s) = eval_law(&l.law, m);
+            ws.eval_flow_kg_s[k] = m;
+            ws.eval_drop_pa[k] = d;
+            ws.eval_slope_pa_s_kg[k] = s;
+            (d, s)
+        };
         ws.drop_pa[k] = drop_pa;
         ws.slope_pa_s_kg[k] = slope;
         let (i, j) = ws.endpoints[k];

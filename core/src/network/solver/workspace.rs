@@ -9,7 +9,9 @@ use faer::Par;
 use faer::Side;
 use faer::dyn_stack::{MemBuffer, StackReq};
 use faer::sparse::SymbolicSparseColMat;
-use faer::sparse::linalg::cholesky::{SymbolicCholesky, SymmetricOrdering, factorize_symbolic_cholesky};
+use faer::sparse::linalg::cholesky::{
+    SymbolicCholesky, SymbolicCholeskyRaw, SymmetricOrdering, factorize_symbolic_cholesky,
+};
 
 use super::SolveError;
 use crate::network::HydraulicNetwork;
@@ -79,6 +81,23 @@ pub struct SolverWorkspace {
     /// One node per part of the network cut off from the reference node by
     /// closed links; its diagonal is reinforced (see `solve`).
     pub(super) anchors: Vec<usize>,
+
+    // --- kept from the last solve (see `solve`) ---
+    /// Link law of each link at the last solve, already validated; a link
+    /// whose law is unchanged is not validated again.
+    pub(super) known_law: Vec<Option<crate::network::LinkLaw>>,
+    /// Flow at which `eval_drop_pa` / `eval_slope_pa_s_kg` were evaluated
+    /// (NaN: nothing cached). A warm start from the last answer hits this
+    /// for every link whose law did not change.
+    pub(super) eval_flow_kg_s: Vec<f64>,
+    /// Cached F_k at `eval_flow_kg_s`, Pa.
+    pub(super) eval_drop_pa: Vec<f64>,
+    /// Cached F'_k at `eval_flow_kg_s` (not floored), Pa·s/kg.
+    pub(super) eval_slope_pa_s_kg: Vec<f64>,
+    /// Open flags of the last solve and whether it had isolated parts: the
+    /// connectivity search is skipped when nothing opened or closed.
+    pub(super) last_open: Vec<bool>,
+    pub(super) last_had_isolated: bool,
 }
 
 impl std::fmt::Debug for SolverWorkspace {
@@ -160,60 +179,39 @@ impl SolverWorkspace {
         }
         let n_red = next;
 
-        // Upper-triangle pattern (row < col off the diagonal), CSC: sort the
-        // off-diagonal pairs by (col, row), drop duplicates (parallel links).
-        let mut pairs: Vec<(usize, usize)> = ws
-            .endpoints
-            .iter()
-            .filter_map(|&(i, j)| {
-                let (ri, rj) = (reduced_row[i], reduced_row[j]);
-                (ri != NONE && rj != NONE).then(|| (ri.max(rj), ri.min(rj)))
-            })
-            .collect();
-        pairs.sort_unstable();
-        pairs.dedup();
-        let mut col_ptr = vec![0usize; n_red + 1];
-        for &(col, _) in &pairs {
-            col_ptr[col + 1] += 1;
-        }
-        for col in 0..n_red {
-            // + 1 for the diagonal, stored last in its column (largest row).
-            col_ptr[col + 1] += col_ptr[col] + 1;
-        }
-        let nnz = col_ptr[n_red];
-        let mut row_idx = vec![0usize; nnz];
-        let mut diag_slot = vec![0usize; n_red];
-        {
-            let mut p = 0usize;
-            for col in 0..n_red {
-                let start = col_ptr[col];
-                let mut slot = start;
-                while p < pairs.len() && pairs[p].0 == col {
-                    row_idx[slot] = pairs[p].1;
-                    slot += 1;
-                    p += 1;
-                }
-                row_idx[slot] = col;
-                diag_slot[col] = slot;
-            }
-        }
-        let mut link_slot = vec![NONE; n_links];
-        for (k, &(i, j)) in ws.endpoints.iter().enumerate() {
-            let (ri, rj) = (reduced_row[i], reduced_row[j]);
-            if ri != NONE && rj != NONE {
-                let (col, row) = (ri.max(rj), ri.min(rj));
-                let rows = &row_idx[col_ptr[col]..col_ptr[col + 1]];
-                if let Ok(pos) = rows.binary_search(&row) {
-                    link_slot[k] = col_ptr[col] + pos;
-                }
-            }
-        }
+        let (mut reduced_row, n_red) = (reduced_row, n_red);
+        let mut built = build_pattern(&ws.endpoints, &reduced_row, n_red, n_links);
 
         if n_red > 0 {
-            let pattern = SymbolicSparseColMat::new_checked(n_red, n_red, col_ptr, None, row_idx);
-            let symbolic =
-                factorize_symbolic_cholesky(pattern.as_ref(), Side::Upper, SymmetricOrdering::Amd, Default::default())
-                    .map_err(|e| SolveError::Factorisation(format!("symbolic analysis: {e:?}")))?;
+            let mut symbolic = factorize_symbolic_cholesky(
+                built.pattern.as_ref(),
+                Side::Upper,
+                SymmetricOrdering::Amd,
+                Default::default(),
+            )
+            .map_err(|e| SolveError::Factorisation(format!("symbolic analysis: {e:?}")))?;
+            // Number the reduced rows in the fill-reducing order itself and
+            // analyse again without reordering: the numeric factorisation
+            // then reads the matrix as it is assembled, instead of permuting
+            // it on every iteration (same factor, same fill).
+            if matches!(symbolic.raw(), SymbolicCholeskyRaw::Simplicial(_))
+                && let Some(perm) = symbolic.perm()
+            {
+                let (_, inverse) = perm.arrays();
+                let renumbered: Vec<usize> =
+                    reduced_row.iter().map(|&r| if r == NONE { NONE } else { inverse[r] }).collect();
+                let rebuilt = build_pattern(&ws.endpoints, &renumbered, n_red, n_links);
+                if let Ok(identity) = factorize_symbolic_cholesky(
+                    rebuilt.pattern.as_ref(),
+                    Side::Upper,
+                    SymmetricOrdering::Identity,
+                    Default::default(),
+                ) {
+                    reduced_row = renumbered;
+                    built = rebuilt;
+                    symbolic = identity;
+                }
+            }
             let req = StackReq::any_of(&[
                 symbolic.factorize_numeric_llt_scratch::<f64>(Par::Seq, Default::default()),
                 symbolic.solve_in_place_scratch::<f64>(1, Par::Seq),
@@ -221,15 +219,17 @@ impl SolverWorkspace {
             let stack = MemBuffer::try_new(req)
                 .map_err(|_| SolveError::Factorisation("out of memory for the factor workspace".into()))?;
             ws.factor_values = vec![0.0; symbolic.len_val()];
-            ws.values = vec![0.0; nnz];
-            ws.pattern = Some(pattern);
+            ws.values = vec![0.0; built.nnz];
             ws.symbolic = Some(symbolic);
             ws.stack = Some(stack);
         }
+        ws.diag_slot = built.diag_slot;
+        ws.link_slot = built.link_slot;
+        if n_red > 0 {
+            ws.pattern = Some(built.pattern);
+        }
 
         ws.reduced_row = reduced_row;
-        ws.diag_slot = diag_slot;
-        ws.link_slot = link_slot;
         ws.flow_kg_s = vec![0.0; n_links];
         ws.step_kg_s = vec![0.0; n_links];
         ws.last_significant_step_kg_s = vec![0.0; n_links];
@@ -244,6 +244,11 @@ impl SolverWorkspace {
         ws.rel_pressure_old_pa = vec![0.0; n];
         ws.rhs = vec![0.0; n_red];
         ws.anchors = Vec::with_capacity(n);
+        ws.known_law = vec![None; n_links];
+        ws.eval_flow_kg_s = vec![f64::NAN; n_links];
+        ws.eval_drop_pa = vec![0.0; n_links];
+        ws.eval_slope_pa_s_kg = vec![0.0; n_links];
+        ws.last_open = Vec::new();
         Ok(ws)
     }
 
@@ -255,6 +260,15 @@ impl SolverWorkspace {
             && self.reference_node == net.reference_node
             && self.endpoints.len() == net.links.len()
             && self.endpoints.iter().zip(&net.links).all(|(&(i, j), l)| i == l.from && j == l.to)
+    }
+
+    /// Pressure drop F_k of each link along its direction at the flows of
+    /// the last solve, Pa, static term excluded (0 for closed links): what
+    /// [`super::link_dp`] gives at [`super::SolveReport::flows_kg_s`], without
+    /// evaluating the laws again. Empty before the first solve.
+    #[must_use]
+    pub fn link_drops_pa(&self) -> &[f64] {
+        &self.drop_pa
     }
 
     /// Number of stored entries of the upper triangle of the reduced matrix.
@@ -301,6 +315,68 @@ impl SolverWorkspace {
             }
         }
     }
+}
+
+/// The upper-triangle pattern of the reduced matrix and the value slots.
+struct Pattern {
+    pattern: SymbolicSparseColMat<usize>,
+    nnz: usize,
+    diag_slot: Vec<usize>,
+    link_slot: Vec<usize>,
+}
+
+/// Upper-triangle pattern (row < col off the diagonal), CSC, for the reduced
+/// row numbering `reduced_row`: sort the off-diagonal pairs by (col, row),
+/// drop duplicates (parallel links); the diagonal is stored last in its
+/// column.
+fn build_pattern(endpoints: &[(usize, usize)], reduced_row: &[usize], n_red: usize, n_links: usize) -> Pattern {
+    let mut pairs: Vec<(usize, usize)> = endpoints
+        .iter()
+        .filter_map(|&(i, j)| {
+            let (ri, rj) = (reduced_row[i], reduced_row[j]);
+            (ri != NONE && rj != NONE).then(|| (ri.max(rj), ri.min(rj)))
+        })
+        .collect();
+    pairs.sort_unstable();
+    pairs.dedup();
+    let mut col_ptr = vec![0usize; n_red + 1];
+    for &(col, _) in &pairs {
+        col_ptr[col + 1] += 1;
+    }
+    for col in 0..n_red {
+        // + 1 for the diagonal, stored last in its column (largest row).
+        col_ptr[col + 1] += col_ptr[col] + 1;
+    }
+    let nnz = col_ptr[n_red];
+    let mut row_idx = vec![0usize; nnz];
+    let mut diag_slot = vec![0usize; n_red];
+    {
+        let mut p = 0usize;
+        for col in 0..n_red {
+            let start = col_ptr[col];
+            let mut slot = start;
+            while p < pairs.len() && pairs[p].0 == col {
+                row_idx[slot] = pairs[p].1;
+                slot += 1;
+                p += 1;
+            }
+            row_idx[slot] = col;
+            diag_slot[col] = slot;
+        }
+    }
+    let mut link_slot = vec![NONE; n_links];
+    for (k, &(i, j)) in endpoints.iter().enumerate() {
+        let (ri, rj) = (reduced_row[i], reduced_row[j]);
+        if ri != NONE && rj != NONE {
+            let (col, row) = (ri.max(rj), ri.min(rj));
+            let rows = &row_idx[col_ptr[col]..col_ptr[col + 1]];
+            if let Ok(pos) = rows.binary_search(&row) {
+                link_slot[k] = col_ptr[col] + pos;
+            }
+        }
+    }
+    let pattern = SymbolicSparseColMat::new_checked(n_red, n_red, col_ptr, None, row_idx);
+    Pattern { pattern, nnz, diag_slot, link_slot }
 }
 
 /// Index checks of the topology (before anything is indexed).
