@@ -166,8 +166,8 @@ fn slopes(inst: &InstalledEmitter, m: f64, supply_c: f64, room_c: f64, out: Flow
     let dphi_dl = (ch.output_w(lmtd * (1.0 + eps)) - ch.output_w(lmtd * (1.0 - eps))) / (2.0 * eps * lmtd);
     let cp = out.output_w / (m * delta);
     let hd = 1e-4 * delta;
-    let cp_hi = water::mean_cp_j_kg_k(supply_c, supply_c - delta - hd).ok()?;
-    let cp_lo = water::mean_cp_j_kg_k(supply_c, supply_c - delta + hd).ok()?;
+    let cp_hi = water::mean_cp_tabulated_j_kg_k(supply_c, supply_c - delta - hd).ok()?;
+    let cp_lo = water::mean_cp_tabulated_j_kg_k(supply_c, supply_c - delta + hd).ok()?;
     let dcp_ddelta = (cp_hi - cp_lo) / (2.0 * hd);
     // ∂h/∂Δ and ∂h/∂m.
     let h_delta = m * (cp + dcp_ddelta * delta) - dphi_dl * dl_ddelta;

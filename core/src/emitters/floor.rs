@@ -253,6 +253,26 @@ impl FloorCharacteristic {
         if target == 0.0 {
             return 0.0;
         }
+        BASIC_CURVE_COEFFICIENT * self.surface_excess_for_k(target).powf(BASIC_CURVE_EXPONENT)
+    }
+
+    /// Heat flux (W/m²) and its derivative against ΔθH (W/(m²·K)) at
+    /// ΔθH = `medium_difference_k`: with q = c·s^1.1 and ΔθH = s + R·q,
+    /// dq/dΔθH = q'(s)/(1 + R·q'(s)).
+    #[must_use]
+    pub fn heat_flux_and_slope(&self, medium_difference_k: f64) -> (f64, f64) {
+        let target = medium_difference_k.max(0.0);
+        if target == 0.0 {
+            return (0.0, 0.0);
+        }
+        let s = self.surface_excess_for_k(target);
+        let q = BASIC_CURVE_COEFFICIENT * s.powf(BASIC_CURVE_EXPONENT);
+        let dq_ds = BASIC_CURVE_EXPONENT * q / s;
+        (q, dq_ds / (1.0 + self.resistance_m2k_w * dq_ds))
+    }
+
+    /// The surface excess s at ΔθH = `target` (> 0), K.
+    fn surface_excess_for_k(&self, target: f64) -> f64 {
         let r = self.resistance_m2k_w;
         let mut s = target;
         for _ in 0..60 {
@@ -266,13 +286,18 @@ impl FloorCharacteristic {
                 break;
             }
         }
-        BASIC_CURVE_COEFFICIENT * s.powf(BASIC_CURVE_EXPONENT)
+        s
     }
 }
 
 impl Characteristic for FloorCharacteristic {
     fn output_w(&self, lmtd_k: f64) -> f64 {
         self.area_m2 * self.heat_flux_w_m2(lmtd_k)
+    }
+
+    fn output_and_slope(&self, lmtd_k: f64) -> (f64, f64) {
+        let (q, dq) = self.heat_flux_and_slope(lmtd_k);
+        (self.area_m2 * q, self.area_m2 * dq)
     }
 
     fn lmtd_for_output_k(&self, output_w: f64) -> f64 {

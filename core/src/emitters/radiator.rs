@@ -65,6 +65,12 @@ impl Characteristic for RadiatorRating {
         self.nominal_output_w * (lmtd_k.max(0.0) / NOMINAL_LMTD_K).powf(self.exponent_n)
     }
 
+    fn output_and_slope(&self, lmtd_k: f64) -> (f64, f64) {
+        let q = self.output_w(lmtd_k);
+        // Power law: dΦ/dΔT = n·Φ/ΔT.
+        (q, if lmtd_k > 0.0 { self.exponent_n * q / lmtd_k } else { 0.0 })
+    }
+
     fn lmtd_for_output_k(&self, output_w: f64) -> f64 {
         NOMINAL_LMTD_K * (output_w.max(0.0) / self.nominal_output_w).powf(1.0 / self.exponent_n)
     }
