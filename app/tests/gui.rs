@@ -415,3 +415,16 @@ fn a_project_starts_from_a_building_outline() {
     assert_eq!(h.state().solution().emitters.len(), 24, "the new building is solved");
     assert!(h.query_by_label_contains("Create project").is_none(), "the form closes");
 }
+
+#[test]
+fn the_parts_tab_follows_the_open_document() {
+    let mut h = harness(demo(FLAT));
+    h.get_by_label("Parts list").click();
+    h.run();
+    let has_header = |h: &Harness<'_, FlowriseApp>| h.query_all_by_label_contains("header").next().is_some();
+    assert!(!has_header(&h), "the flat has no header");
+    // Another document with the same revision numbers: the list is made anew.
+    h.state_mut().replace_project(demo(APARTMENT), None);
+    h.run();
+    assert!(has_header(&h), "the apartment block's headers are listed");
+}

@@ -332,7 +332,7 @@ impl Acc {
             .filter(|(_, (_, q, _))| *q > 0.0)
             .map(|((category, item, size, note), (unit, quantity, serves))| {
                 let mut serves: Vec<String> = serves.into_iter().collect();
-                serves.sort_by(|a, b| natural_cmp(a, b));
+                serves.sort_unstable_by(|a, b| natural_cmp(a, b));
                 let quantity = match unit {
                     PartUnit::Metre => metres(quantity),
                     PartUnit::Piece => quantity.round(),
@@ -352,31 +352,36 @@ fn compare_lines(a: &PartLine, b: &PartLine) -> Ordering {
 }
 
 /// Compare strings with digit runs compared as numbers ("DN8" < "DN15").
+/// Allocation-free: it runs for every comparison of long "serves" lists.
 fn natural_cmp(a: &str, b: &str) -> Ordering {
-    fn chunks(s: &str) -> Vec<(bool, String)> {
-        let mut out: Vec<(bool, String)> = Vec::new();
-        for c in s.chars() {
-            let d = c.is_ascii_digit();
-            match out.last_mut() {
-                Some((kind, text)) if *kind == d => text.push(c),
-                _ => out.push((d, c.to_string())),
+    /// The next run of digits or of non-digits, and the rest.
+    fn chunk(s: &str) -> Option<(bool, &str, &str)> {
+        let first = s.chars().next()?;
+        let digit = first.is_ascii_digit();
+        let end = s.find(|c: char| c.is_ascii_digit() != digit).unwrap_or(s.len());
+        Some((digit, &s[..end], &s[end..]))
+    }
+    let (mut ra, mut rb) = (a, b);
+    loop {
+        match (chunk(ra), chunk(rb)) {
+            (Some((da, ta, next_a)), Some((db, tb, next_b))) => {
+                let o = if da && db {
+                    let (na, nb) = (ta.trim_start_matches('0'), tb.trim_start_matches('0'));
+                    na.len().cmp(&nb.len()).then_with(|| na.cmp(nb))
+                } else {
+                    ta.cmp(tb)
+                };
+                if o != Ordering::Equal {
+                    return o;
+                }
+                (ra, rb) = (next_a, next_b);
             }
-        }
-        out
-    }
-    let (ca, cb) = (chunks(a), chunks(b));
-    for ((da, ta), (db, tb)) in ca.iter().zip(&cb) {
-        let o = if *da && *db {
-            let (na, nb) = (ta.trim_start_matches('0'), tb.trim_start_matches('0'));
-            na.len().cmp(&nb.len()).then_with(|| na.cmp(nb))
-        } else {
-            ta.cmp(tb)
-        };
-        if o != Ordering::Equal {
-            return o;
+            // Fewer chunks sort first; equal chunk lists fall back to the text.
+            (None, Some(_)) => return Ordering::Less,
+            (Some(_), None) => return Ordering::Greater,
+            (None, None) => return a.cmp(b),
         }
     }
-    ca.len().cmp(&cb.len()).then_with(|| a.cmp(b))
 }
 
 fn series_of(pr: &PipeResult) -> PhysicsResult<&'static pipes::PipeSeries> {
@@ -936,6 +941,73 @@ mod tests {
         let mut v = vec!["DN25", "DN8", "DN15", "16x2", "DN20 × DN15", "DN20"];
         v.sort_by(|a, b| natural_cmp(a, b));
         assert_eq!(v, ["16x2", "DN8", "DN15", "DN20", "DN20 × DN15", "DN25"]);
+    }
+
+    /// The earlier, allocating implementation: the yardstick of the
+    /// allocation-free one.
+    fn natural_cmp_by_chunks(a: &str, b: &str) -> Ordering {
+        fn chunks(s: &str) -> Vec<(bool, String)> {
+            let mut out: Vec<(bool, String)> = Vec::new();
+            for c in s.chars() {
+                let d = c.is_ascii_digit();
+                match out.last_mut() {
+                    Some((kind, text)) if *kind == d => text.push(c),
+                    _ => out.push((d, c.to_string())),
+                }
+            }
+            out
+        }
+        let (ca, cb) = (chunks(a), chunks(b));
+        for ((da, ta), (db, tb)) in ca.iter().zip(&cb) {
+            let o = if *da && *db {
+                let (na, nb) = (ta.trim_start_matches('0'), tb.trim_start_matches('0'));
+                na.len().cmp(&nb.len()).then_with(|| na.cmp(nb))
+            } else {
+                ta.cmp(tb)
+            };
+            if o != Ordering::Equal {
+                return o;
+            }
+        }
+        ca.len().cmp(&cb.len()).then_with(|| a.cmp(b))
+    }
+
+    #[test]
+    fn natural_order_agrees_with_the_chunked_definition() {
+        let words = [
+            "",
+            "0",
+            "00",
+            "007",
+            "7",
+            "R1",
+            "R01",
+            "R10",
+            "R2",
+            "E1.2",
+            "E1.10",
+            "E1.2a",
+            "Room 0.1.10",
+            "Room 0.1.9",
+            "DN20 × DN15",
+            "DN20",
+            "16x2",
+            "a",
+            "A",
+            "é3",
+            "é12",
+            "x",
+            "12x",
+            "12",
+            "1 2",
+            "R1 ",
+            "R",
+        ];
+        for a in words {
+            for b in words {
+                assert_eq!(natural_cmp(a, b), natural_cmp_by_chunks(a, b), "{a:?} vs {b:?}");
+            }
+        }
     }
 
     #[test]

@@ -64,6 +64,19 @@ pub struct DrawerState {
     pub tab: Tab,
     /// Sweep and part-load inputs and results.
     pub scenarios: super::scenarios::ScenarioState,
+    /// The parts list shown, for (project revision, solution revision): it
+    /// is made once per solve, not every frame.
+    parts: Option<((u64, u64), Result<flowrise_core::parts::PartsList, String>)>,
+}
+
+impl DrawerState {
+    /// Drop results that belong to the previous document (New/Open): they
+    /// are keyed by revision, and revisions restart with each document.
+    pub fn forget_results(&mut self) {
+        self.parts = None;
+        self.scenarios.sweep = None;
+        self.scenarios.part_load = None;
+    }
 }
 
 /// Show the drawer.
@@ -97,7 +110,7 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
             }
             Tab::Pump => pump_chart(ui, sol, &st.scenarios, project.revision),
             Tab::Profile => profile_chart(ui, sol),
-            Tab::Parts => parts_table(ui, project, sol, out),
+            Tab::Parts => parts_table(ui, project, sol, &mut st.parts, out),
             Tab::Sweep => super::scenarios::sweep_view(ui, project, &mut st.scenarios),
             Tab::PartLoad => super::scenarios::part_load_view(ui, project, &mut st.scenarios),
         }
@@ -105,7 +118,14 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
 }
 
 /// The installer's parts list of the solved design, with the exports.
-fn parts_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents) {
+#[allow(clippy::type_complexity)] // reason: the cache's own field type, used once
+fn parts_table(
+    ui: &mut Ui,
+    project: &Project,
+    sol: &Solution,
+    cache: &mut Option<((u64, u64), Result<flowrise_core::parts::PartsList, String>)>,
+    out: &mut Intents,
+) {
     ui.horizontal(|ui| {
         for a in [super::actions::Action::ExportParts, super::actions::Action::ExportReport] {
             if ui.button(a.label()).on_hover_text(a.tooltip()).clicked() {
@@ -113,12 +133,17 @@ fn parts_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
             }
         }
     });
-    let list = match super::export::parts_of(project, sol) {
-        Ok(l) => l,
-        Err(e) => {
+    let key = (project.revision, sol.revision);
+    if cache.as_ref().is_none_or(|(k, _)| *k != key) {
+        *cache = Some((key, super::export::parts_of(project, sol)));
+    }
+    let list = match cache.as_ref().map(|(_, l)| l) {
+        Some(Ok(l)) => l,
+        Some(Err(e)) => {
             ui.label(RichText::new(e).color(theme::ERROR));
             return;
         }
+        None => return,
     };
     ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| {
         Grid::new("parts_table").striped(true).num_columns(6).show(ui, |ui| {

@@ -393,6 +393,7 @@ impl FlowriseApp {
         self.path = path;
         self.history.clear();
         self.solver.reset();
+        self.drawer.forget_results();
         self.selection = Selection::None;
         self.inspector = fields::FieldState::default();
     }
