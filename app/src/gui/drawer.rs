@@ -185,77 +185,176 @@ fn header(ui: &mut Ui, cols: &[&str]) {
     ui.end_row();
 }
 
-fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents) {
-    ScrollArea::both().auto_shrink([false, false]).show(ui, |ui| {
-        Grid::new("pipes_table").striped(true).num_columns(10).show(ui, |ui| {
-            header(
-                ui,
-                &["Run", "Side", "Class", "Size", "Length m", "Flow l/h", "v m/s", "v limit", "R Pa/m", "Δp kPa"],
-            );
-            for p in &sol.pipes {
-                if ui.selectable_label(false, p.run.to_string()).on_hover_text("Select and centre").clicked() {
-                    out.centre_on = Some(ItemRef::Run(p.run));
+/// Row height of the virtualised tables.
+const ROW_H: f32 = 20.0;
+
+/// A header or body row of fixed-width cells, so a table can be drawn one
+/// visible row at a time (a 10,000-emitter building has 60,000 pipe rows)
+/// and stay aligned with its header. Odd rows get the stripe.
+fn table_row(ui: &mut Ui, widths: &[f32], stripe: bool, mut cell: impl FnMut(&mut Ui, usize)) {
+    let total: f32 = widths.iter().sum::<f32>() + ui.spacing().item_spacing.x * widths.len() as f32;
+    let rect = egui::Rect::from_min_size(ui.cursor().min, egui::vec2(total, ROW_H));
+    if stripe {
+        ui.painter().rect_filled(rect, 0, ui.visuals().faint_bg_color);
+    }
+    ui.horizontal(|ui| {
+        for (i, &w) in widths.iter().enumerate() {
+            ui.allocate_ui_with_layout(egui::vec2(w, ROW_H), egui::Layout::left_to_right(egui::Align::Center), |ui| {
+                ui.set_min_width(w);
+                ui.set_max_width(w);
+                cell(ui, i);
+            });
+        }
+    });
+}
+
+/// A truncating label (full text on hover when cut).
+fn cell_label(ui: &mut Ui, text: impl Into<egui::WidgetText>) -> egui::Response {
+    ui.add(egui::Label::new(text).truncate())
+}
+
+/// A fixed-width table: header row, then only the visible body rows.
+fn virtual_table(
+    ui: &mut Ui,
+    id: &str,
+    columns: &[(&str, f32)],
+    rows: usize,
+    mut cell: impl FnMut(&mut Ui, usize, usize),
+) {
+    let widths: Vec<f32> = columns.iter().map(|c| c.1).collect();
+    ScrollArea::horizontal().id_salt(id).auto_shrink([false, false]).show(ui, |ui| {
+        ui.vertical(|ui| {
+            table_row(ui, &widths, false, |ui, i| {
+                if let Some((name, _)) = columns.get(i) {
+                    ui.label(RichText::new(*name).strong());
                 }
-                ui.label(if p.side == Side::Supply { "supply" } else { "return" });
-                ui.label(p.class.name());
-                ui.label(&p.size);
-                ui.label(format!("{:.1}", p.length_m));
-                ui.label(format!("{:.0}", p.flow_l_h));
-                let over = p.velocity_m_s > p.velocity_limit_m_s;
-                let v = RichText::new(format!("{:.2}", p.velocity_m_s));
-                ui.label(if over { v.color(theme::ERROR) } else { v });
-                ui.label(format!("{:.1}", p.velocity_limit_m_s));
-                let r = RichText::new(format!("{:.0}", p.gradient_pa_m));
-                ui.label(if p.gradient_pa_m > project.settings.gradient_limit_pa_m {
-                    r.color(theme::WARNING)
-                } else {
-                    r
-                });
-                ui.label(format!("{:.2}", p.dp_pa / 1000.0));
-                ui.end_row();
-            }
+            });
+            let row_h = ROW_H;
+            ScrollArea::vertical().id_salt((id, "rows")).auto_shrink([false, false]).show_rows(
+                ui,
+                row_h,
+                rows,
+                |ui, range| {
+                    for r in range {
+                        table_row(ui, &widths, r % 2 == 1, |ui, c| cell(ui, r, c));
+                    }
+                },
+            );
         });
     });
 }
 
+fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents) {
+    const COLUMNS: [(&str, f32); 10] = [
+        ("Run", 60.0),
+        ("Side", 55.0),
+        ("Class", 80.0),
+        ("Size", 70.0),
+        ("Length m", 65.0),
+        ("Flow l/h", 65.0),
+        ("v m/s", 55.0),
+        ("v limit", 55.0),
+        ("R Pa/m", 60.0),
+        ("Δp kPa", 60.0),
+    ];
+    let limit = project.settings.gradient_limit_pa_m;
+    virtual_table(ui, "pipes_table", &COLUMNS, sol.pipes.len(), |ui, r, c| {
+        let Some(p) = sol.pipes.get(r) else { return };
+        match c {
+            0 => {
+                if ui.selectable_label(false, p.run.to_string()).on_hover_text("Select and centre").clicked() {
+                    out.centre_on = Some(ItemRef::Run(p.run));
+                }
+            }
+            1 => {
+                cell_label(ui, if p.side == Side::Supply { "supply" } else { "return" });
+            }
+            2 => {
+                cell_label(ui, p.class.name());
+            }
+            3 => {
+                cell_label(ui, p.size.as_str());
+            }
+            4 => {
+                cell_label(ui, format!("{:.1}", p.length_m));
+            }
+            5 => {
+                cell_label(ui, format!("{:.0}", p.flow_l_h));
+            }
+            6 => {
+                let v = RichText::new(format!("{:.2}", p.velocity_m_s));
+                cell_label(ui, if p.velocity_m_s > p.velocity_limit_m_s { v.color(theme::ERROR) } else { v });
+            }
+            7 => {
+                cell_label(ui, format!("{:.1}", p.velocity_limit_m_s));
+            }
+            8 => {
+                let g = RichText::new(format!("{:.0}", p.gradient_pa_m));
+                cell_label(ui, if p.gradient_pa_m > limit { g.color(theme::WARNING) } else { g });
+            }
+            _ => {
+                cell_label(ui, format!("{:.2}", p.dp_pa / 1000.0));
+            }
+        }
+    });
+}
+
 fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
-    ScrollArea::both().auto_shrink([false, false]).show(ui, |ui| {
-        Grid::new("emitters_table").striped(true).num_columns(10).show(ui, |ui| {
-            header(
-                ui,
-                &[
-                    "Emitter",
-                    "Level",
-                    "Load W",
-                    "Output W",
-                    "Design l/h",
-                    "Flow l/h",
-                    "Return °C",
-                    "Presetting",
-                    "Authority",
-                    "Circuit kPa",
-                ],
-            );
-            for e in &sol.emitters {
+    const COLUMNS: [(&str, f32); 10] = [
+        ("Emitter", 150.0),
+        ("Level", 95.0),
+        ("Load W", 60.0),
+        ("Output W", 68.0),
+        ("Design l/h", 72.0),
+        ("Flow l/h", 62.0),
+        ("Return °C", 70.0),
+        ("Presetting", 72.0),
+        ("Authority", 66.0),
+        ("Circuit kPa", 76.0),
+    ];
+    virtual_table(ui, "emitters_table", &COLUMNS, sol.emitters.len(), |ui, r, c| {
+        let Some(e) = sol.emitters.get(r) else { return };
+        match c {
+            0 => {
                 let mark = if sol.index_emitter == Some(e.id) { " (index)" } else { "" };
-                if ui.selectable_label(false, format!("{}{mark}", e.name)).on_hover_text("Select and centre").clicked()
+                if ui
+                    .add(egui::Button::selectable(false, format!("{}{mark}", e.name)).truncate())
+                    .on_hover_text("Select and centre")
+                    .clicked()
                 {
                     out.centre_on = Some(ItemRef::Node(e.id));
                 }
-                ui.label(&e.level);
-                ui.label(format!("{:.0}", e.load_w));
-                let o = RichText::new(format!("{:.0}", e.output_w));
-                ui.label(if e.output_w + 1.0 < e.load_w && !e.closed { o.color(theme::ERROR) } else { o });
-                ui.label(format!("{:.1}", e.design_flow_l_h));
-                ui.label(format!("{:.1}", e.flow_l_h));
-                ui.label(format!("{:.1}", e.return_c));
-                ui.label(&e.presetting);
-                let a = RichText::new(format!("{:.2}", e.authority));
-                ui.label(if e.authority < 0.3 { a.color(theme::WARNING) } else { a });
-                ui.label(format!("{:.1}", e.circuit_dp_open_pa / 1000.0));
-                ui.end_row();
             }
-        });
+            1 => {
+                cell_label(ui, e.level.as_str());
+            }
+            2 => {
+                cell_label(ui, format!("{:.0}", e.load_w));
+            }
+            3 => {
+                let o = RichText::new(format!("{:.0}", e.output_w));
+                cell_label(ui, if e.output_w + 1.0 < e.load_w && !e.closed { o.color(theme::ERROR) } else { o });
+            }
+            4 => {
+                cell_label(ui, format!("{:.1}", e.design_flow_l_h));
+            }
+            5 => {
+                cell_label(ui, format!("{:.1}", e.flow_l_h));
+            }
+            6 => {
+                cell_label(ui, format!("{:.1}", e.return_c));
+            }
+            7 => {
+                cell_label(ui, e.presetting.as_str());
+            }
+            8 => {
+                let a = RichText::new(format!("{:.2}", e.authority));
+                cell_label(ui, if e.authority < 0.3 { a.color(theme::WARNING) } else { a });
+            }
+            _ => {
+                cell_label(ui, format!("{:.1}", e.circuit_dp_open_pa / 1000.0));
+            }
+        }
     });
 }
 
