@@ -180,14 +180,8 @@ impl<'a> Dense<'a> {
     pub(crate) fn length_m(&self, run: &Run) -> f64 {
         run.props.length_override_m.unwrap_or_else(|| {
             let (Some(a), Some(b)) = (self.node(run.a), self.node(run.b)) else { return 0.0 };
-            let mut plan = 0.0;
-            let mut last = a.pos;
-            for &v in &run.vertices {
-                plan += last.distance_m(v);
-                last = v;
-            }
-            plan += last.distance_m(b.pos);
-            plan + (self.elevation_m(run.a) - self.elevation_m(run.b)).abs()
+            crate::project::plan_length_m(a.pos, &run.vertices, b.pos)
+                + (self.elevation_m(run.a) - self.elevation_m(run.b)).abs()
         })
     }
 

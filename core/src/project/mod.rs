@@ -360,14 +360,7 @@ impl Project {
     #[must_use]
     pub fn drawn_length_m(&self, run: &Run) -> f64 {
         let (Some(a), Some(b)) = (self.node(run.a), self.node(run.b)) else { return 0.0 };
-        let mut plan = 0.0;
-        let mut last = a.pos;
-        for &v in &run.vertices {
-            plan += last.distance_m(v);
-            last = v;
-        }
-        plan += last.distance_m(b.pos);
-        plan + (self.elevation_m(run.a) - self.elevation_m(run.b)).abs()
+        plan_length_m(a.pos, &run.vertices, b.pos) + (self.elevation_m(run.a) - self.elevation_m(run.b)).abs()
     }
 
     /// Length used by the hydraulics: the override if set, else drawn, m.
@@ -467,4 +460,16 @@ impl Project {
         self.next_run = self.next_run.saturating_add(1);
         id
     }
+}
+
+/// Length on the plan of the polyline `a → vertices → b`, m (the one place
+/// this sum is made, so every caller gets the same bits).
+pub(crate) fn plan_length_m(a: PlanPoint, vertices: &[PlanPoint], b: PlanPoint) -> f64 {
+    let mut plan = 0.0;
+    let mut last = a;
+    for &v in vertices {
+        plan += last.distance_m(v);
+        last = v;
+    }
+    plan + last.distance_m(b)
 }
