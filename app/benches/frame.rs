@@ -5,6 +5,11 @@
 //!
 //! Run: `cargo bench -p flowrise --bench frame`.
 
+/// The allocator the flowrise binary uses (app/src/main.rs), so the figures
+/// are the product's.
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{Criterion, criterion_group, criterion_main};
 use flowrise::gui::FlowriseApp;
 use flowrise_core::project::Project;

@@ -7,6 +7,11 @@
 mod cli;
 mod cli_sweep;
 
+/// The allocator of the whole program (why: the workspace Cargo.toml, beside
+/// the `mimalloc` dependency).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 fn main() -> std::process::ExitCode {
     cli::main()
 }

@@ -11,6 +11,11 @@
 
 #![allow(clippy::expect_used, clippy::unwrap_used)] // reason: benchmark harness, not product code
 
+/// The allocator the flowrise binary uses (app/src/main.rs), so the figures
+/// are the product's.
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use std::time::Instant;
 
 use flowrise_core::design::{SolveOptions, Workspace, solve_project};

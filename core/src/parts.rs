@@ -385,14 +385,14 @@ fn natural_cmp(a: &str, b: &str) -> Ordering {
 }
 
 fn series_of(pr: &PipeResult) -> PhysicsResult<&'static pipes::PipeSeries> {
-    pipes::find_series(&pr.series)
+    pipes::find_series(pr.series)
 }
 
 fn pipe_lines(sol: &Solution, opts: &PartsOptions, acc: &mut Acc) -> PhysicsResult<()> {
     // Net length per (side, series, size) first, so the note can state it.
     let mut net: BTreeMap<(Side, String, String), (f64, Vec<String>)> = BTreeMap::new();
     for pr in &sol.pipes {
-        let e = net.entry((pr.side, pr.series.clone(), pr.size.clone())).or_default();
+        let e = net.entry((pr.side, pr.series.to_owned(), pr.size.to_owned())).or_default();
         e.0 += pr.length_m;
         e.1.push(pr.run.to_string());
     }
@@ -511,7 +511,7 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
         acc.add(
             PartCategory::Fitting,
             format!("bend 90°, {mat}"),
-            pr.size.clone(),
+            pr.size.to_owned(),
             note.clone(),
             PartUnit::Piece,
             f64::from(n90),
@@ -520,7 +520,7 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
         acc.add(
             PartCategory::Fitting,
             format!("bend 45°, {mat}"),
-            pr.size.clone(),
+            pr.size.to_owned(),
             note,
             PartUnit::Piece,
             f64::from(n45),
@@ -531,7 +531,7 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
             acc.add(
                 PartCategory::Fitting,
                 format!("coupling, {mat}"),
-                pr.size.clone(),
+                pr.size.to_owned(),
                 format!("one per {stock:.0} m stock length (common practice)"),
                 PartUnit::Piece,
                 couplings,
@@ -610,7 +610,7 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
                 acc.add(
                     PartCategory::Fitting,
                     format!("{kind}, {mat}"),
-                    size.clone(),
+                    (*size).to_owned(),
                     "at a junction of two runs (not in the design's friction, which counts bends inside runs)"
                         .to_owned(),
                     PartUnit::Piece,
@@ -620,7 +620,7 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
             }
             [trunk, through, branch] => {
                 let (item, size) = if trunk.size == through.size && through.size == branch.size {
-                    ("equal tee", trunk.size.clone())
+                    ("equal tee", trunk.size.to_owned())
                 } else if trunk.size == through.size {
                     ("reducing tee", format!("{} × {}", trunk.size, branch.size))
                 } else {
@@ -637,7 +637,7 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
                 );
             }
             more if more.len() >= 4 => {
-                let sizes: Vec<&str> = more.iter().map(|x| x.size.as_str()).collect();
+                let sizes: Vec<&str> = more.iter().map(|x| x.size).collect();
                 acc.add(
                     PartCategory::Fitting,
                     format!("cross or tee pair, {mat} — {}", side_word(side)),
@@ -845,7 +845,7 @@ fn insulation_lines(sol: &Solution, opts: &PartsOptions, acc: &mut Acc) -> Physi
         acc.add(
             PartCategory::Insulation,
             format!("pipe insulation for {}", series.material.label()),
-            pr.size.clone(),
+            pr.size.to_owned(),
             format!(
                 "supply + return, {:.0} % cutting allowance; thickness per the local energy code",
                 opts.cutting_allowance_fraction * 100.0

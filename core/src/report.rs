@@ -343,7 +343,8 @@ fn pipes_table(h: &mut String, sol: &Solution) {
             Side::Supply => "supply",
             Side::Return => "return",
         };
-        let series = pipes::find_series(&x.series).map_or_else(|_| x.series.clone(), |s| s.material.label().to_owned());
+        let series =
+            pipes::find_series(x.series).map_or_else(|_| x.series.to_owned(), |s| s.material.label().to_owned());
         let over = if ratio > 1.0 { " class=\"over\"" } else { "" };
         w!(
             h,
@@ -355,7 +356,7 @@ fn pipes_table(h: &mut String, sol: &Solution) {
             x.run,
             x.class.name(),
             esc(&series),
-            esc(&x.size),
+            esc(x.size),
             x.length_m,
             x.flow_l_h,
             x.velocity_m_s,

@@ -62,7 +62,7 @@ fn pipe_totals_per_side_and_series_are_the_run_lengths_plus_the_allowance() {
         let mut expected: BTreeMap<(Side, String), f64> = BTreeMap::new();
         for pr in &d.sol.pipes {
             let run = d.p.run(pr.run).unwrap();
-            let series = pipes::find_series(&pr.series).unwrap();
+            let series = pipes::find_series(pr.series).unwrap();
             let net =
                 if pr.side == Side::Supply || !chain_runs.contains(&pr.run) { d.p.length_m(run) } else { pr.length_m };
             *expected.entry((pr.side, series.name.clone())).or_default() += net;
@@ -108,7 +108,7 @@ fn pipe_totals_per_side_and_series_are_the_run_lengths_plus_the_allowance() {
             assert_eq!(served.get(&run.id.to_string()), Some(&1), "{}: {} in one supply line", d.name, run.id);
         }
         let pipe_lines = d.parts.lines_in(PartCategory::Pipe).count();
-        let groups: BTreeSet<_> = d.sol.pipes.iter().map(|x| (x.side, x.series.clone(), x.size.clone())).collect();
+        let groups: BTreeSet<_> = d.sol.pipes.iter().map(|x| (x.side, x.series.to_owned(), x.size.to_owned())).collect();
         assert_eq!(pipe_lines, groups.len(), "{}: one pipe line per side, series and size", d.name);
     }
 }
@@ -211,7 +211,7 @@ fn one_tee_of_the_right_sizes_per_three_way_junction() {
                     let trunk =
                         at.iter().max_by(|a, b| a.design_flow_kg_s.abs().total_cmp(&b.design_flow_kg_s.abs())).unwrap();
                     assert_eq!(got[0], trunk.size, "{}: {id} {side:?}: trunk size", d.name);
-                    let mut want: Vec<String> = at.iter().map(|x| x.size.clone()).collect();
+                    let mut want: Vec<String> = at.iter().map(|x| x.size.to_owned()).collect();
                     got.sort();
                     want.sort();
                     assert_eq!(got, want, "{}: {id} {side:?}: tee sizes {}", d.name, line.size);

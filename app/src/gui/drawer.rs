@@ -273,7 +273,7 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
                 cell_label(ui, p.class.name());
             }
             3 => {
-                cell_label(ui, p.size.as_str());
+                cell_label(ui, p.size);
             }
             4 => {
                 cell_label(ui, format!("{:.1}", p.length_m));

@@ -558,7 +558,7 @@ fn run_inputs(ui: &mut Ui, project: &Project, sol: &Solution, run: &Run, fs: &mu
             set(out, RunProps { class, ..run.props.clone() }, "run.class");
         }
         let label_id = ui.label("Size").id;
-        let series_id = sol.run_pipes(id).next().map(|p| p.series.clone());
+        let series_id = sol.run_pipes(id).next().map(|p| p.series.to_owned());
         let sizes: Vec<String> = series_id
             .and_then(|s| pipes::find_series(&s).ok())
             .map(|s| s.sizes.iter().map(|z| z.label.clone()).collect())

@@ -106,10 +106,10 @@ pub struct PipeResult {
     pub class: PipeClass,
     /// Length, m.
     pub length_m: f64,
-    /// Series id.
-    pub series: String,
-    /// Size label.
-    pub size: String,
+    /// Series id (borrowed from the pipe catalogue: no copy per pipe).
+    pub series: &'static str,
+    /// Size label (borrowed from the pipe catalogue).
+    pub size: &'static str,
     /// Inner diameter, mm.
     pub inner_mm: f64,
     /// Sum of local loss coefficients.
@@ -1600,8 +1600,8 @@ impl<'f> Derivation<'f> {
                 side: pd.side,
                 class: pd.class,
                 length_m: pd.length_m,
-                series: series.id.clone(),
-                size: size.label.clone(),
+                series: series.id.as_str(),
+                size: size.label.as_str(),
                 inner_mm: size.inner_diameter_m() * 1000.0,
                 zeta,
                 temperature_c: props.temperature_c,
@@ -1861,9 +1861,9 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> crate::project::Edit {
     let mut edits = Vec::new();
     for run in p.runs() {
         if let Some(pr) = sol.run_pipes(run.id).find(|x| x.side == Side::Supply) {
-            let ret = sol.run_pipes(run.id).find(|x| x.side == Side::Return).map(|x| x.size.clone());
+            let ret = sol.run_pipes(run.id).find(|x| x.side == Side::Return).map(|x| x.size.to_owned());
             let fixed_return_size = ret.filter(|r| *r != pr.size);
-            let props = RunProps { fixed_size: Some(pr.size.clone()), fixed_return_size, ..run.props.clone() };
+            let props = RunProps { fixed_size: Some(pr.size.to_owned()), fixed_return_size, ..run.props.clone() };
             if props != run.props {
                 edits.push(Edit::SetRunProps { id: run.id, props });
             }

@@ -375,7 +375,9 @@ pub(super) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
         labels.place_node(&mut texts, *x, *y, &[(text.clone(), "sz")]);
     }
     for (r, pxs) in &polys {
-        let Some(size) = sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map(|x| x.size.clone()) else { continue };
+        let Some(size) = sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map(|x| x.size.to_owned()) else {
+            continue;
+        };
         let mut segs: Vec<&[(f64, f64)]> = pxs.windows(2).collect();
         segs.sort_by(|a, b| seg_len(b).total_cmp(&seg_len(a)));
         labels.place_on_segments(&mut texts, &segs, &format!("{} {size}", r.id));
@@ -623,7 +625,7 @@ pub(super) fn riser_elevation(p: &Project, sol: &Solution, topo: &Topology) -> S
             let (y1, y2) = (y_of(za), y_of(zb));
             let (colour, w, dash) = run_style(velocity_margin(sol, r.id));
             let size =
-                sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map_or_else(String::new, |x| x.size.clone());
+                sol.run_pipes(r.id).find(|x| x.side == Side::Supply).map_or_else(String::new, |x| x.size.to_owned());
             let over = if velocity_margin(sol, r.id).is_some_and(|m| m > 1.0) { " over-limit" } else { "" };
             w!(
                 out,

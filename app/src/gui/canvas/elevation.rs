@@ -78,7 +78,7 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
             painter.text(
                 pos2(x + 6.0, 0.5 * (ya + yb)),
                 Align2::LEFT_CENTER,
-                &p.size,
+                p.size,
                 FontId::proportional(10.5),
                 Color32::from_rgb(0x26, 0x2b, 0x33),
             );
