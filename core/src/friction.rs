@@ -6,7 +6,7 @@
 //!   fully developed laminar flow in a round tube);
 //! - turbulent, Re ≥ [`TURBULENT_RE_MIN`]: Colebrook–White,
 //!   1/√f = −2·log10(ε/(3.7·D) + 2.51/(Re·√f)), solved by Newton's method on
-//!   x = 1/√f from the explicit Haaland (1983) start to ~1e-14 relative;
+//!   x = 1/√f from the explicit Haaland (1983) start to rounding level;
 //! - transition, in between: a cubic Hermite interpolation in Re that matches
 //!   the value *and* the slope df/dRe of both neighbouring laws at its ends, so
 //!   f(Re) — and with it Δp(ṁ) — is continuous with a continuous derivative
@@ -165,32 +165,79 @@ impl PipeHydraulics {
 /// panic.
 #[must_use]
 pub fn pipe_dp(p: &PipeHydraulics, mass_flow_kg_s: f64) -> (f64, f64) {
-    let area_m2 = p.flow_area_m2();
-    let m_abs = mass_flow_kg_s.abs();
-    let sign = if mass_flow_kg_s < 0.0 { -1.0 } else { 1.0 };
-    // k = 1/(2ρA²): ρv²/2 = k·ṁ².
-    let k = 1.0 / (2.0 * p.density_kg_m3 * area_m2 * area_m2);
-    let re = p.reynolds(m_abs);
-    let l_over_d = p.length_m / p.inner_diameter_m;
+    PipeKernel::new(p).dp(mass_flow_kg_s)
+}
 
-    // Local losses: Σζ·k·ṁ|ṁ|, derivative 2Σζ·k·|ṁ|.
-    let local_dp = p.zeta_sum * k * m_abs * m_abs;
-    let local_slope = 2.0 * p.zeta_sum * k * m_abs;
+/// The flow-independent constants of one pipe's law, computed once: the
+/// network solver keeps one per link and evaluates [`PipeKernel::dp`] for
+/// every link on every iteration, which then costs no division by the pipe's
+/// data, no roughness power and no check. [`pipe_dp`] is this kernel built
+/// on the spot, so both give the same numbers.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PipeKernel {
+    /// Re per unit mass flow, 4/(π·D·μ), s/kg.
+    re_per_kg_s: f64,
+    /// Relative roughness ε/D.
+    rr: f64,
+    /// (ε/D/3.7)^1.11: the roughness term of the Haaland start of the
+    /// Colebrook–White iteration.
+    haaland_roughness: f64,
+    /// (L/D)·k with k = 1/(2ρA²), so the friction Δp is f·this·ṁ².
+    friction_k: f64,
+    /// Σζ·k, so the local Δp is this·ṁ².
+    local_k: f64,
+    /// Hagen–Poiseuille resistance 32·μ·L/(ρ·D²·A), Pa·s/kg.
+    laminar_r: f64,
+    /// Friction-factor formula.
+    law: FrictionLaw,
+}
 
-    if re <= LAMINAR_RE_MAX {
-        // Hagen–Poiseuille: linear in ṁ, well defined at ṁ = 0.
-        let r_lam = 32.0 * p.viscosity_pa_s * p.length_m
-            / (p.density_kg_m3 * p.inner_diameter_m * p.inner_diameter_m * area_m2);
-        return (sign * (r_lam * m_abs + local_dp), r_lam + local_slope);
+impl PipeKernel {
+    /// The constants of `p` (assumed valid, see [`pipe_dp`]).
+    #[must_use]
+    pub fn new(p: &PipeHydraulics) -> Self {
+        let area_m2 = p.flow_area_m2();
+        // k = 1/(2ρA²): ρv²/2 = k·ṁ².
+        let k = 1.0 / (2.0 * p.density_kg_m3 * area_m2 * area_m2);
+        let rr = p.relative_roughness();
+        Self {
+            re_per_kg_s: 4.0 / (PI * p.inner_diameter_m * p.viscosity_pa_s),
+            rr,
+            haaland_roughness: (rr / 3.7).powf(1.11),
+            friction_k: p.length_m / p.inner_diameter_m * k,
+            local_k: p.zeta_sum * k,
+            laminar_r: 32.0 * p.viscosity_pa_s * p.length_m
+                / (p.density_kg_m3 * p.inner_diameter_m * p.inner_diameter_m * area_m2),
+            law: p.friction_law,
+        }
     }
-    let (f, df_dre) = match p.friction_law {
-        FrictionLaw::ColebrookWhite => friction_factor_and_slope(re, p.relative_roughness()),
-        FrictionLaw::SwameeJainEpanet => epanet_friction_and_slope(re, p.relative_roughness()),
-    };
-    // Δp_f = f(Re)·(L/D)·k·ṁ², Re ∝ ṁ ⇒ dΔp_f/dṁ = (L/D)·k·ṁ·(2f + Re·f').
-    let friction_dp = f * l_over_d * k * m_abs * m_abs;
-    let friction_slope = l_over_d * k * m_abs * (2.0 * f + re * df_dre);
-    (sign * (friction_dp + local_dp), friction_slope + local_slope)
+
+    /// Pressure drop, Pa (sign follows the flow), and d(Δp)/dṁ, Pa·s/kg, at
+    /// `mass_flow_kg_s`: [`pipe_dp`].
+    #[must_use]
+    pub fn dp(&self, mass_flow_kg_s: f64) -> (f64, f64) {
+        let m_abs = mass_flow_kg_s.abs();
+        let sign = if mass_flow_kg_s < 0.0 { -1.0 } else { 1.0 };
+        let re = self.re_per_kg_s * m_abs;
+        // Local losses: Σζ·k·ṁ|ṁ|, derivative 2Σζ·k·|ṁ|.
+        let local_dp = self.local_k * m_abs * m_abs;
+        let local_slope = 2.0 * self.local_k * m_abs;
+        if re <= LAMINAR_RE_MAX {
+            // Hagen–Poiseuille: linear in ṁ, well defined at ṁ = 0.
+            return (sign * (self.laminar_r * m_abs + local_dp), self.laminar_r + local_slope);
+        }
+        let (f, df_dre) = match self.law {
+            FrictionLaw::ColebrookWhite if re >= TURBULENT_RE_MIN => {
+                colebrook_and_slope_from(re, self.rr, colebrook_x_from(re, self.rr, self.haaland_roughness))
+            }
+            FrictionLaw::ColebrookWhite => friction_factor_and_slope(re, self.rr),
+            FrictionLaw::SwameeJainEpanet => epanet_friction_and_slope(re, self.rr),
+        };
+        // Δp_f = f(Re)·(L/D)·k·ṁ², Re ∝ ṁ ⇒ dΔp_f/dṁ = (L/D)·k·ṁ·(2f + Re·f').
+        let friction_dp = f * self.friction_k * m_abs * m_abs;
+        let friction_slope = self.friction_k * m_abs * (2.0 * f + re * df_dre);
+        (sign * (friction_dp + local_dp), friction_slope + local_slope)
+    }
 }
 
 /// Friction pressure gradient of the pipe, Pa/m (sign follows the flow; local
@@ -331,7 +378,11 @@ fn epanet_friction_and_slope(re: f64, rr: f64) -> (f64, f64) {
 
 /// Colebrook–White f and df/dRe (unchecked, Re > 0).
 fn colebrook_and_slope(re: f64, rr: f64) -> (f64, f64) {
-    let x = colebrook_x(re, rr);
+    colebrook_and_slope_from(re, rr, colebrook_x(re, rr))
+}
+
+/// Colebrook–White f and df/dRe from its solution `x` = 1/√f at `re`.
+fn colebrook_and_slope_from(re: f64, rr: f64, x: f64) -> (f64, f64) {
     // Implicit derivative of x = −2·log10(a + b·x/Re), a = ε/(3.7D), b = 2.51:
     // with c = 2/(ln10·(a + b·x/Re)), dx/dRe = c·b·x/Re² / (1 + c·b/Re).
     let a = rr / 3.7;
@@ -348,10 +399,16 @@ fn colebrook_and_slope(re: f64, rr: f64) -> (f64, f64) {
 /// converges quadratically from the Haaland (1983) explicit start (within a
 /// few per cent); 3–4 steps reach ~1e-15. The loop is bounded.
 fn colebrook_x(re: f64, rr: f64) -> f64 {
+    colebrook_x_from(re, rr, (rr / 3.7).powf(1.11))
+}
+
+/// [`colebrook_x`] with the Haaland start's roughness term (ε/D/3.7)^1.11
+/// given (a pipe's constant, see [`PipeKernel`]).
+fn colebrook_x_from(re: f64, rr: f64, haaland_roughness: f64) -> f64 {
     let a = rr / 3.7;
     let b_re = 2.51 / re;
     // Haaland: 1/√f = −1.8·log10((ε/D/3.7)^1.11 + 6.9/Re).
-    let mut x = -1.8 * (a.powf(1.11) + 6.9 / re).log10();
+    let mut x = -1.8 * (haaland_roughness + 6.9 / re).log10();
     if !(x.is_finite() && x > 0.0) {
         x = 8.0;
     }
@@ -363,7 +420,12 @@ fn colebrook_x(re: f64, rr: f64) -> f64 {
         let next = x - step;
         // Keep the argument of the logarithm positive.
         x = if next > 0.0 { next } else { 0.5 * x };
-        if step.abs() <= 1e-15 * x {
+        // Quadratic convergence: the error left after a step of size s is
+        // about |F''|/(2F')·s² ≤ s²/(ln10·x²) (F' ≥ 1 and
+        // |F''| = 2b²/(ln10·(a + b·x)²) ≤ 2/(ln10·x²) with b = 2.51/Re),
+        // so after a step below 1e-8·x it is below 5e-17·x: rounding level,
+        // and one more logarithm would only confirm it.
+        if step.abs() <= 1e-8 * x {
             break;
         }
     }

@@ -108,7 +108,8 @@ fn pipe_totals_per_side_and_series_are_the_run_lengths_plus_the_allowance() {
             assert_eq!(served.get(&run.id.to_string()), Some(&1), "{}: {} in one supply line", d.name, run.id);
         }
         let pipe_lines = d.parts.lines_in(PartCategory::Pipe).count();
-        let groups: BTreeSet<_> = d.sol.pipes.iter().map(|x| (x.side, x.series.to_owned(), x.size.to_owned())).collect();
+        let groups: BTreeSet<_> =
+            d.sol.pipes.iter().map(|x| (x.side, x.series.to_owned(), x.size.to_owned())).collect();
         assert_eq!(pipe_lines, groups.len(), "{}: one pipe line per side, series and size", d.name);
     }
 }

@@ -93,7 +93,7 @@ use thiserror::Error;
 use self::workspace::NONE;
 use super::{GRAVITY_M_S2, HydraulicNetwork, LinkLaw};
 use crate::error::{PhysicsError, PhysicsResult, check};
-use crate::friction::{PipeHydraulics, pipe_dp};
+use crate::friction::{PipeHydraulics, PipeKernel};
 
 /// Below this |mass flow|, kg/s, a [`LinkLaw::Quadratic`] resistance follows
 /// the straight line r·m₀·m instead of r·m|m| (m₀ = this value), so its
@@ -418,20 +418,48 @@ pub fn static_term_pa(density_kg_m3: f64, from_elevation_m: f64, to_elevation_m:
     Ok(density_kg_m3 * GRAVITY_M_S2 * (from_elevation_m - to_elevation_m))
 }
 
-/// The law without checks (hot loop).
+/// The law without checks.
 fn eval_law(law: &LinkLaw, m: f64) -> (f64, f64) {
-    match *law {
-        LinkLaw::Pipe(ref pipe) => pipe_dp(pipe, m),
-        LinkLaw::Quadratic { r_pa_s2_kg2: r } => {
-            let a = m.abs();
-            if a >= QUADRATIC_LINEAR_BELOW_KG_S {
-                (r * m * a, 2.0 * r * a)
-            } else {
-                (r * QUADRATIC_LINEAR_BELOW_KG_S * m, r * QUADRATIC_LINEAR_BELOW_KG_S)
-            }
+    LinkKernel::new(law).eval(m)
+}
+
+/// A link law with its flow-independent constants worked out (one per link
+/// in the workspace, rebuilt when the law changes): what the hot loop
+/// evaluates.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum LinkKernel {
+    /// A pipe.
+    Pipe(PipeKernel),
+    /// r·m|m| (linear below [`QUADRATIC_LINEAR_BELOW_KG_S`]).
+    Quadratic(f64),
+    /// −(a0 + a1·m + a2·m²).
+    Pump(f64, f64, f64),
+}
+
+impl LinkKernel {
+    fn new(law: &LinkLaw) -> Self {
+        match *law {
+            LinkLaw::Pipe(ref pipe) => Self::Pipe(PipeKernel::new(pipe)),
+            LinkLaw::Quadratic { r_pa_s2_kg2 } => Self::Quadratic(r_pa_s2_kg2),
+            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2 } => Self::Pump(a0_pa, a1_pa_s_kg, a2_pa_s2_kg2),
         }
-        LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2 } => {
-            (-(a0_pa + a1_pa_s_kg * m + a2_pa_s2_kg2 * m * m), -(a1_pa_s_kg + 2.0 * a2_pa_s2_kg2 * m))
+    }
+
+    /// Pressure drop along the link and its derivative at mass flow `m`.
+    fn eval(&self, m: f64) -> (f64, f64) {
+        match *self {
+            Self::Pipe(ref pipe) => pipe.dp(m),
+            Self::Quadratic(r) => {
+                let a = m.abs();
+                if a >= QUADRATIC_LINEAR_BELOW_KG_S {
+                    (r * m * a, 2.0 * r * a)
+                } else {
+                    (r * QUADRATIC_LINEAR_BELOW_KG_S * m, r * QUADRATIC_LINEAR_BELOW_KG_S)
+                }
+            }
+            Self::Pump(a0_pa, a1_pa_s_kg, a2_pa_s2_kg2) => {
+                (-(a0_pa + a1_pa_s_kg * m + a2_pa_s2_kg2 * m * m), -(a1_pa_s_kg + 2.0 * a2_pa_s2_kg2 * m))
+            }
         }
     }
 }
@@ -475,6 +503,7 @@ fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<(
                 .map(|_| ()),
         };
         checked.map_err(|source| SolveError::InvalidLink { link, source })?;
+        ws.kernels[link] = LinkKernel::new(&l.law);
         match &mut ws.known_law[link] {
             Some(known) => known.clone_from(&l.law),
             slot => *slot = Some(l.law.clone()),
@@ -679,7 +708,7 @@ fn evaluate_links(
     let mut max_drop_pa = 0.0f64;
     let mut max_flow_kg_s = 0.0f64;
     let mut bad = false;
-    for (k, l) in net.links.iter().enumerate() {
+    for k in 0..net.links.len() {
         if !ws.open[k] {
             ws.drop_pa[k] = 0.0;
             ws.slope_pa_s_kg[k] = 1.0;
@@ -698,7 +727,7 @@ fn evaluate_links(
             // ½·F''·Δm² ≈ |F|·(Δm/m)², is below 1e-14 of the drop.
             (ws.eval_drop_pa[k] + ws.eval_slope_pa_s_kg[k] * (m - m0), ws.eval_slope_pa_s_kg[k])
         } else {
-            let (d, s) = eval_law(&l.law, m);
+            let (d, s) = ws.kernels[k].eval(m);
             ws.eval_flow_kg_s[k] = m;
             ws.eval_drop_pa[k] = d;
             ws.eval_slope_pa_s_kg[k] = s;

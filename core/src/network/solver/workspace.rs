@@ -86,6 +86,8 @@ pub struct SolverWorkspace {
     /// Link law of each link at the last solve, already validated; a link
     /// whose law is unchanged is not validated again.
     pub(super) known_law: Vec<Option<crate::network::LinkLaw>>,
+    /// The evaluation constants of each known law.
+    pub(super) kernels: Vec<super::LinkKernel>,
     /// Flow at which `eval_drop_pa` / `eval_slope_pa_s_kg` were evaluated
     /// (NaN: nothing cached). A warm start from the last answer hits this
     /// for every link whose law did not change.
@@ -245,6 +247,7 @@ impl SolverWorkspace {
         ws.rhs = vec![0.0; n_red];
         ws.anchors = Vec::with_capacity(n);
         ws.known_law = vec![None; n_links];
+        ws.kernels = vec![super::LinkKernel::Quadratic(0.0); n_links];
         ws.eval_flow_kg_s = vec![f64::NAN; n_links];
         ws.eval_drop_pa = vec![0.0; n_links];
         ws.eval_slope_pa_s_kg = vec![0.0; n_links];
