@@ -6,7 +6,7 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 use flowrise_core::design::{SolveOptions, Workspace, solve_project};
-use flowrise_core::output::{solve_json, solve_text};
+use flowrise_core::output::{SolveJson, write_solve_text};
 use flowrise_core::project::{Mode, NodeId, Project};
 
 /// Exit code for invalid input (the message is on stderr).
@@ -194,6 +194,22 @@ pub fn load_or_exit(file: &std::path::Path) -> Result<Project, ExitCode> {
     })
 }
 
+/// A [`std::fmt::Write`] sink writing to a byte stream, keeping the first
+/// I/O error (which `fmt::Error` cannot carry).
+struct IoLines<W: std::io::Write> {
+    out: W,
+    error: Option<std::io::Error>,
+}
+
+impl<W: std::io::Write> std::fmt::Write for IoLines<W> {
+    fn write_str(&mut self, s: &str) -> std::fmt::Result {
+        self.out.write_all(s.as_bytes()).map_err(|e| {
+            self.error.get_or_insert(e);
+            std::fmt::Error
+        })
+    }
+}
+
 fn solve(file: &std::path::Path, json: bool, installed: bool, close: &[String]) -> ExitCode {
     let mut project = match Project::load(file) {
         Ok(p) => p,
@@ -224,15 +240,29 @@ fn solve(file: &std::path::Path, json: bool, installed: bool, close: &[String]) 
     let opts = SolveOptions { closed_emitters: closed, ..SolveOptions::default() };
     let sol = solve_project(&project, &opts, &mut Workspace::default());
     if json {
-        match serde_json::to_string_pretty(&solve_json(&project, &sol)) {
-            Ok(text) => println!("{text}"),
-            Err(e) => {
-                eprintln!("flowrise: cannot write JSON: {e}");
-                return ExitCode::FAILURE;
-            }
+        // Streamed: a large project's document is never held whole.
+        let mut out = std::io::BufWriter::new(std::io::stdout().lock());
+        let written = serde_json::to_writer_pretty(&mut out, &SolveJson { project: &project, solution: &sol })
+            .map_err(std::io::Error::from)
+            .and_then(|()| {
+                use std::io::Write;
+                writeln!(out)?;
+                out.flush()
+            });
+        if let Err(e) = written {
+            eprintln!("flowrise: cannot write JSON: {e}");
+            return ExitCode::FAILURE;
         }
     } else {
-        print!("{}", solve_text(&project, &sol));
+        // Streamed line by line, like the JSON.
+        let mut out = IoLines { out: std::io::BufWriter::new(std::io::stdout().lock()), error: None };
+        let written = write_solve_text(&mut out, &project, &sol);
+        let flushed = std::io::Write::flush(&mut out.out);
+        if let Some(e) = out.error.or(flushed.err()).or_else(|| written.err().map(|_| std::io::Error::other("format")))
+        {
+            eprintln!("flowrise: cannot write the summary: {e}");
+            return ExitCode::FAILURE;
+        }
     }
     if sol.has_errors() {
         for f in sol.findings.iter().filter(|f| f.severity == flowrise_core::design::Severity::Error) {
@@ -326,5 +356,39 @@ mod tests {
         assert_eq!(parse_node_id("N12"), Ok(NodeId(12)));
         assert_eq!(parse_node_id(" 7 "), Ok(NodeId(7)));
         assert!(parse_node_id("x").is_err());
+    }
+
+    /// A stream that takes `room` bytes, then fails like a full disk.
+    struct Full {
+        room: usize,
+    }
+
+    impl std::io::Write for Full {
+        fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+            if self.room == 0 {
+                return Err(std::io::Error::new(std::io::ErrorKind::StorageFull, "disk full"));
+            }
+            let n = buf.len().min(self.room);
+            self.room -= n;
+            Ok(n)
+        }
+        fn flush(&mut self) -> std::io::Result<()> {
+            Ok(())
+        }
+    }
+
+    #[test]
+    fn the_streamed_summary_stops_at_a_write_error_and_keeps_it() {
+        let project = flowrise_core::generate::generate_building(&flowrise_core::generate::BuildingSpec::new(1, 3))
+            .expect("generated");
+        let sol = solve_project(&project, &SolveOptions::default(), &mut Workspace::default());
+        let mut whole = String::new();
+        write_solve_text(&mut whole, &project, &sol).expect("a String takes everything");
+        assert_eq!(whole, flowrise_core::output::solve_text(&project, &sol));
+
+        let mut sink = IoLines { out: Full { room: 100 }, error: None };
+        assert!(write_solve_text(&mut sink, &project, &sol).is_err());
+        let kept = sink.error.expect("the I/O error is kept");
+        assert_eq!(kept.kind(), std::io::ErrorKind::StorageFull);
     }
 }

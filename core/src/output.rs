@@ -4,14 +4,14 @@
 
 use serde_json::{Value, json};
 
-use crate::design::{Severity, Side, Solution};
+use crate::design::{EmitterResult, Finding, PipeResult, Severity, Side, Solution};
 use crate::project::Project;
 
-/// Append one formatted line to a `String` (writing to a String cannot fail).
+/// Write one formatted line to a [`std::fmt::Write`] sink, stopping the
+/// function at the first failed write (a String never fails; a stream can).
 macro_rules! out {
     ($s:expr, $($arg:tt)*) => {{
-        $s.push_str(&format!($($arg)*));
-        $s.push('\n');
+        writeln!($s, $($arg)*)?;
     }};
 }
 
@@ -26,9 +26,61 @@ fn round(x: f64, digits: i32) -> f64 {
     (x * f).round() / f
 }
 
-/// The JSON document of a solve.
+/// The JSON document of a solve, as a value (small projects and tests;
+/// `flowrise solve --json` streams [`SolveJson`] instead).
 #[must_use]
 pub fn solve_json(p: &Project, sol: &Solution) -> Value {
+    serde_json::to_value(SolveJson { project: p, solution: sol }).unwrap_or(Value::Null)
+}
+
+/// The JSON document of a solve, serialised one emitter, pipe and finding
+/// at a time: written with `serde_json::to_writer_pretty` it never holds
+/// the whole document in memory (at 50,000 emitters the value tree alone
+/// took more than a gigabyte). Same document, keys and order as
+/// [`solve_json`].
+#[derive(Debug, Clone, Copy)]
+pub struct SolveJson<'a> {
+    /// The project solved.
+    pub project: &'a Project,
+    /// Its solution.
+    pub solution: &'a Solution,
+}
+
+/// Top-level keys whose arrays are streamed.
+const STREAMED: [&str; 3] = ["emitters", "pipes", "warnings"];
+
+impl serde::Serialize for SolveJson<'_> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let (p, sol) = (self.project, self.solution);
+        // The small part as a value; the three arrays as placeholders whose
+        // place in the key order the value's map decides.
+        let head = head_json(p, sol);
+        let Value::Object(head) = head else { return serializer.serialize_none() };
+        let mut map = serializer.serialize_map(Some(head.len()))?;
+        for (key, value) in &head {
+            match key.as_str() {
+                "emitters" => map.serialize_entry(key, &Items(sol.emitters.iter().map(emitter_json)))?,
+                "pipes" => map.serialize_entry(key, &Items(sol.pipes.iter().map(pipe_json)))?,
+                "warnings" => map.serialize_entry(key, &Items(sol.findings.iter().map(finding_json)))?,
+                _ => map.serialize_entry(key, value)?,
+            }
+        }
+        map.end()
+    }
+}
+
+/// A sequence serialised from an iterator, one item at a time.
+struct Items<I>(I);
+
+impl<I: Iterator<Item = Value> + Clone> serde::Serialize for Items<I> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_seq(self.0.clone())
+    }
+}
+
+/// The document without its arrays (they are `null` here).
+fn head_json(p: &Project, sol: &Solution) -> Value {
     let pump = sol.pump.as_ref();
     let totals = json!({
         "heat_load_w": round(sol.heat_load_w, 1),
@@ -49,73 +101,67 @@ pub fn solve_json(p: &Project, sol: &Solution) -> Value {
         "operate_ms": round(sol.timings.operate_ms, 4),
         "operate_iterations": sol.iterations,
     });
-    let emitters: Vec<Value> = sol
-        .emitters
-        .iter()
-        .map(|e| {
-            json!({
-                "id": e.id.to_string(),
-                "name": e.name,
-                "level": e.level,
-                "load_w": round(e.load_w, 1),
-                "room_c": round(e.room_c, 2),
-                "design_flow_l_h": round(e.design_flow_l_h, 2),
-                "flow_l_h": round(e.flow_l_h, 2),
-                "flow_deviation": round(e.flow_deviation, 5),
-                "supply_c": round(e.supply_c, 2),
-                "return_c": round(e.return_c, 2),
-                "design_return_c": round(e.design_return_c, 2),
-                "circuit_dp_kpa": round(e.circuit_dp_open_pa / 1000.0, 3),
-                "valve_dp_kpa": round(e.valve_dp_pa / 1000.0, 3),
-                "kv_needed_m3_h": round(e.kv_needed_m3_h, 4),
-                "presetting": e.presetting,
-                "valve_kv_m3_h": round(e.valve_kv_m3_h, 4),
-                "authority": round(e.authority, 3),
-                "output_w": round(e.output_w, 1),
-                "closed": e.closed,
-            })
-        })
-        .collect();
-    let pipes: Vec<Value> = sol
-        .pipes
-        .iter()
-        .map(|x| {
-            json!({
-                "run": x.run.to_string(),
-                "side": match x.side { Side::Supply => "supply", Side::Return => "return" },
-                "class": x.class.name(),
-                "length_m": round(x.length_m, 3),
-                "series": x.series,
-                "size": x.size,
-                "inner_mm": round(x.inner_mm, 2),
-                "flow_l_h": round(x.flow_l_h, 2),
-                "velocity_m_s": round(x.velocity_m_s, 4),
-                "velocity_limit_m_s": round(x.velocity_limit_m_s, 3),
-                "gradient_pa_m": round(x.gradient_pa_m, 2),
-                "dp_kpa": round(x.dp_pa / 1000.0, 4),
-                "zeta": round(x.zeta, 3),
-            })
-        })
-        .collect();
-    let warnings: Vec<Value> = sol
-        .findings
-        .iter()
-        .map(|f| {
-            json!({
-                "severity": match f.severity { Severity::Error => "error", Severity::Warning => "warning", Severity::Note => "note" },
-                "item": f.item.to_string(),
-                "message": f.message,
-            })
-        })
-        .collect();
-    json!({
+    let mut doc = json!({
         "schema": SOLVE_JSON_SCHEMA,
         "project": p.name,
         "mode": match p.settings.mode { crate::project::Mode::DesignFollowsLayout => "design", crate::project::Mode::Installed => "installed" },
         "totals": totals,
-        "emitters": emitters,
-        "pipes": pipes,
-        "warnings": warnings,
+    });
+    if let Value::Object(m) = &mut doc {
+        for key in STREAMED {
+            m.insert(key.to_owned(), Value::Null);
+        }
+    }
+    doc
+}
+
+fn emitter_json(e: &EmitterResult) -> Value {
+    json!({
+        "id": e.id.to_string(),
+        "name": e.name,
+        "level": e.level,
+        "load_w": round(e.load_w, 1),
+        "room_c": round(e.room_c, 2),
+        "design_flow_l_h": round(e.design_flow_l_h, 2),
+        "flow_l_h": round(e.flow_l_h, 2),
+        "flow_deviation": round(e.flow_deviation, 5),
+        "supply_c": round(e.supply_c, 2),
+        "return_c": round(e.return_c, 2),
+        "design_return_c": round(e.design_return_c, 2),
+        "circuit_dp_kpa": round(e.circuit_dp_open_pa / 1000.0, 3),
+        "valve_dp_kpa": round(e.valve_dp_pa / 1000.0, 3),
+        "kv_needed_m3_h": round(e.kv_needed_m3_h, 4),
+        "presetting": e.presetting,
+        "valve_kv_m3_h": round(e.valve_kv_m3_h, 4),
+        "authority": round(e.authority, 3),
+        "output_w": round(e.output_w, 1),
+        "closed": e.closed,
+    })
+}
+
+fn pipe_json(x: &PipeResult) -> Value {
+    json!({
+        "run": x.run.to_string(),
+        "side": match x.side { Side::Supply => "supply", Side::Return => "return" },
+        "class": x.class.name(),
+        "length_m": round(x.length_m, 3),
+        "series": x.series,
+        "size": x.size,
+        "inner_mm": round(x.inner_mm, 2),
+        "flow_l_h": round(x.flow_l_h, 2),
+        "velocity_m_s": round(x.velocity_m_s, 4),
+        "velocity_limit_m_s": round(x.velocity_limit_m_s, 3),
+        "gradient_pa_m": round(x.gradient_pa_m, 2),
+        "dp_kpa": round(x.dp_pa / 1000.0, 4),
+        "zeta": round(x.zeta, 3),
+    })
+}
+
+fn finding_json(f: &Finding) -> Value {
+    json!({
+        "severity": match f.severity { Severity::Error => "error", Severity::Warning => "warning", Severity::Note => "note" },
+        "item": f.item.to_string(),
+        "message": f.message,
     })
 }
 
@@ -123,6 +169,17 @@ pub fn solve_json(p: &Project, sol: &Solution) -> Value {
 #[must_use]
 pub fn solve_text(p: &Project, sol: &Solution) -> String {
     let mut s = String::new();
+    // Writing to a String cannot fail.
+    let _ = write_solve_text(&mut s, p, sol);
+    s
+}
+
+/// [`solve_text`] written line by line to `s` (the CLI streams it: a large
+/// project's summary is never held whole).
+///
+/// # Errors
+/// The first error of the sink.
+pub fn write_solve_text(s: &mut impl std::fmt::Write, p: &Project, sol: &Solution) -> std::fmt::Result {
     let s_ = &p.settings;
     out!(s, "{} — {:.0}/{:.0} °C, {} emitters", p.name, s_.supply_c, s_.return_c, sol.emitters.len());
     if let Some(pump) = &sol.pump {
@@ -218,7 +275,7 @@ pub fn solve_text(p: &Project, sol: &Solution) -> String {
         "\nDesign aid only: pressures, temperatures, safety devices and materials must follow local codes and licensed practice \
          (EN 12828 or the local equivalent)."
     );
-    s
+    Ok(())
 }
 
 fn truncate(s: &str, n: usize) -> String {

@@ -283,15 +283,16 @@ impl LinkDpCache {
 /// building has tens of thousands of warnings).
 #[derive(Debug, Default)]
 pub(super) struct MessageCache {
-    /// By `slot · KINDS + kind`.
-    entries: Vec<Option<MessageEntry>>,
+    /// By `slot · KINDS + kind`; boxed because most slots stay empty (one
+    /// pointer each instead of a whole entry: 30 MB less at 50,000 emitters).
+    entries: Vec<Option<Box<MessageEntry>>>,
 }
 
 #[derive(Debug)]
 struct MessageEntry {
     key: [u64; 5],
     text: String,
-    message: String,
+    message: Arc<str>,
 }
 
 impl MessageCache {
@@ -308,10 +309,10 @@ impl MessageCache {
         key: [u64; 5],
         text: &str,
         make: impl FnOnce() -> String,
-    ) -> String {
+    ) -> Arc<str> {
         let Some(ix) = slot.checked_mul(Self::KINDS).and_then(|x| x.checked_add(kind)).filter(|_| kind < Self::KINDS)
         else {
-            return make();
+            return make().into();
         };
         if let Some(Some(e)) = self.entries.get(ix)
             && e.key == key
@@ -319,14 +320,21 @@ impl MessageCache {
         {
             return e.message.clone();
         }
-        let message = make();
+        let message: Arc<str> = make().into();
         // Slots are bounded by the topology's dense node and run slots.
         if ix < usize::MAX / 2 {
             if ix >= self.entries.len() {
                 self.entries.resize_with(ix + 1, || None);
             }
             if let Some(x) = self.entries.get_mut(ix) {
-                *x = Some(MessageEntry { key, text: text.to_owned(), message: message.clone() });
+                match x {
+                    Some(e) => {
+                        e.key = key;
+                        text.clone_into(&mut e.text);
+                        e.message.clone_from(&message);
+                    }
+                    None => *x = Some(Box::new(MessageEntry { key, text: text.to_owned(), message: message.clone() })),
+                }
             }
         }
         message

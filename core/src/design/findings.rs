@@ -1,6 +1,7 @@
 //! Findings: errors, warnings and notes, each tied to the item it concerns.
 
 use std::fmt;
+use std::sync::Arc;
 
 use serde::Serialize;
 
@@ -55,24 +56,26 @@ pub struct Finding {
     pub severity: Severity,
     /// The item concerned.
     pub item: ItemRef,
-    /// What is wrong and how to fix it.
-    pub message: String,
+    /// What is wrong and how to fix it. Shared, not copied: an unchanged
+    /// warning of the last solve is the same text (a large building has
+    /// tens of thousands of them).
+    pub message: Arc<str>,
 }
 
 impl Finding {
     /// An error.
     #[must_use]
-    pub fn error(item: ItemRef, message: impl Into<String>) -> Self {
+    pub fn error(item: ItemRef, message: impl Into<Arc<str>>) -> Self {
         Self { severity: Severity::Error, item, message: message.into() }
     }
     /// A warning.
     #[must_use]
-    pub fn warning(item: ItemRef, message: impl Into<String>) -> Self {
+    pub fn warning(item: ItemRef, message: impl Into<Arc<str>>) -> Self {
         Self { severity: Severity::Warning, item, message: message.into() }
     }
     /// A note.
     #[must_use]
-    pub fn note(item: ItemRef, message: impl Into<String>) -> Self {
+    pub fn note(item: ItemRef, message: impl Into<Arc<str>>) -> Self {
         Self { severity: Severity::Note, item, message: message.into() }
     }
 }
