@@ -20,8 +20,14 @@ What is timed:
 - flowrise "warm drag": move one emitter, derive + design + operate with the
   same workspace; "operate (warm)": the operate stage of it.
 
+Rounds: this machine's speed drifts by tens of per cent over minutes, and
+the two engines are timed one after the other, so one pass can favour
+either. With `--rounds R` each size is measured R times, flowrise then
+EPANET, and the table shows the median over the rounds of every figure and
+of every ratio, with the range of the cold ratio over the rounds.
+
 Run (no other heavy job on the machine):
-  /tmp/epa/bin/python tests/epanet/bench_side_by_side.py [--sizes 100 1000 10000 50000] [--repeat 5]
+  /tmp/epa/bin/python tests/epanet/bench_side_by_side.py [--sizes 100 1000 10000 50000] [--repeat 5] [--rounds 3]
 """
 
 import argparse
@@ -80,43 +86,79 @@ def epanet_times(inp, repeat):
     }
 
 
+def flowrise_times(work, repeat, size):
+    """One run of the optimised driver for one size (its JSON line)."""
+    cmd = ["cargo", "bench", "-q", "-p", "flowrise-core", "--bench", "side_by_side", "--",
+           str(work), str(repeat), str(size)]
+    out = subprocess.run(cmd, cwd=ROOT, capture_output=True, text=True)
+    if out.returncode != 0:
+        raise RuntimeError(out.stderr)
+    return next(json.loads(line) for line in out.stdout.splitlines() if line.startswith("{"))
+
+
+def one_round(work, repeat, size):
+    """flowrise, then EPANET on the network flowrise exported, for one size."""
+    r = flowrise_times(work, repeat, size)
+    e = epanet_times(r["inp"], repeat)
+    r.update(e)
+    r["ratio_cold"] = r["cold_operate_ms"] / e["epanet_cold_ms"]
+    r["ratio_cold_vs_reinit"] = r["cold_operate_ms"] / e["epanet_reinit_run_ms"]
+    r["ratio_warm"] = r["warm_operate_ms"] / e["epanet_warm_ms"]
+    return r
+
+
+def median_row(rounds):
+    """Median over the rounds of every numeric figure, and the range of the
+    cold ratio."""
+    row = dict(rounds[0])
+    for key, value in rounds[0].items():
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            continue
+        values = sorted(x[key] for x in rounds)
+        # Counts (sizes, iterations) keep a value that was measured.
+        row[key] = values[len(values) // 2] if isinstance(value, int) else statistics.median(values)
+    row["ratio_cold_min"] = min(x["ratio_cold"] for x in rounds)
+    row["ratio_cold_max"] = max(x["ratio_cold"] for x in rounds)
+    row["rounds"] = len(rounds)
+    return row
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--sizes", nargs="+", default=["100", "1000", "10000", "50000"])
     ap.add_argument("--repeat", type=int, default=5)
+    ap.add_argument("--rounds", type=int, default=1)
     ap.add_argument("--keep", help="keep the exported networks here")
     args = ap.parse_args()
     ctx = contextlib.nullcontext(args.keep) if args.keep else tempfile.TemporaryDirectory()
     with ctx as tmp:
         work = Path(tmp)
         work.mkdir(parents=True, exist_ok=True)
-        cmd = ["cargo", "bench", "-q", "-p", "flowrise-core", "--bench", "side_by_side", "--",
-               str(work), str(args.repeat), *args.sizes]
-        out = subprocess.run(cmd, cwd=ROOT, capture_output=True, text=True)
-        if out.returncode != 0:
-            print(out.stderr, file=sys.stderr)
-            return 1
-        rows = [json.loads(line) for line in out.stdout.splitlines() if line.startswith("{")]
         print(f"{'emitters':>9} {'links':>7} | {'flowrise cold':>13} {'its':>3} | {'EPANET cold':>11} "
-              f"{'re-init':>8} {'its':>3} | {'ratio cold':>10} {'vs re-init':>10} | {'flowrise warm':>13} "
-              f"{'EPANET warm':>11} {'its':>3} | {'drag edit->results':>18} {'cold total':>10}")
-        for r in rows:
-            e = epanet_times(r["inp"], args.repeat)
-            r.update(e)
-            r["ratio_cold"] = r["cold_operate_ms"] / e["epanet_cold_ms"]
-            r["ratio_cold_vs_reinit"] = r["cold_operate_ms"] / e["epanet_reinit_run_ms"]
-            r["ratio_warm"] = r["warm_operate_ms"] / e["epanet_warm_ms"]
+              f"{'re-init':>8} {'its':>3} | {'ratio cold':>10} {'(range)':>13} {'vs re-init':>10} | "
+              f"{'flowrise warm':>13} {'EPANET warm':>11} {'its':>3} | {'drag edit->results':>18} {'cold total':>10}")
+        rows, all_rounds = [], []
+        for size in args.sizes:
+            try:
+                rounds = [one_round(work, args.repeat, size) for _ in range(max(1, args.rounds))]
+            except RuntimeError as err:
+                print(err, file=sys.stderr)
+                return 1
+            all_rounds.extend(rounds)
+            r = median_row(rounds)
+            rows.append(r)
             print(f"{r['emitters']:>9} {r['links']:>7} | {r['cold_operate_ms']:>10.3f} ms {r['cold_iterations']:>3.0f} | "
-                  f"{e['epanet_cold_ms']:>8.3f} ms {e['epanet_reinit_run_ms']:>5.3f} ms {str(e['epanet_iterations_cold']):>3} | "
-                  f"{r['ratio_cold']:>10.3f} {r['ratio_cold_vs_reinit']:>10.3f} | {r['warm_operate_ms']:>10.3f} ms "
-                  f"{e['epanet_warm_ms']:>8.3f} ms {str(e['epanet_iterations_warm']):>3} | "
-                  f"{r['warm_edit_to_results_ms']:>15.3f} ms {r['cold_total_ms']:>7.1f} ms")
+                  f"{r['epanet_cold_ms']:>8.3f} ms {r['epanet_reinit_run_ms']:>5.3f} ms {r['epanet_iterations_cold']:>3.0f} | "
+                  f"{r['ratio_cold']:>10.3f} {r['ratio_cold_min']:>6.3f}-{r['ratio_cold_max']:<6.3f} "
+                  f"{r['ratio_cold_vs_reinit']:>10.3f} | {r['warm_operate_ms']:>10.3f} ms "
+                  f"{r['epanet_warm_ms']:>8.3f} ms {r['epanet_iterations_warm']:>3.0f} | "
+                  f"{r['warm_edit_to_results_ms']:>15.3f} ms {r['cold_total_ms']:>7.1f} ms", flush=True)
         by_size = {r["emitters"]: r for r in rows}
         if 10000 in by_size and 50000 in by_size:
             a, b = by_size[10000], by_size[50000]
             for key in ("cold_operate_ms", "cold_total_ms", "warm_operate_ms", "warm_edit_to_results_ms"):
                 print(f"50,000 / 10,000 {key}: {b[key] / a[key]:.2f}")
-        (work / "side_by_side.json").write_text(json.dumps(rows, indent=1))
+        (work / "side_by_side.json").write_text(json.dumps({"medians": rows, "rounds": all_rounds}, indent=1))
     return 0
 
 
