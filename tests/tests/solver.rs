@@ -432,6 +432,78 @@ fn warm_start_on_a_small_network_takes_at_most_two_iterations() {
     }
 }
 
+/// Largest |a − b| / max(|b|, 1e-9) over the links.
+fn max_rel_diff(a: &[f64], b: &[f64]) -> f64 {
+    a.iter().zip(b).map(|(x, y)| (x - y).abs() / y.abs().max(1e-9)).fold(0.0, f64::max)
+}
+
+#[test]
+fn a_small_edit_is_solved_with_the_kept_factor_and_agrees_with_a_fresh_solve() {
+    // What a drag does: one rung's resistance changes by 0.01 %, the solve
+    // starts from the last answer with the last factor (a chord step, module
+    // docs of the solver, "Warm starts").
+    let n = 1000;
+    let net = ladder(n);
+    let s = SolveSettings::default();
+    let mut ws = SolverWorkspace::new(&net).unwrap();
+    let cold = solve(&net, &s, &mut ws, None).unwrap();
+    assert!(cold.converged && !cold.chord_step_kept);
+    // 0.1 %: the chord step is kept, and one Newton step with a fresh
+    // factor finishes (the old slope leaves a residual above the pressure
+    // tolerance at the edited rung).
+    let mut edited = net.clone();
+    edited.links[3 * 400].law = quad(1.001 * 10_000.0 / (0.02 * 0.02));
+    let warm = solve(&edited, &s, &mut SolverWorkspace::new(&net).unwrap(), Some(&cold.flows_kg_s)).unwrap();
+    assert!(warm.converged && !warm.chord_step_kept, "a fresh workspace has no factor to keep");
+    let mut ws2 = SolverWorkspace::new(&net).unwrap();
+    let _ = solve(&net, &s, &mut ws2, None).unwrap();
+    let warm = solve(&edited, &s, &mut ws2, Some(&cold.flows_kg_s)).unwrap();
+    assert!(warm.converged && warm.chord_step_kept && warm.iterations <= 2, "{:?}", warm.flow_change_history);
+    assert!(max_rel_diff(&warm.flows_kg_s, &solve_fresh(&edited).flows_kg_s) < 1e-5);
+    // 0.01 %: the chord step alone converges.
+    edited.links[3 * 400].law = quad(1.0001 * 10_000.0 / (0.02 * 0.02));
+    let warm = solve(&edited, &s, &mut ws, Some(&cold.flows_kg_s)).unwrap();
+    assert!(warm.converged, "{:?}", warm.diagnostic);
+    assert!(warm.chord_step_kept, "the first step should reuse the factor: {:?}", warm.flow_change_history);
+    assert_eq!(warm.iterations, 1, "{:?}", warm.flow_change_history);
+    assert_balanced(&edited, &warm);
+    for i in [2, 400, n] {
+        let closure = ladder_loop_closure(&edited, &warm, i);
+        assert!(closure.abs() < 0.02, "loop {i}: {closure} Pa");
+    }
+    // The same answer as Newton from scratch, to the flow tolerance.
+    let fresh = solve_fresh(&edited);
+    assert!(fresh.converged);
+    let d = max_rel_diff(&warm.flows_kg_s, &fresh.flows_kg_s);
+    assert!(d < 1e-5, "warm (chord) and fresh answers differ by {d:e}");
+    assert!(warm.flows_kg_s[3 * 400] < cold.flows_kg_s[3 * 400]);
+}
+
+#[test]
+fn a_large_edit_discards_the_chord_step_and_still_converges() {
+    // The pump's head doubles: every flow moves by about 40 %, too far for a
+    // step on the old factor. The chord step is tried, discarded, and Newton
+    // reaches the same answer as from scratch.
+    let n = 200;
+    let net = ladder(n);
+    let s = SolveSettings::default();
+    let mut ws = SolverWorkspace::new(&net).unwrap();
+    let cold = solve(&net, &s, &mut ws, None).unwrap();
+    assert!(cold.converged);
+    let mut edited = net.clone();
+    let head_pa = 10_000.0 + 2.0 * 20.0 * n as f64;
+    let m_total = 0.02 * n as f64;
+    edited.links[0].law = pump(2.5 * head_pa, 0.0, -0.5 * head_pa / (m_total * m_total));
+    let warm = solve(&edited, &s, &mut ws, Some(&cold.flows_kg_s)).unwrap();
+    assert!(warm.converged, "{:?}", warm.diagnostic);
+    assert!(!warm.chord_step_kept);
+    assert!(warm.flow_change_history[0] > 0.1, "{:?}", warm.flow_change_history);
+    assert_balanced(&edited, &warm);
+    let fresh = solve_fresh(&edited);
+    let d = max_rel_diff(&warm.flows_kg_s, &fresh.flows_kg_s);
+    assert!(d < 1e-5, "warm and fresh answers differ by {d:e}");
+}
+
 #[test]
 fn iteration_limit_reports_a_diagnostic() {
     let net = ladder(20);

@@ -99,6 +99,11 @@ pub struct SolverWorkspace {
     /// connectivity search is skipped when nothing opened or closed.
     pub(super) last_open: Vec<bool>,
     pub(super) last_had_isolated: bool,
+    /// `factor_values` hold the Cholesky factor of the matrix built from
+    /// `conductance` (the last numeric factorisation succeeded, with no
+    /// anchored part), for the open flags in `factored_open`.
+    pub(super) factor_ready: bool,
+    pub(super) factored_open: Vec<bool>,
 }
 
 impl std::fmt::Debug for SolverWorkspace {
@@ -251,6 +256,8 @@ impl SolverWorkspace {
         ws.eval_drop_pa = vec![0.0; n_links];
         ws.eval_slope_pa_s_kg = vec![0.0; n_links];
         ws.last_open = Vec::new();
+        ws.factor_ready = false;
+        ws.factored_open = Vec::new();
         Ok(ws)
     }
 
