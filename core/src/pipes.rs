@@ -6,7 +6,7 @@
 //! parse or holds non-physical data gives [`PhysicsError::Catalog`] — never a
 //! panic.
 //!
-//! Series ids (`"steel-en10255-medium"`, `"copper-en1057"`, `"pex-iso15875"`,
+//! Series ids (`"steel-en10255-medium"`, `"steel-en10220-welded"`, `"copper-en1057"`, `"pex-iso15875"`,
 //! `"pert-iso22391"`, `"multilayer-iso21003"`) are what project files store;
 //! they are stable.
 //!
@@ -26,7 +26,7 @@ use crate::error::{PhysicsError, PhysicsResult};
 /// jointing applies; the hydraulics only need the roughness).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Deserialize)]
 pub enum PipeMaterial {
-    /// Carbon steel tube (EN 10255).
+    /// Carbon steel tube (EN 10255, EN 10220).
     Steel,
     /// Copper tube (EN 1057).
     Copper,
@@ -239,7 +239,8 @@ impl PipeCatalog {
         Ok(Self { series })
     }
 
-    /// Every series, in a fixed order (steel, copper, PE-X, PE-RT, multilayer).
+    /// Every series, in a fixed order (steel, welded steel, copper, PE-X, PE-RT,
+    /// multilayer).
     #[must_use]
     pub fn series(&self) -> &[PipeSeries] {
         &self.series
@@ -258,8 +259,9 @@ impl PipeCatalog {
 }
 
 /// The embedded catalog files, `(file name, text)`.
-pub const BUILTIN_FILES: [(&str, &str); 5] = [
+pub const BUILTIN_FILES: [(&str, &str); 6] = [
     ("steel-en10255-medium.ron", include_str!("../../assets/pipes/steel-en10255-medium.ron")),
+    ("steel-en10220-welded.ron", include_str!("../../assets/pipes/steel-en10220-welded.ron")),
     ("copper-en1057.ron", include_str!("../../assets/pipes/copper-en1057.ron")),
     ("pex-iso15875.ron", include_str!("../../assets/pipes/pex-iso15875.ron")),
     ("pert-iso22391.ron", include_str!("../../assets/pipes/pert-iso22391.ron")),
@@ -326,6 +328,11 @@ mod tests {
         assert!((dn20.inner_diameter_m() - 0.0217).abs() < 1e-12);
         assert_eq!(steel.sizes.first().unwrap().label, "DN10");
         assert_eq!(steel.sizes.last().unwrap().label, "DN100");
+        let welded = find_series("steel-en10220-welded").unwrap();
+        assert_eq!(welded.material, PipeMaterial::Steel);
+        assert_eq!(welded.sizes.last().unwrap().label, "DN800");
+        // DN300: 323.9 − 2 × 5.6 = 312.7 mm.
+        assert!((welded.size("DN300").unwrap().inner_diameter_m() - 0.3127).abs() < 1e-12);
         for id in ["copper-en1057", "pex-iso15875", "pert-iso22391", "multilayer-iso21003"] {
             assert!(find_series(id).is_ok(), "{id}");
         }
@@ -345,7 +352,7 @@ mod tests {
 
     #[test]
     fn bad_catalog_files_are_errors_not_panics() {
-        let good = BUILTIN_FILES[1].1;
+        let good = BUILTIN_FILES.iter().find(|f| f.0 == "copper-en1057.ron").unwrap().1;
         assert!(matches!(PipeSeries::from_ron("x.ron", "(id: "), Err(PhysicsError::Catalog { .. })));
         let unordered = good.replace("outer_diameter_mm: 18.0", "outer_diameter_mm: 11.0");
         let e = PipeSeries::from_ron("x.ron", &unordered).unwrap_err();

@@ -56,6 +56,8 @@ GENERATED = [
     ("gen-2x25-reverse", ["--floors", "2", "--per-floor", "25", "--reverse-return", "--seed", "3"]),
     ("gen-2x12-headers", ["--floors", "2", "--per-floor", "12", "--headers", "--seed", "5"]),
     ("gen-10x100", ["--floors", "10", "--per-floor", "100", "--seed", "7"]),
+    # Three stair cores and two plant-level mains of welded steel (DN125 and up).
+    ("gen-4x250-cores", ["--floors", "4", "--per-floor", "250", "--seed", "11"]),
 ]
 
 

@@ -69,6 +69,8 @@ def pipe_cases():
         ("steel-en10255-medium", "DN20", 70.0, 0.20),
         ("steel-en10255-medium", "DN50", 55.0, 1.50),
         ("steel-en10255-medium", "DN100", 80.0, 6.00),
+        ("steel-en10220-welded", "DN300", 70.0, 60.0),
+        ("steel-en10220-welded", "DN600", 75.0, 250.0),
         ("copper-en1057", "15x1", 60.0, 0.05),
         ("copper-en1057", "28x1.5", 45.0, 0.30),
         ("pex-iso15875", "16x2", 35.0, 0.040),

@@ -135,7 +135,7 @@ fn fittings_match_fluids() {
 fn catalog_geometry_is_consistent() {
     // Geometry (definition): d = OD − 2·wall; water content = π d²/4 · 1000 l/m.
     let all = pipes::builtin_series().unwrap();
-    assert_eq!(all.len(), 5);
+    assert_eq!(all.len(), 6);
     for series in all {
         for size in &series.sizes {
             let d = (size.outer_diameter_mm - 2.0 * size.wall_mm) / 1000.0;
