@@ -403,3 +403,32 @@ mod tests {
         assert!(c.entries.is_empty());
     }
 }
+
+/// ζ of the tee at the head of each (run, side), kept with the exact inputs
+/// it came from (flow direction, leg, flow ratio and diameter ratio, as
+/// bits): a drag leaves them unchanged, and the tee correlations (powers
+/// and sines) are the dearest part of the pipe laws.
+#[derive(Debug, Default)]
+pub(super) struct TeeCache {
+    entries: Vec<Option<([u64; 4], f64)>>,
+}
+
+impl TeeCache {
+    /// ζ for slot `slot` of `slots` with inputs `key`: the kept value when
+    /// the inputs are identical, else `compute()` (kept for next time).
+    pub(super) fn zeta(&mut self, slot: usize, slots: usize, key: [u64; 4], compute: impl FnOnce() -> f64) -> f64 {
+        if self.entries.len() != slots {
+            self.entries.clear();
+            self.entries.resize(slots, None);
+        }
+        match self.entries.get_mut(slot) {
+            Some(Some((k, z))) if *k == key => *z,
+            Some(e) => {
+                let z = compute();
+                *e = Some((key, z));
+                z
+            }
+            None => compute(),
+        }
+    }
+}

@@ -301,6 +301,7 @@ pub struct Workspace {
     emitters: cache::EmitterCache,
     sizes: cache::SizeCache,
     link_dps: cache::LinkDpCache,
+    tees: cache::TeeCache,
     messages: cache::MessageCache,
 }
 
@@ -382,7 +383,7 @@ struct EmitterData {
 }
 
 /// Per-pipe derivation data.
-#[derive(Debug)]
+#[derive(Debug, Clone, Copy)]
 struct PipeData {
     run: RunId,
     side: Side,
@@ -768,8 +769,7 @@ impl<'f> Derivation<'f> {
                 });
             }
         }
-        // (run, side) is unique per pipe: an unstable sort gives the same order.
-        self.pipes.sort_unstable_by_key(|p| (p.run, p.side));
+        self.order_pipes_by_run();
         self.supply_link = vec![NONE; self.topo.run_slots()];
         self.supply_pipe = vec![NONE; self.topo.run_slots()];
         self.return_link = vec![NONE; self.topo.run_slots()];
@@ -790,6 +790,34 @@ impl<'f> Derivation<'f> {
             }
         }
         true
+    }
+
+    /// Puts `pipes` in (run id, side) order — the order of the results. Run
+    /// slots follow run ids, and a run has at most one supply and one return
+    /// pipe, so each pipe has its own bucket: a linear pass instead of a
+    /// comparison sort. A repeated (run, side), which the derivation never
+    /// builds, falls back to the sort.
+    fn order_pipes_by_run(&mut self) {
+        let slots = self.topo.run_slots();
+        let mut bucket = vec![NONE; 2 * slots];
+        let mut unique = true;
+        for (i, pd) in self.pipes.iter().enumerate() {
+            let b = 2 * self.topo.rix(pd.run) + usize::from(pd.side == Side::Return);
+            match bucket.get_mut(b) {
+                Some(x) if *x == NONE => *x = i,
+                _ => unique = false,
+            }
+        }
+        if !unique {
+            // (run, side) is unique per pipe: an unstable sort gives the same order.
+            self.pipes.sort_unstable_by_key(|p| (p.run, p.side));
+            return;
+        }
+        // Sized up front: collecting a filtered iterator would grow by
+        // doubling and copy the records each time.
+        let mut ordered = Vec::with_capacity(self.pipes.len());
+        ordered.extend(bucket.iter().filter(|&&i| i != NONE).map(|&i| self.pipes[i]));
+        self.pipes = ordered;
     }
 
     /// Design flow of every link from the emitter flows, by accumulation
@@ -964,15 +992,18 @@ impl<'f> Derivation<'f> {
             })
             .collect();
         let split = self.tree_flows(&load_split);
+        // ζ of a 90° bend: one value for every pipe (its correlation is the
+        // same call each time).
+        let bend_zeta = fittings::Fitting::BEND_90.zeta().unwrap_or(0.3);
         for i in 0..self.pipes.len() {
             let pd = &self.pipes[i];
             let Some(series) = pd.series else { continue };
             let Some(size) = series.sizes.get(pd.size) else { continue };
             let props = if pd.side == Side::Supply { sp } else { rp };
-            let mut zeta = pd.bends * fittings::Fitting::BEND_90.zeta().unwrap_or(0.3);
+            let mut zeta = pd.bends * bend_zeta;
             if pd.vertical {
                 // Foot and head of a riser: two bends (assumption, stated).
-                zeta += 2.0 * fittings::Fitting::BEND_90.zeta().unwrap_or(0.3);
+                zeta += 2.0 * bend_zeta;
             }
             // A header is a manifold, not a tee: its outlet gets a fixed ζ
             // (HEADER_OUTLET_ZETA); tees are booked at junctions.
@@ -983,7 +1014,7 @@ impl<'f> Derivation<'f> {
             if at_header {
                 zeta += HEADER_OUTLET_ZETA;
             } else {
-                zeta += self.tee_zeta(pd.run, pd.side, &split).max(0.0);
+                zeta += self.tee_zeta(pd.run, pd.side, &split, &mut ws.tees).max(0.0);
             }
             let zeta = zeta.max(0.0);
             let law = PipeHydraulics::new(
@@ -1029,9 +1060,23 @@ impl<'f> Derivation<'f> {
         // Resolve by repeated sweeps over pipe links (trees: each sweep
         // resolves at least one level; the breadth-first order of the runs
         // makes it one sweep, but for reverse-return chains).
-        let mut pending: Vec<(usize, usize)> =
-            self.pipes.iter().map(|pd| (self.topo.run_position(pd.run).unwrap_or(usize::MAX), pd.link)).collect();
-        pending.sort_unstable();
+        // (tree position, link) in ascending order: built by walking the tree
+        // runs in order (a run's supply link precedes its return link), sorted
+        // only if that does not hold.
+        let mut pending: Vec<(usize, usize)> = Vec::with_capacity(self.pipes.len());
+        for (pos, tr) in self.topo.runs.iter().enumerate() {
+            let r = self.topo.rix(tr.run);
+            for by_run in [&self.supply_link, &self.return_link] {
+                if let Some(&l) = by_run.get(r).filter(|&&l| l != NONE) {
+                    pending.push((pos, l));
+                }
+            }
+        }
+        if pending.len() != self.pipes.len() || !pending.is_sorted() {
+            pending.clear();
+            pending.extend(self.pipes.iter().map(|pd| (self.topo.run_position(pd.run).unwrap_or(usize::MAX), pd.link)));
+            pending.sort_unstable();
+        }
         let mut guard = 0;
         while !pending.is_empty() && guard < 2 * n_nodes + 2 {
             guard += 1;
@@ -1397,7 +1442,7 @@ impl<'f> Derivation<'f> {
     /// ζ of the tee at the upstream end of a run: dividing on the supply,
     /// combining on the return; the child with the largest flow is the run
     /// (straight) leg, the others are branches.
-    fn tee_zeta(&self, run: RunId, side: Side, flows: &[f64]) -> f64 {
+    fn tee_zeta(&self, run: RunId, side: Side, flows: &[f64], tees: &mut cache::TeeCache) -> f64 {
         let Some(tr) = self.topo.tree_run(run) else { return 0.0 };
         let children = self.topo.children_of(tr.up);
         if children.len() < 2 {
@@ -1442,7 +1487,11 @@ impl<'f> Derivation<'f> {
         let feed = self.topo.parent_run_of(tr.up).unwrap_or(largest);
         let (d_branch, d_run) = (diameter_of(branch_run), diameter_of(feed));
         let beta = if d_branch > 0.0 && d_run > 0.0 { (d_branch / d_run).clamp(0.05, 1.0) } else { 1.0 };
-        fittings::Fitting::Tee { flow, leg, flow_ratio: ratio, branch_diameter_ratio: beta }.zeta().unwrap_or(0.0)
+        let key = [flow as u64, leg as u64, ratio.to_bits(), beta.to_bits()];
+        let slot = 2 * self.topo.rix(run) + usize::from(side == Side::Return);
+        tees.zeta(slot, 2 * self.topo.run_slots(), key, || {
+            fittings::Fitting::Tee { flow, leg, flow_ratio: ratio, branch_diameter_ratio: beta }.zeta().unwrap_or(0.0)
+        })
     }
 
     /// Findings from an emitter's own design.
