@@ -956,7 +956,7 @@ fn newton_loop(
         let change = sum_step / sum_flow.max(FLOW_SCALE_FLOOR_KG_S);
         if chord {
             chord = false;
-            if !(change <= CHORD_MAX_FLOW_CHANGE) {
+            if change.is_nan() || change > CHORD_MAX_FLOW_CHANGE {
                 // Too large (or not finite) for a step on an old slope:
                 // forget it and make a Newton step from the same state.
                 std::mem::swap(&mut ws.rel_pressure_pa, &mut ws.rel_pressure_old_pa);
