@@ -65,6 +65,9 @@ pub const EMITTERS_PER_CORE: u32 = 100;
 /// Distance between the risers of neighbouring cores, m (a core's corridor
 /// of ten branches is 30 m long).
 pub const CORE_SPACING_M: f64 = 40.0;
+/// Plan position of the plant-level mains on the lowest level, m: beyond the
+/// ends of the branches on the −y side, so the mains cross no branch.
+pub const PLANT_MAIN_Y_M: f64 = -(BRANCH_SPACING_M * EMITTERS_PER_BRANCH as f64) - 6.0;
 /// Pipe series of mains and risers in generated buildings.
 pub const MAIN_SERIES: &str = "steel-en10220-welded";
 /// Floor loops per header at most.
@@ -247,14 +250,14 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     let source = if cores == 1 {
         d.node(0, -3.0, 0.0, source_kind(0.0, placeholder_curve, 50.0))
     } else {
-        d.node(0, core_x(middle), -9.0, source_kind(0.0, placeholder_curve, 50.0))
+        d.node(0, core_x(middle) + 2.0, PLANT_MAIN_Y_M - 3.0, source_kind(0.0, placeholder_curve, 50.0))
     };
     let main = RunProps { class: Some(PipeClass::Main), ..RunProps::default() };
     // Feed of each core's riser foot: the source, or a junction of the
     // plant-level main (which runs from the middle core both ways).
     let mut feeds = vec![source; cores as usize];
     if cores > 1 {
-        let plant: Vec<NodeId> = (0..cores).map(|c| d.node(0, core_x(c), -6.0, NodeKind::Junction)).collect();
+        let plant: Vec<NodeId> = (0..cores).map(|c| d.node(0, core_x(c), PLANT_MAIN_Y_M, NodeKind::Junction)).collect();
         // Two mains leave the source: one towards core 0, one towards the
         // last core.
         let mid = middle as usize;

@@ -41,7 +41,11 @@ pub enum OutlineOutcome {
 /// The form's contents.
 pub fn show(ui: &mut Ui, form: &mut OutlineForm) -> OutlineOutcome {
     let mut outcome = OutlineOutcome::Open;
-    ui.label("Start a project from the building's outline: a riser from the heat source, one floor branch per floor and an emitter per room, with room loads to replace by your own.");
+    ui.label(
+        "Start a project from the building's outline: a riser from the heat source (one riser per 100 rooms on a floor, \
+         fed by plant-room mains), a corridor main and branches on each floor and an emitter per room, with room loads to \
+         replace by your own.",
+    );
     ui.add_space(4.0);
     egui::Grid::new("outline_grid").num_columns(2).spacing([12.0, 6.0]).show(ui, |ui| {
         let id = ui.label("Floors").id;
