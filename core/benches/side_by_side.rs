@@ -47,6 +47,7 @@ fn main() {
         let project = generate_building(&BuildingSpec::new(floors, per_floor)).expect("generate");
         let opts = SolveOptions { matched_physics: true, ..SolveOptions::default() };
         let (mut derive, mut design, mut operate, mut total, mut iters) = (vec![], vec![], vec![], vec![], vec![]);
+        let (mut solver, mut w_solver) = (vec![], vec![]);
         let mut last = None;
         for _ in 0..repeat {
             let t = Instant::now();
@@ -55,6 +56,7 @@ fn main() {
             derive.push(sol.timings.derive_ms);
             design.push(sol.timings.design_ms);
             operate.push(sol.timings.operate_ms);
+            solver.push(sol.timings.solver_ms);
             iters.push(sol.iterations as f64);
             last = Some(sol);
         }
@@ -78,6 +80,7 @@ fn main() {
             let s = solve_project(&drag, &opts, &mut ws);
             w_total.push(t.elapsed().as_secs_f64() * 1e3);
             w_op.push(s.timings.operate_ms);
+            w_solver.push(s.timings.solver_ms);
             w_derive.push(s.timings.derive_ms);
             w_design.push(s.timings.design_ms);
             w_it.push(s.iterations as f64);
@@ -90,10 +93,10 @@ fn main() {
                 "flow_tolerance": opts.solver.flow_tolerance,
                 "cold_derive_ms": median(&mut derive), "cold_design_ms": median(&mut design),
                 "cold_operate_ms": median(&mut operate), "cold_total_ms": median(&mut total),
-                "cold_iterations": median(&mut iters),
+                "cold_iterations": median(&mut iters), "cold_solver_ms": median(&mut solver),
                 "warm_derive_ms": median(&mut w_derive), "warm_design_ms": median(&mut w_design),
                 "warm_operate_ms": median(&mut w_op), "warm_edit_to_results_ms": median(&mut w_total),
-                "warm_iterations": median(&mut w_it),
+                "warm_iterations": median(&mut w_it), "warm_solver_ms": median(&mut w_solver),
             })
         );
     }

@@ -99,6 +99,7 @@ fn head_json(p: &Project, sol: &Solution) -> Value {
         "derive_ms": round(sol.timings.derive_ms, 4),
         "design_ms": round(sol.timings.design_ms, 4),
         "operate_ms": round(sol.timings.operate_ms, 4),
+        "operate_solver_ms": round(sol.timings.solver_ms, 4),
         "operate_iterations": sol.iterations,
     });
     let mut doc = json!({

@@ -225,8 +225,12 @@ pub struct StageTimings {
     pub derive_ms: f64,
     /// Design pass.
     pub design_ms: f64,
-    /// Operating solve.
+    /// Operating solve (the hydraulic solve and the results at the real
+    /// flows: emitter outputs, pipe velocities and gradients, findings).
     pub operate_ms: f64,
+    /// The hydraulic solve alone, part of `operate_ms` (what a
+    /// general-purpose network solver does: flows and pressures).
+    pub solver_ms: f64,
 }
 
 /// Everything a solve produces.
@@ -1689,7 +1693,10 @@ impl<'f> Derivation<'f> {
         let initial: &[f64] = if same_topology { &ws.last_flows } else { &self.design_flows };
         let report = solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(initial));
         let report = match report {
-            Ok(r) => r,
+            Ok(r) => {
+                sol.timings.solver_ms = r.timings.total_us / 1000.0;
+                r
+            }
             Err(e) => {
                 ws.solver = Some(solver_ws);
                 self.findings.push(Finding::error(ItemRef::Project, format!("network: {e}")));

@@ -497,10 +497,20 @@ impl LinkKernel {
 }
 
 /// Every node and link value checked (topology is checked by the
-/// workspace). A link law equal to the one validated at the workspace's last
+/// workspace); each link's open flag and static term set. A link law equal to the one validated at the workspace's last
 /// solve is not checked again; a changed law is checked, remembered, and its
 /// cached evaluation dropped.
-fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<(), SolveError> {
+///
+/// The same pass compares each link's endpoints with the workspace's (the
+/// topology check of [`SolverWorkspace::matches`], without a second pass
+/// over the links): a difference returns `Ok(false)` — the caller rebuilds
+/// the workspace and validates again. A value error is returned only when
+/// the topology matches, so a changed topology is always rebuilt (and its
+/// own errors reported) first, as with a separate check.
+fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<bool, SolveError> {
+    let same_ends = |ws: &SolverWorkspace, from: usize| {
+        ws.endpoints[from..].iter().zip(&net.links[from..]).all(|(&(i, j), l)| i == l.from && j == l.to)
+    };
     check::finite("reference pressure", net.reference_pressure_pa, "Pa")
         .map_err(SolveError::InvalidReferencePressure)?;
     for (node, n) in net.nodes.iter().enumerate() {
@@ -511,8 +521,21 @@ fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<(
         }
     }
     for (link, l) in net.links.iter().enumerate() {
-        check::positive("link water density", l.density_kg_m3, "kg/m³")
-            .map_err(|source| SolveError::InvalidLink { link, source })?;
+        if ws.endpoints[link] != (l.from, l.to) {
+            return Ok(false);
+        }
+        if !(l.density_kg_m3.is_finite() && l.density_kg_m3 > 0.0) {
+            if !same_ends(ws, link) {
+                return Ok(false);
+            }
+            check::positive("link water density", l.density_kg_m3, "kg/m³")
+                .map_err(|source| SolveError::InvalidLink { link, source })?;
+        }
+        // The open flag and the static term ride along this pass (the
+        // endpoints are checked by the workspace).
+        ws.open[link] = !l.closed;
+        let (zi, zj) = (net.nodes[l.from].elevation_m, net.nodes[l.to].elevation_m);
+        ws.static_pa[link] = l.density_kg_m3 * GRAVITY_M_S2 * (zi - zj);
         if ws.known_law[link].as_ref() == Some(&l.law) {
             continue;
         }
@@ -534,7 +557,9 @@ fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<(
                 .and_then(|_| check::finite("pump coefficient a2", a2_pa_s2_kg2, "Pa·s²/kg²"))
                 .map(|_| ()),
         };
-        checked.map_err(|source| SolveError::InvalidLink { link, source })?;
+        if let Err(source) = checked {
+            return if same_ends(ws, link) { Err(SolveError::InvalidLink { link, source }) } else { Ok(false) };
+        }
         ws.kernels[link] = LinkKernel::new(&l.law);
         match &mut ws.known_law[link] {
             Some(known) => known.clone_from(&l.law),
@@ -542,7 +567,7 @@ fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<(
         }
         ws.eval_flow_kg_s[link] = f64::NAN;
     }
-    Ok(())
+    Ok(true)
 }
 
 /// Solves the network for link mass flows and node pressures.
@@ -570,13 +595,18 @@ pub fn solve(
     let t_total = Instant::now();
     settings.validate().map_err(SolveError::InvalidSettings)?;
     let mut timings = SolveTimings::default();
-    let workspace_rebuilt = !workspace.matches(net);
-    if workspace_rebuilt {
+    // The cheap part of the topology check here; the endpoints are compared
+    // in the pass of `validate_values`.
+    let mut workspace_rebuilt = !workspace.matches_counts(net);
+    if workspace_rebuilt || !validate_values(net, workspace)? {
         let t = Instant::now();
         *workspace = SolverWorkspace::new(net)?;
         timings.symbolic_us = micros(t);
+        workspace_rebuilt = true;
+        if !validate_values(net, workspace)? {
+            return Err(SolveError::Factorisation("the rebuilt workspace does not match the network".into()));
+        }
     }
-    validate_values(net, workspace)?;
     if let Some(init) = initial_flows_kg_s {
         if init.len() != net.links.len() {
             return Err(SolveError::InitialFlowCount { expected: net.links.len(), got: init.len() });
@@ -639,7 +669,7 @@ fn micros(t: Instant) -> f64 {
     t.elapsed().as_secs_f64() * 1e6
 }
 
-/// Per-solve setup: open flags, static terms, start flows, anchors of the
+/// Per-solve setup: start flows, anchors of the
 /// parts cut off by closed links. Returns the isolated nodes (sorted).
 fn prepare(
     ws: &mut SolverWorkspace,
@@ -647,10 +677,8 @@ fn prepare(
     settings: &SolveSettings,
     initial_flows_kg_s: Option<&[f64]>,
 ) -> Result<Vec<usize>, SolveError> {
+    // Open flags and static terms: set by `validate_values`.
     for (k, l) in net.links.iter().enumerate() {
-        ws.open[k] = !l.closed;
-        let (zi, zj) = (net.nodes[l.from].elevation_m, net.nodes[l.to].elevation_m);
-        ws.static_pa[k] = l.density_kg_m3 * GRAVITY_M_S2 * (zi - zj);
         let start = match (initial_flows_kg_s, &l.law) {
             (Some(init), _) => init[k],
             (None, LinkLaw::Pipe(p)) => p.density_kg_m3 * settings.initial_velocity_m_s * p.flow_area_m2(),
@@ -1017,17 +1045,22 @@ fn newton_loop(
     Outcome::IterationLimit
 }
 
-/// Largest |Σ out − Σ in − demand| over non-reference nodes, kg/s
-/// (allocates; after the loop).
-fn mass_imbalance(ws: &SolverWorkspace, net: &HydraulicNetwork) -> f64 {
-    let mut balance: Vec<f64> = net.nodes.iter().map(|n| -n.demand_kg_s).collect();
+/// Largest |Σ out − Σ in − demand| over non-reference nodes, kg/s (after
+/// the loop; the node sums go in the workspace's `balance`).
+fn mass_imbalance(ws: &mut SolverWorkspace, net: &HydraulicNetwork) -> f64 {
+    let mut balance = std::mem::take(&mut ws.balance);
+    balance.clear();
+    balance.extend(net.nodes.iter().map(|n| -n.demand_kg_s));
     for (k, &(i, j)) in ws.endpoints.iter().enumerate() {
         if ws.open[k] {
             balance[i] += ws.flow_kg_s[k];
             balance[j] -= ws.flow_kg_s[k];
         }
     }
-    balance.iter().enumerate().filter(|&(v, _)| v != net.reference_node).map(|(_, b)| b.abs()).fold(0.0, f64::max)
+    let worst =
+        balance.iter().enumerate().filter(|&(v, _)| v != net.reference_node).map(|(_, b)| b.abs()).fold(0.0, f64::max);
+    ws.balance = balance;
+    worst
 }
 
 /// Links that oscillate or still move, most suspicious first.

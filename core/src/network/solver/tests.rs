@@ -177,6 +177,17 @@ fn workspace_is_reused_and_rebuilt_on_topology_change() {
     let expected = (10_000.0f64 / 2.5e7).sqrt();
     assert!((c.flows_kg_s[0] - expected).abs() < 1e-6 * expected, "{:?}", c.flows_kg_s);
     assert!(ws.matrix_nonzeros() >= 3 && ws.factor_nonzeros() >= 3);
+    // Same counts, one link rewired (its endpoints are compared in the
+    // validation pass): rebuilt, and a bad value on an earlier link is
+    // still reported after the rebuild.
+    let mut rewired = bigger.clone();
+    rewired.links[2] = link(0, 2, quad(1.5e7));
+    let d = solve(&rewired, &s, &mut ws, None).unwrap();
+    assert!(d.converged && d.workspace_rebuilt);
+    let mut bad = bigger.clone();
+    bad.links[0].density_kg_m3 = -1.0;
+    assert!(matches!(solve(&bad, &s, &mut ws, None), Err(SolveError::InvalidLink { link: 0, .. })));
+    assert!(ws.matches(&bigger));
 }
 
 #[test]

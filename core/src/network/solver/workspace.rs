@@ -104,6 +104,8 @@ pub struct SolverWorkspace {
     /// anchored part), for the open flags in `factored_open`.
     pub(super) factor_ready: bool,
     pub(super) factored_open: Vec<bool>,
+    /// Node sums of the mass-balance check (scratch).
+    pub(super) balance: Vec<f64>,
 }
 
 impl std::fmt::Debug for SolverWorkspace {
@@ -264,11 +266,16 @@ impl SolverWorkspace {
     /// True when this workspace was built for `net`'s topology.
     #[must_use]
     pub fn matches(&self, net: &HydraulicNetwork) -> bool {
+        self.matches_counts(net) && self.endpoints.iter().zip(&net.links).all(|(&(i, j), l)| i == l.from && j == l.to)
+    }
+
+    /// [`SolverWorkspace::matches`] without the endpoint comparison: built,
+    /// same node count, reference node and link count.
+    pub(super) fn matches_counts(&self, net: &HydraulicNetwork) -> bool {
         self.built
             && self.node_count == net.nodes.len()
             && self.reference_node == net.reference_node
             && self.endpoints.len() == net.links.len()
-            && self.endpoints.iter().zip(&net.links).all(|(&(i, j), l)| i == l.from && j == l.to)
     }
 
     /// Pressure drop F_k of each link along its direction at the flows of
