@@ -253,9 +253,10 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
         d.node(0, core_x(middle) + 2.0, PLANT_MAIN_Y_M - 3.0, source_kind(0.0, placeholder_curve, 50.0))
     };
     let main = RunProps { class: Some(PipeClass::Main), ..RunProps::default() };
-    // Feed of each core's riser foot: the source, or a junction of the
-    // plant-level main (which runs from the middle core both ways).
-    let mut feeds = vec![source; cores as usize];
+    // What each core's next riser junction hangs from: first the source or
+    // a junction of the plant-level mains (which run from the middle core
+    // both ways), then the core's junction on the level below.
+    let mut below = vec![source; cores as usize];
     if cores > 1 {
         let plant: Vec<NodeId> = (0..cores).map(|c| d.node(0, core_x(c), PLANT_MAIN_Y_M, NodeKind::Junction)).collect();
         // Two mains leave the source: one towards core 0, one towards the
@@ -271,10 +272,9 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
         for c in mid + 2..cores as usize {
             d.run(plant[c - 1], plant[c], main.clone());
         }
-        feeds = plant;
+        below = plant;
     }
     let mut total_load_w = 0.0;
-    let mut below: Vec<Option<NodeId>> = vec![None; cores as usize];
     for f in 0..spec.floors {
         let mut left_floor = spec.per_floor;
         // Branch number on the level (names stay unique across cores).
@@ -283,8 +283,8 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
             let x0 = core_x(c);
             let riser = d.node(f, x0, 0.0, NodeKind::Junction);
             let slot = c as usize;
-            d.run(below[slot].unwrap_or(feeds[slot]), riser, main.clone());
-            below[slot] = Some(riser);
+            d.run(below[slot], riser, main.clone());
+            below[slot] = riser;
             let mut left = left_floor.min(per_core);
             left_floor -= left;
             let mut corridor_prev = riser;

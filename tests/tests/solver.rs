@@ -432,6 +432,16 @@ fn warm_start_on_a_small_network_takes_at_most_two_iterations() {
     }
 }
 
+/// A ladder of `n` rungs solved cold in its own workspace (kept for warm
+/// re-solves).
+fn solved_ladder(n: usize) -> (HydraulicNetwork, SolverWorkspace, SolveReport) {
+    let net = ladder(n);
+    let mut ws = SolverWorkspace::new(&net).unwrap();
+    let cold = solve(&net, &SolveSettings::default(), &mut ws, None).unwrap();
+    assert!(cold.converged && !cold.chord_step_kept);
+    (net, ws, cold)
+}
+
 /// Largest |a − b| / max(|b|, 1e-9) over the links.
 fn max_rel_diff(a: &[f64], b: &[f64]) -> f64 {
     a.iter().zip(b).map(|(x, y)| (x - y).abs() / y.abs().max(1e-9)).fold(0.0, f64::max)
@@ -443,11 +453,8 @@ fn a_small_edit_is_solved_with_the_kept_factor_and_agrees_with_a_fresh_solve() {
     // starts from the last answer with the last factor (a chord step, module
     // docs of the solver, "Warm starts").
     let n = 1000;
-    let net = ladder(n);
     let s = SolveSettings::default();
-    let mut ws = SolverWorkspace::new(&net).unwrap();
-    let cold = solve(&net, &s, &mut ws, None).unwrap();
-    assert!(cold.converged && !cold.chord_step_kept);
+    let (net, mut ws, cold) = solved_ladder(n);
     // 0.1 %: the chord step is kept, and one Newton step with a fresh
     // factor finishes (the old slope leaves a residual above the pressure
     // tolerance at the edited rung).
@@ -455,8 +462,7 @@ fn a_small_edit_is_solved_with_the_kept_factor_and_agrees_with_a_fresh_solve() {
     edited.links[3 * 400].law = quad(1.001 * 10_000.0 / (0.02 * 0.02));
     let warm = solve(&edited, &s, &mut SolverWorkspace::new(&net).unwrap(), Some(&cold.flows_kg_s)).unwrap();
     assert!(warm.converged && !warm.chord_step_kept, "a fresh workspace has no factor to keep");
-    let mut ws2 = SolverWorkspace::new(&net).unwrap();
-    let _ = solve(&net, &s, &mut ws2, None).unwrap();
+    let (_, mut ws2, _) = solved_ladder(n);
     let warm = solve(&edited, &s, &mut ws2, Some(&cold.flows_kg_s)).unwrap();
     assert!(warm.converged && warm.chord_step_kept && warm.iterations <= 2, "{:?}", warm.flow_change_history);
     assert!(max_rel_diff(&warm.flows_kg_s, &solve_fresh(&edited).flows_kg_s) < 1e-5);
@@ -485,11 +491,8 @@ fn a_large_edit_discards_the_chord_step_and_still_converges() {
     // step on the old factor. The chord step is tried, discarded, and Newton
     // reaches the same answer as from scratch.
     let n = 200;
-    let net = ladder(n);
     let s = SolveSettings::default();
-    let mut ws = SolverWorkspace::new(&net).unwrap();
-    let cold = solve(&net, &s, &mut ws, None).unwrap();
-    assert!(cold.converged);
+    let (net, mut ws, cold) = solved_ladder(n);
     let mut edited = net.clone();
     let head_pa = 10_000.0 + 2.0 * 20.0 * n as f64;
     let m_total = 0.02 * n as f64;
