@@ -186,6 +186,24 @@ fn open_window(file: Option<&std::path::Path>) -> ExitCode {
     }
 }
 
+/// Refuse an output option that names the input file (after links): it
+/// would destroy the project. Prints the message and gives the exit code.
+pub fn refuse_output_over_input(
+    input: &std::path::Path,
+    output: &std::path::Path,
+    option: &str,
+) -> Result<(), ExitCode> {
+    if flowrise_core::project::file::same_file(input, output) {
+        eprintln!(
+            "flowrise: {option} {} is the project file itself — writing there would destroy the project; \
+             give another output file",
+            output.display()
+        );
+        return Err(ExitCode::from(EXIT_INVALID));
+    }
+    Ok(())
+}
+
 /// Load a project or print the error and return the exit code.
 pub fn load_or_exit(file: &std::path::Path) -> Result<Project, ExitCode> {
     Project::load(file).map_err(|e| {
@@ -285,6 +303,11 @@ enum Export {
 /// the HTML report. An invalid file or a design with errors writes nothing
 /// and exits 2 with the errors on stderr.
 fn export(file: &std::path::Path, output: Option<&std::path::Path>, what: Export) -> ExitCode {
+    if let Some(out) = output
+        && let Err(code) = refuse_output_over_input(file, out, "-o")
+    {
+        return code;
+    }
     let project = match Project::load(file) {
         Ok(p) => p,
         Err(e) => {
@@ -337,8 +360,8 @@ fn export(file: &std::path::Path, output: Option<&std::path::Path>, what: Export
     };
     match output {
         Some(path) => {
-            if let Err(e) = std::fs::write(path, text) {
-                eprintln!("flowrise: cannot write {}: {e}", path.display());
+            if let Err(e) = flowrise_core::project::file::write_atomic(path, text.as_bytes()) {
+                eprintln!("flowrise: cannot write {e}");
                 return ExitCode::from(EXIT_INVALID);
             }
         }

@@ -108,8 +108,8 @@ pub fn generate(a: &GenerateArgs) -> ExitCode {
         }
     };
     if let Err(e) = project.save(&a.output) {
-        eprintln!("flowrise: {e}");
-        return ExitCode::FAILURE;
+        eprintln!("flowrise: cannot write {e}");
+        return ExitCode::from(EXIT_INVALID);
     }
     eprintln!(
         "flowrise: wrote {} ({} emitters, {} runs)",
@@ -122,6 +122,13 @@ pub fn generate(a: &GenerateArgs) -> ExitCode {
 
 /// `flowrise export-network`.
 pub fn export_network(a: &ExportArgs) -> ExitCode {
+    for (out, option) in [(Some(&a.output), "-o"), (a.flows_json.as_ref(), "--flows-json")] {
+        if let Some(out) = out
+            && let Err(code) = super::refuse_output_over_input(&a.file, out, option)
+        {
+            return code;
+        }
+    }
     let project = match load(&a.file) {
         Ok(p) => p,
         Err(code) => return code,
@@ -148,8 +155,8 @@ pub fn export_network(a: &ExportArgs) -> ExitCode {
         }
     };
     if let Err(e) = flowrise_core::project::file::write_atomic(&a.output, text.as_bytes()) {
-        eprintln!("flowrise: {e}");
-        return ExitCode::FAILURE;
+        eprintln!("flowrise: cannot write {e}");
+        return ExitCode::from(EXIT_INVALID);
     }
     if let Some(path) = &a.flows_json {
         let doc = match flows_json(&sol, &eo) {
@@ -167,8 +174,8 @@ pub fn export_network(a: &ExportArgs) -> ExitCode {
             }
         };
         if let Err(e) = flowrise_core::project::file::write_atomic(path, &bytes) {
-            eprintln!("flowrise: {e}");
-            return ExitCode::FAILURE;
+            eprintln!("flowrise: cannot write {e}");
+            return ExitCode::from(EXIT_INVALID);
         }
     }
     ExitCode::SUCCESS

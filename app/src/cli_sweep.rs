@@ -7,10 +7,15 @@ use std::process::ExitCode;
 use flowrise_core::project::{NodeId, Project};
 use flowrise_core::sweep::{self, SweepSpec};
 
-use crate::cli::{EXIT_INVALID, load_or_exit, parse_node_id};
+use crate::cli::{EXIT_INVALID, load_or_exit, parse_node_id, refuse_output_over_input};
 
 /// Supply-temperature sweep.
 pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) -> ExitCode {
+    if let Some(out) = csv
+        && let Err(code) = refuse_output_over_input(file, out, "--csv")
+    {
+        return code;
+    }
     let p = match load_or_exit(file) {
         Ok(p) => p,
         Err(code) => return code,
@@ -80,6 +85,11 @@ pub fn run_part_load(
     json: bool,
     csv: Option<&Path>,
 ) -> ExitCode {
+    if let Some(out) = csv
+        && let Err(code) = refuse_output_over_input(file, out, "--csv")
+    {
+        return code;
+    }
     let p: Project = match load_or_exit(file) {
         Ok(p) => p,
         Err(code) => return code,

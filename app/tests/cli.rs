@@ -121,3 +121,59 @@ fn cli_exit_codes() {
     assert_eq!(out.status.code(), Some(2));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A temporary folder of this test process.
+fn scratch(tag: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("flowrise-cli-{tag}-{}", std::process::id()));
+    std::fs::remove_dir_all(&dir).ok();
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// Issue 20 item 2: an output option that names the input (directly, by a
+/// relative path from another folder, or through a symbolic link) is
+/// refused with exit 2 and the project is left as it was, for every
+/// subcommand that writes a file.
+#[test]
+fn cli_refuses_an_output_that_is_the_input() {
+    let dir = scratch("same");
+    let project = dir.join("p.ron");
+    std::fs::copy(&demo_paths()[0], &project).unwrap();
+    let before = std::fs::read(&project).unwrap();
+    #[cfg(unix)]
+    std::os::unix::fs::symlink("p.ron", dir.join("link.ron")).unwrap();
+    let mut cases: Vec<Vec<&str>> = vec![
+        vec!["parts", "p.ron", "-o", "p.ron"],
+        vec!["report", "p.ron", "-o", "./p.ron"],
+        vec!["export-network", "p.ron", "-o", "p.ron"],
+        vec!["sweep", "p.ron", "--from", "70", "--to", "60", "--csv", "p.ron"],
+        vec!["part-load", "p.ron", "--fraction", "0.5", "--csv", "p.ron"],
+        vec!["parts", "p.ron", "-o", "sub/../p.ron"],
+    ];
+    #[cfg(unix)]
+    cases.push(vec!["parts", "p.ron", "-o", "link.ron"]);
+    std::fs::create_dir_all(dir.join("sub")).unwrap();
+    for args in cases {
+        let out = flowrise().current_dir(&dir).args(&args).output().unwrap();
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {}", String::from_utf8_lossy(&out.stderr));
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains("project file itself"), "{args:?}: {err}");
+        assert_eq!(std::fs::read(&project).unwrap(), before, "{args:?} changed the project");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// `parts -o` and `report -o` write through a symbolic link to the file it
+/// points to (the link stays), atomically, like every other writer.
+#[cfg(unix)]
+#[test]
+fn cli_writes_through_a_symlinked_output() {
+    let dir = scratch("link");
+    std::fs::write(dir.join("parts-real.csv"), "old").unwrap();
+    std::os::unix::fs::symlink("parts-real.csv", dir.join("parts.csv")).unwrap();
+    let out = flowrise().arg("parts").arg(&demo_paths()[0]).arg("-o").arg(dir.join("parts.csv")).output().unwrap();
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(std::fs::symlink_metadata(dir.join("parts.csv")).unwrap().file_type().is_symlink());
+    assert!(std::fs::read_to_string(dir.join("parts-real.csv")).unwrap().starts_with("category,"));
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -428,3 +428,157 @@ fn the_parts_tab_follows_the_open_document() {
     h.run();
     assert!(has_header(&h), "the apartment block's headers are listed");
 }
+
+/// The first emitter of a project with a radiator model.
+fn first_radiator(p: &Project) -> NodeId {
+    p.emitters()
+        .into_iter()
+        .find(|&id| {
+            matches!(&p.node(id).unwrap().kind, NodeKind::Emitter(e)
+                if matches!(e.model, flowrise_core::emitters::EmitterModel::Radiator(_)))
+        })
+        .unwrap()
+}
+
+/// Issue 20 item 5: Installed freezes the radiator sizes as well. Raising a
+/// room's load in Installed mode keeps its radiator (and shows the room
+/// falling short) instead of choosing a longer one.
+#[test]
+fn installed_mode_keeps_the_radiator_size_when_the_load_rises() {
+    let mut h = harness(demo(FLAT));
+    let id = first_radiator(h.state().project());
+    let before = h.state().solution().emitter(id).unwrap().detail.clone();
+    h.get_by_label("Installed").click();
+    h.run();
+    assert_eq!(h.state().project().settings.mode, flowrise_core::project::Mode::Installed);
+    h.state_mut().select(Selection::Node(id));
+    h.run();
+    assert!(h.query_by_label_contains("frozen by Installed").is_some(), "the inspector names the frozen size");
+    let load = h.state().solution().emitter(id).unwrap().load_w;
+    type_into(&mut h, "Heat load", &format!("{:.0}", load * 2.0));
+    let after = h.state().solution().emitter(id).unwrap().clone();
+    assert!((after.load_w - 2.0 * load).abs() < 1.0, "the load was raised");
+    let (
+        Some(flowrise_core::emitters::EmitterDetail::Radiator(a)),
+        Some(flowrise_core::emitters::EmitterDetail::Radiator(b)),
+    ) = (&before, &after.detail)
+    else {
+        panic!("radiator details")
+    };
+    assert_eq!((a.length_mm, a.nominal_output_w), (b.length_mm, b.nominal_output_w), "the radiator keeps its size");
+    assert!(after.output_w < after.load_w, "the frozen radiator falls short of the doubled load");
+}
+
+/// Issue 20 item 5: switching to Installed with nothing else changed moves
+/// no flow and no authority, presetting, valve Δp or radiator size.
+#[test]
+fn toggling_installed_changes_no_authority_or_flow() {
+    let mut h = harness(demo(FLAT));
+    let design = h.state().solution().clone();
+    h.get_by_label("Installed").click();
+    h.run();
+    let installed = h.state().solution().clone();
+    assert_eq!(design.emitters.len(), installed.emitters.len());
+    for (a, b) in design.emitters.iter().zip(&installed.emitters) {
+        assert_eq!(a.presetting, b.presetting, "{}", a.id);
+        assert!((a.authority - b.authority).abs() < 1e-9, "{}: authority {} vs {}", a.id, a.authority, b.authority);
+        assert!((a.valve_dp_pa - b.valve_dp_pa).abs() < 1e-6, "{}", a.id);
+        assert!((a.design_flow_kg_s - b.design_flow_kg_s).abs() < 1e-12, "{}", a.id);
+        assert!((a.flow_kg_s - b.flow_kg_s).abs() < 1e-6 * a.flow_kg_s.max(1e-9), "{}", a.id);
+        assert_eq!(a.detail, b.detail, "{}", a.id);
+    }
+    // The inspector shows the same authority text in both modes.
+    let id = first_radiator(h.state().project());
+    let text = format!("{:.2}", design.emitter(id).unwrap().authority);
+    h.state_mut().select(Selection::Node(id));
+    h.run();
+    assert!(h.query_all_by_label(&text).next().is_some(), "authority {text} shown");
+}
+
+/// Issue 20 item 1: work autosaved from `flowrise plan.ron` started in one
+/// folder is saved back to that folder's `plan.ron` after a recovery in a
+/// session started from another folder that has its own `plan.ron`; and
+/// when the original file changed since, saving asks (Cancel keeps
+/// everything as it was, Overwrite writes).
+#[test]
+fn recovered_work_saves_to_its_own_file_from_any_folder() {
+    let root = temp_dir("cwd");
+    let (a, b) = (root.join("a"), root.join("b"));
+    std::fs::create_dir_all(&a).unwrap();
+    std::fs::create_dir_all(&b).unwrap();
+    source_only().save(&a.join("plan.ron")).unwrap();
+    demo(FLAT).save(&b.join("plan.ron")).unwrap();
+    let b_before = std::fs::read(b.join("plan.ron")).unwrap();
+    let cfg = RecoveryConfig { dir: root.join("recovery"), interval: Duration::from_secs(3600), every_edits: 1 };
+    let start_dir = std::env::current_dir().unwrap();
+
+    // Session 1, started in folder a as `flowrise plan.ron`: draw, crash.
+    std::env::set_current_dir(&a).unwrap();
+    let opened = Project::load(std::path::Path::new("plan.ron")).unwrap();
+    let mut h =
+        harness_app(FlowriseApp::new(opened, Some(PathBuf::from("plan.ron"))).with_recovery(cfg.clone(), false));
+    draw_emitter(&mut h, 6.0);
+    let drawn = h.state().project().clone();
+    drop(h);
+
+    // Session 2, started in folder b on b's plan.ron: recover, Ctrl+S.
+    std::env::set_current_dir(&b).unwrap();
+    let other = Project::load(std::path::Path::new("plan.ron")).unwrap();
+    let mut h = harness_app(FlowriseApp::new(other, Some(PathBuf::from("plan.ron"))).with_recovery(cfg.clone(), false));
+    let a_plan = std::fs::canonicalize(a.join("plan.ron")).unwrap();
+    assert!(
+        h.query_by_label_contains(&format!("belongs to {}", a_plan.display())).is_some(),
+        "the offer names the file the work belongs to"
+    );
+    h.get_by_label("Recover").click();
+    h.run();
+    assert_eq!(h.state().path(), Some(a_plan.as_path()));
+    h.key_press_modifiers(Modifiers::COMMAND, Key::S);
+    h.run();
+    assert_eq!(Project::load(&a_plan).unwrap(), drawn, "the work went back to its own file");
+    assert_eq!(std::fs::read(b.join("plan.ron")).unwrap(), b_before, "the other folder's plan.ron is untouched");
+    assert!(!h.state().is_dirty());
+
+    // Session 3: more work on a's plan, crash; someone changes the file.
+    std::env::set_current_dir(&a).unwrap();
+    let mut h = harness_app(
+        FlowriseApp::new(Project::load(&a_plan).unwrap(), Some(PathBuf::from("plan.ron")))
+            .with_recovery(cfg.clone(), false),
+    );
+    let room = h.state().project().emitters()[0];
+    h.state_mut().select(Selection::Node(room));
+    h.run();
+    type_into(&mut h, "Heat load", "1234");
+    let drawn_again = h.state().project().clone();
+    assert!(h.state().is_dirty(), "session 3 has unsaved work");
+    drop(h);
+    source_only().save(&a_plan).unwrap();
+    let changed = std::fs::read(&a_plan).unwrap();
+
+    std::env::set_current_dir(&b).unwrap();
+    let mut h = harness_app(FlowriseApp::new(demo(FLAT), None).with_recovery(cfg, false));
+    assert!(
+        h.query_by_label_contains("changed on disk").is_some(),
+        "the offer says the file changed: {:?}",
+        h.state().orphans()
+    );
+    h.get_by_label("Recover").click();
+    h.run();
+    h.key_press_modifiers(Modifiers::COMMAND, Key::S);
+    h.run();
+    assert!(h.query_by_label_contains("Save over a changed file?").is_some(), "saving asks");
+    h.get_by_label("Cancel").click();
+    h.run();
+    assert_eq!(std::fs::read(&a_plan).unwrap(), changed, "Cancel writes nothing");
+    assert!(h.state().is_dirty(), "Cancel keeps the unsaved mark");
+    assert_eq!(*h.state().project(), drawn_again);
+    h.key_press_modifiers(Modifiers::COMMAND, Key::S);
+    h.run();
+    h.get_by_label("Overwrite").click();
+    h.run();
+    assert_eq!(Project::load(&a_plan).unwrap(), drawn_again, "Overwrite writes the recovered work");
+    assert!(!h.state().is_dirty());
+
+    std::env::set_current_dir(start_dir).unwrap();
+    std::fs::remove_dir_all(&root).ok();
+}

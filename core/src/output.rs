@@ -88,6 +88,7 @@ fn head_json(p: &Project, sol: &Solution) -> Value {
         "design_flow_l_h": round(pump.map_or(0.0, |x| x.design_flow_m3_h * 1000.0), 1),
         "pump_head_kpa": round(pump.map_or(0.0, |x| x.duty_head_pa / 1000.0), 3),
         "pump_operating_head_kpa": round(pump.map_or(0.0, |x| x.operating_head_pa / 1000.0), 3),
+        "pump_on_max_curve": pump.is_some_and(|x| x.on_max_curve),
         "index_dp_kpa": round(pump.map_or(0.0, |x| x.index_dp_pa / 1000.0), 3),
         "pump_power_w": round(pump.map_or(0.0, |x| x.hydraulic_power_w), 2),
         "index_emitter": sol.index_emitter.map(|n| n.to_string()),

@@ -29,6 +29,7 @@ use std::collections::{BTreeMap, BTreeSet};
 
 use thiserror::Error;
 
+use crate::csv_cell;
 use crate::design::topology::{self, Topology};
 use crate::design::{PipeResult, Side, Solution};
 use crate::emitters::{EmitterDetail, EmitterModel, RadiatorSizing};
@@ -869,7 +870,11 @@ pub fn parts_csv(list: &PartsList) -> Result<String, PartsCsvError> {
     for l in &list.lines {
         let qty = l.quantity.to_string();
         let serves = l.serves.join(" ");
-        w.write_record([l.category.label(), &l.item, &l.size, &qty, l.unit.symbol(), &serves, &l.note])?;
+        // Names are user text: neutralised against spreadsheet formulas.
+        w.write_record(
+            [l.category.label(), &l.item, &l.size, &qty, l.unit.symbol(), &serves, &l.note]
+                .map(|cell| csv_cell::neutralise(cell).into_owned()),
+        )?;
     }
     let bytes = w.into_inner().map_err(|e| PartsCsvError::Buffer(e.to_string()))?;
     String::from_utf8(bytes).map_err(|e| PartsCsvError::Buffer(e.to_string()))
@@ -891,7 +896,7 @@ pub fn read_parts_csv(text: &str) -> Result<Vec<PartLine>, PartsCsvError> {
     for (i, rec) in r.records().enumerate() {
         let rec = rec?;
         let row = i + 1;
-        let field = |k: usize| rec.get(k).unwrap_or_default().to_owned();
+        let field = |k: usize| csv_cell::restore(rec.get(k).unwrap_or_default()).to_owned();
         let bad = |message: String| PartsCsvError::Row { row, message };
         let category =
             PartCategory::from_label(&field(0)).ok_or_else(|| bad(format!("unknown category {:?}", field(0))))?;
@@ -1031,6 +1036,37 @@ mod tests {
         assert!(read_parts_csv("a,b\n1,2\n").is_err());
         let bad = text.replace(",12.34,", ",-1,");
         assert!(read_parts_csv(&bad).is_err());
+    }
+
+    /// Issue 20 item 4: a name that a spreadsheet would run as a formula
+    /// is written as text, for every leading character that triggers one,
+    /// and reads back unchanged.
+    #[test]
+    fn csv_cells_starting_a_formula_are_neutralised() {
+        for lead in crate::csv_cell::FORMULA_TRIGGERS {
+            let name = format!("{lead}HYPERLINK(\"http://example.invalid\",\"Header 1\")");
+            let list = PartsList {
+                lines: vec![PartLine {
+                    category: PartCategory::Header,
+                    item: name.clone(),
+                    size: format!("{lead}DN2"),
+                    quantity: 1.0,
+                    unit: PartUnit::Piece,
+                    serves: vec!["N1".to_owned()],
+                    note: name.clone(),
+                }],
+                options: PartsOptions::default(),
+                notes: Vec::new(),
+            };
+            let text = parts_csv(&list).unwrap();
+            let mut r = csv::Reader::from_reader(text.as_bytes());
+            let row = r.records().next().unwrap().unwrap();
+            for k in [1, 2, 6] {
+                let cell = row.get(k).unwrap();
+                assert!(cell.starts_with('\''), "{lead:?}: column {k} is {cell:?}");
+            }
+            assert_eq!(read_parts_csv(&text).unwrap(), list.lines, "{lead:?}");
+        }
     }
 
     #[test]

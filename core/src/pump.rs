@@ -389,7 +389,10 @@ pub fn to_mass_flow_coefficients(
     })
 }
 
-fn curve_in_mass_flow(curve: &PumpCurve, density_kg_m3: f64) -> (f64, f64, f64) {
+/// The maximum curve in mass-flow form (a0 Pa, a1 Pa·s/kg, a2 Pa·s²/kg²),
+/// with Q = 3600·m/ρ.
+#[must_use]
+pub fn curve_in_mass_flow(curve: &PumpCurve, density_kg_m3: f64) -> (f64, f64, f64) {
     let c = 3600.0 / density_kg_m3;
     let (a0, a1, a2) = curve.coefficients();
     (a0 * 1000.0, a1 * 1000.0 * c, a2 * 1000.0 * c * c)

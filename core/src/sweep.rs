@@ -125,11 +125,11 @@ pub fn with_existing_emitters(p: &Project, sol: &Solution) -> Project {
         let Some(node) = p.node(e.id) else { continue };
         let NodeKind::Emitter(em) = &node.kind else { continue };
         if let (EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(d))) = (&em.model, &e.detail)
-            && spec.sizing == RadiatorSizing::ToSize
+            && matches!(spec.sizing, RadiatorSizing::ToSize | RadiatorSizing::Chosen { .. })
         {
             let mut em = em.clone();
             let mut spec = spec.clone();
-            spec.sizing = d.frozen_sizing();
+            spec.sizing = d.existing_sizing();
             em.model = EmitterModel::Radiator(spec);
             edits.push(Edit::SetNodeKind { id: e.id, kind: NodeKind::Emitter(em) });
         }
@@ -375,6 +375,14 @@ pub fn part_load(p: &Project, closed: &BTreeSet<NodeId>) -> Result<Vec<PartLoadC
         if !sol.converged {
             warnings.push("the operating solve did not converge".to_owned());
         }
+        if let Some(pump) = sol.pump.as_ref().filter(|x| x.on_max_curve) {
+            warnings.push(format!(
+                "the pump cannot hold its {name} set-point of {duty_kpa:.1} kPa: it runs on its maximum curve at \
+                 {:.1} kPa and {:.0} l/h — choose a larger pump",
+                pump.operating_head_pa / 1000.0,
+                pump.operating_flow_m3_h * 1000.0
+            ));
+        }
         let mut emitters = Vec::new();
         let mut max_dp = 0.0_f64;
         for e in sol.emitters.iter().filter(|e| !e.closed) {
@@ -434,7 +442,7 @@ pub fn sweep_csv(r: &SweepResult) -> Result<String, csv::Error> {
         for e in &pt.emitters {
             w.write_record([
                 format!("{:.2}", pt.supply_c),
-                e.id.clone(),
+                crate::csv_cell::neutralise(&e.id).into_owned(),
                 format!("{:.6}", e.fraction),
                 format!("{:.3}", e.flow_l_h),
             ])?;
@@ -461,8 +469,8 @@ pub fn part_load_csv(cases: &[PartLoadCase]) -> Result<String, csv::Error> {
     for c in cases {
         for e in &c.emitters {
             w.write_record([
-                c.control.clone(),
-                e.id.clone(),
+                crate::csv_cell::neutralise(&c.control).into_owned(),
+                crate::csv_cell::neutralise(&e.id).into_owned(),
                 format!("{:.3}", e.flow_l_h),
                 format!("{:.6}", e.over_supply),
                 format!("{:.4}", e.valve_dp_kpa),

@@ -414,3 +414,75 @@ fn law_of_emitter_links_is_quadratic_valve_plus_body() {
         assert_eq!(sol.network.links[v].to, sol.network.links[b].from);
     }
 }
+
+/// The source node of a project and a copy of its data.
+fn source_of(p: &Project) -> (NodeId, flowrise_core::project::HeatSource) {
+    let id = p.sources()[0];
+    let NodeKind::Source(s) = &p.node(id).unwrap().kind else { panic!("source") };
+    (id, s.clone())
+}
+
+/// Issue 20 item 3: a controlled pump whose set-point is above what its
+/// curve gives runs on its curve. With an 8 kPa shut-off head and a 20 kPa
+/// (or 1 GPa) constant-Δp or proportional-Δp set-point, the installed
+/// operating solve equals the same pump at fixed speed, and the finding
+/// says the pump cannot hold its set-point; part load says so as well.
+#[test]
+fn a_set_point_above_the_pump_curve_gives_the_fixed_speed_result() {
+    let demo = Project::load(&demo_paths()[1]).unwrap();
+    let sol = solve(&demo);
+    let mut installed = demo.clone();
+    installed.apply(design::freeze_edit(&demo, &sol)).unwrap();
+    let (src, base) = source_of(&installed);
+    let with = |control: PumpControl| {
+        let mut q = installed.clone();
+        let mut s = base.clone();
+        // A weak pump: 8 kPa at shut-off, falling steadily (invented).
+        s.pump.curve_points = [(0.0, 8.0), (0.5, 7.0), (1.0, 4.0)];
+        s.pump.control = control;
+        q.apply(Edit::SetNodeKind { id: src, kind: NodeKind::Source(s) }).unwrap();
+        q
+    };
+    let fixed = solve(&with(PumpControl::FixedSpeed));
+    let fixed_pump = fixed.pump.clone().unwrap();
+    assert!(!fixed_pump.on_max_curve);
+    assert!(!fixed.findings.iter().any(|f| f.message.contains("set-point")), "no set-point finding at fixed speed");
+    for control in [
+        PumpControl::ConstantDp { setpoint_kpa: 20.0 },
+        PumpControl::ProportionalDp { setpoint_kpa: 20.0 },
+        PumpControl::ConstantDp { setpoint_kpa: 1e6 },
+    ] {
+        let p = with(control);
+        let s = solve(&p);
+        assert!(s.converged, "{control:?}");
+        let pump = s.pump.clone().unwrap();
+        assert!(pump.on_max_curve, "{control:?}");
+        let rel = |a: f64, b: f64| (a - b).abs() / b.abs().max(1e-12);
+        assert!(rel(pump.operating_flow_m3_h, fixed_pump.operating_flow_m3_h) < 1e-6, "{control:?}");
+        assert!(rel(pump.operating_head_pa, fixed_pump.operating_head_pa) < 1e-6, "{control:?}");
+        assert!(pump.operating_head_pa < 8_000.0, "{control:?}: {} Pa", pump.operating_head_pa);
+        for (a, b) in s.emitters.iter().zip(&fixed.emitters) {
+            assert!(rel(a.flow_kg_s, b.flow_kg_s) < 1e-6, "{control:?} {}", a.id);
+        }
+        assert!(
+            s.findings.iter().any(|f| f.item == flowrise_core::design::ItemRef::Node(src)
+                && f.message.contains("cannot hold its set-point")),
+            "{control:?}: {:?}",
+            s.findings
+        );
+    }
+    // Part load of the weak pump: the controlled cases say it cannot hold
+    // the set-point (the duty set-point is far above an 8 kPa curve).
+    let mut weak = demo.clone();
+    let (src, mut s) = source_of(&weak);
+    // Weaker still: below half the duty head even at shut-off, so the
+    // proportional line at part load is out of reach too.
+    s.pump.curve_points = [(0.0, 3.0), (0.5, 2.6), (1.0, 1.5)];
+    weak.apply(Edit::SetNodeKind { id: src, kind: NodeKind::Source(s) }).unwrap();
+    let closed = flowrise_core::sweep::random_closed_set(&weak, 0.5, 1);
+    let cases = flowrise_core::sweep::part_load(&weak, &closed).unwrap();
+    for c in &cases {
+        let says = c.warnings.iter().any(|w| w.contains("cannot hold"));
+        assert_eq!(says, c.control != "fixed speed", "{}: {:?}", c.control, c.warnings);
+    }
+}

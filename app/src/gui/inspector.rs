@@ -360,11 +360,19 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
                 ui.radio_value(&mut ex, true, "existing");
             });
             ui.end_row();
+            if let RadiatorSizing::Chosen { nominal_output_w, length_mm } = r.sizing {
+                ui.label("Installed size");
+                ui.label(format!("{length_mm} mm, {nominal_output_w:.0} W nominal (frozen by Installed)"));
+                ui.end_row();
+            }
             if ex != existing {
-                let sizing = if ex {
-                    RadiatorSizing::Existing { nominal_output_w: 1500.0, length_mm: 1000 }
-                } else {
-                    RadiatorSizing::ToSize
+                let sizing = match (ex, &r.sizing) {
+                    // An installed size becomes the existing radiator it is.
+                    (true, RadiatorSizing::Chosen { nominal_output_w, length_mm }) => {
+                        RadiatorSizing::Existing { nominal_output_w: *nominal_output_w, length_mm: *length_mm }
+                    }
+                    (true, _) => RadiatorSizing::Existing { nominal_output_w: 1500.0, length_mm: 1000 },
+                    (false, _) => RadiatorSizing::ToSize,
                 };
                 set_kind(
                     out,

@@ -217,6 +217,12 @@ pub struct FlowriseApp {
     outline: Option<outline::OutlineForm>,
     pending: Option<Pending>,
     allow_close: bool,
+    /// The document's file as this session last read or wrote it.
+    disk_stamp: Option<recovery::FileStamp>,
+    /// Recovered work whose file changed or moved since: saving over it asks.
+    save_conflict: Option<recovery::SaveConflict>,
+    /// The question about [`Self::save_conflict`] is open.
+    conflict_prompt: bool,
     // ---- no lost work
     autosave: Option<recovery::Autosaver>,
     /// Work of sessions that did not close cleanly, offered on start.
@@ -228,7 +234,11 @@ impl FlowriseApp {
     #[must_use]
     pub fn new(project: Project, path: Option<PathBuf>) -> Self {
         let canvas = CanvasState::for_project(&project);
+        let path = path.map(|p| recovery::absolute_path(&p));
         Self {
+            disk_stamp: path.as_deref().and_then(recovery::FileStamp::of),
+            save_conflict: None,
+            conflict_prompt: false,
             saved: project.clone(),
             project,
             path,
@@ -295,15 +305,24 @@ impl FlowriseApp {
         let o = self.orphans.remove(i);
         match o.load() {
             Ok(p) => {
-                let on_disk = o.original_path.as_ref().and_then(|q| Project::load(q).ok());
-                self.replace_project(p, o.original_path.clone());
+                let conflict = o.save_conflict();
+                // An autosave of an older build may name its file without
+                // the folder: that could be any file, so Save asks where.
+                let original = o.original_path.clone().filter(|q| q.is_absolute());
+                let on_disk = original.as_ref().filter(|_| conflict.is_none()).and_then(|q| Project::load(q).ok());
+                self.replace_project(p, original);
                 // Compared with the file on disk (or with nothing, if it
                 // never had one) the recovered work shows as unsaved.
                 self.saved = on_disk.unwrap_or_else(|| Project::new(""));
+                // The stamp the crashed session knew: a second crash still
+                // sees the file as changed.
+                self.disk_stamp = o.original_stamp;
+                self.save_conflict = conflict.filter(|c| c.path.is_absolute());
                 let kept = match &mut self.autosave {
                     Some(a) => {
-                        a.write(&self.project, self.path.as_deref());
-                        a.tick(&self.project, true, self.path.as_deref(), false);
+                        let origin = self.path.as_deref().map(|q| (q, self.disk_stamp));
+                        a.write(&self.project, origin);
+                        a.tick(&self.project, true, origin, false);
                         a.error.is_none()
                     }
                     None => false,
@@ -311,9 +330,16 @@ impl FlowriseApp {
                 if kept && let Some(a) = &self.autosave {
                     o.remove(a.dir());
                 }
+                let belongs = match (&self.path, &self.save_conflict) {
+                    (Some(q), None) => format!(" — it belongs to {}", q.display()),
+                    (Some(q), Some(c)) => {
+                        format!(" — it belongs to {}, which {}; saving will ask", q.display(), c.reason)
+                    }
+                    (None, _) => String::new(),
+                };
                 self.status = Some(Status {
-                    text: format!("recovered “{}” — save it to keep it", self.project.name),
-                    error: false,
+                    text: format!("recovered “{}”{belongs} — save it to keep it", self.project.name),
+                    error: self.save_conflict.is_some(),
                 });
             }
             Err(e) => {
@@ -344,6 +370,12 @@ impl FlowriseApp {
     #[must_use]
     pub fn solution(&self) -> &Solution {
         self.solver.latest()
+    }
+
+    /// The document's file (absolute), if it has one.
+    #[must_use]
+    pub fn path(&self) -> Option<&std::path::Path> {
+        self.path.as_deref()
     }
 
     /// The current selection.
@@ -390,7 +422,10 @@ impl FlowriseApp {
         self.canvas = CanvasState::for_project(&project);
         self.saved = project.clone();
         self.project = project;
-        self.path = path;
+        self.path = path.map(|p| recovery::absolute_path(&p));
+        self.disk_stamp = self.path.as_deref().and_then(recovery::FileStamp::of);
+        self.save_conflict = None;
+        self.conflict_prompt = false;
         self.history.clear();
         self.solver.reset();
         self.drawer.forget_results();
@@ -450,7 +485,8 @@ impl FlowriseApp {
         let dirty = self.is_dirty();
         let Some(a) = &mut self.autosave else { return };
         let hold = ctx.input(|i| i.pointer.any_down());
-        if let Some(wait) = a.tick(&self.project, dirty, self.path.as_deref(), hold) {
+        let origin = self.path.as_deref().map(|q| (q, self.disk_stamp));
+        if let Some(wait) = a.tick(&self.project, dirty, origin, hold) {
             ctx.request_repaint_after(wait);
         }
         if let Some(e) = a.error.take() {
@@ -483,8 +519,13 @@ impl FlowriseApp {
                     let from = o
                         .original_path
                         .as_ref()
-                        .map_or_else(|| "never saved to a file".to_owned(), |p| format!("from {}", p.display()));
+                        .map_or_else(|| "never saved to a file".to_owned(), |p| format!("belongs to {}", p.display()));
                     ui.label(format!("{from}; autosaved {}", o.age_text()));
+                    if let Some(c) = &o.conflict {
+                        ui.label(
+                            RichText::new(format!("that file {} — saving will ask", c.reason)).color(theme::WARNING),
+                        );
+                    }
                     ui.label(RichText::new(o.project_path.display().to_string()).small().weak());
                     ui.horizontal(|ui| {
                         if o.summary.is_ok() && ui.button("Recover").clicked() {
@@ -515,6 +556,7 @@ impl FlowriseApp {
 
     fn windows(&mut self, ctx: &egui::Context, out: &mut Intents) {
         self.recovery_offer(ctx);
+        self.conflict_question(ctx);
         if self.show_about {
             egui::Window::new("About flowrise").open(&mut self.show_about).collapsible(false).show(ctx, |ui| {
                 ui.heading("flowrise");
@@ -820,6 +862,7 @@ impl FlowriseApp {
     pub fn open_path(&mut self, path: PathBuf) {
         match Project::load(&path) {
             Ok(p) => {
+                let path = recovery::absolute_path(&path);
                 self.remember(&path);
                 self.replace_project(p, Some(path));
             }
@@ -827,12 +870,18 @@ impl FlowriseApp {
         }
     }
 
-    /// Save; `as_new` asks for a file. Returns true when saved.
+    /// Save; `as_new` asks for a file. Returns true when saved. Saving
+    /// recovered work over a file that changed or moved since asks first
+    /// ([`Self::save_conflict`]).
     fn save(&mut self, as_new: bool) -> bool {
+        if !as_new && self.path.is_some() && self.save_conflict.is_some() {
+            self.conflict_prompt = true;
+            return false;
+        }
         let path = match (&self.path, as_new) {
             (Some(p), false) => p.clone(),
             _ => match files::pick_save(&self.project.name) {
-                Some(p) => p,
+                Some(p) => recovery::absolute_path(&p),
                 None => return false,
             },
         };
@@ -841,13 +890,52 @@ impl FlowriseApp {
                 self.saved = self.project.clone();
                 self.remember(&path);
                 self.status = Some(Status { text: format!("saved {}", path.display()), error: false });
-                self.path = Some(path);
+                self.disk_stamp = recovery::FileStamp::of(&path);
+                self.save_conflict = None;
+                self.path = Some(recovery::absolute_path(&path));
                 true
             }
             Err(e) => {
                 self.status = Some(Status { text: format!("cannot save {}: {e}", path.display()), error: true });
                 false
             }
+        }
+    }
+
+    /// The question before saving recovered work over a file that changed
+    /// or moved since it was autosaved.
+    fn conflict_question(&mut self, ctx: &egui::Context) {
+        let Some(c) = self.save_conflict.clone().filter(|_| self.conflict_prompt) else { return };
+        let mut choice = None;
+        egui::Modal::new(egui::Id::unique("save_conflict")).show(ctx, |ui| {
+            ui.set_max_width(560.0);
+            ui.heading("Save over a changed file?");
+            ui.label(format!("The recovered work belongs to {}, which {}.", c.path.display(), c.reason));
+            ui.label("Saving there replaces what is in that file now.");
+            ui.horizontal(|ui| {
+                if ui.button("Save As…").clicked() {
+                    choice = Some(0);
+                }
+                if ui.button("Overwrite").clicked() {
+                    choice = Some(1);
+                }
+                if ui.button("Cancel").clicked() {
+                    choice = Some(2);
+                }
+            });
+        });
+        match choice {
+            Some(0) => {
+                self.conflict_prompt = false;
+                self.save(true);
+            }
+            Some(1) => {
+                self.conflict_prompt = false;
+                self.save_conflict = None;
+                self.save(false);
+            }
+            Some(_) => self.conflict_prompt = false,
+            None => {}
         }
     }
 

@@ -60,8 +60,84 @@ impl RecoveryConfig {
 /// Which file the autosaved work belongs to.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 struct Meta {
-    /// The project's own file, if it had one.
+    /// The project's own file, if it had one (absolute and canonical since
+    /// the path as typed could name another file from another folder).
     original_path: Option<PathBuf>,
+    /// That file as this session last read or wrote it (missing in
+    /// autosaves of older builds).
+    #[serde(default)]
+    original_stamp: Option<FileStamp>,
+}
+
+/// What a project file looked like when a session last read or wrote it:
+/// enough to tell, on recovery, that someone changed or replaced it since.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub struct FileStamp {
+    /// Size, bytes.
+    pub len: u64,
+    /// Modification time, ns since the Unix epoch (0 when unknown).
+    pub modified_unix_ns: u64,
+    /// FNV-1a hash of the content.
+    pub content_hash: u64,
+}
+
+impl FileStamp {
+    /// The stamp of the file at `path` now (`None`: missing or unreadable).
+    #[must_use]
+    pub fn of(path: &Path) -> Option<Self> {
+        let meta = std::fs::metadata(path).ok()?;
+        if !meta.is_file() || meta.len() > flowrise_core::project::file::MAX_FILE_BYTES {
+            return None;
+        }
+        let bytes = std::fs::read(path).ok()?;
+        let modified_unix_ns = meta
+            .modified()
+            .ok()
+            .and_then(|t| t.duration_since(UNIX_EPOCH).ok())
+            .map_or(0, |d| u64::try_from(d.as_nanos()).unwrap_or(u64::MAX));
+        // FNV-1a, 64 bit (offset basis and prime of the published algorithm).
+        let content_hash =
+            bytes.iter().fold(0xcbf2_9ce4_8422_2325_u64, |h, &b| (h ^ u64::from(b)).wrapping_mul(0x0100_0000_01b3));
+        Some(Self { len: bytes.len() as u64, modified_unix_ns, content_hash })
+    }
+}
+
+/// `path` made absolute and canonical (links, `.` and `..` resolved) when
+/// it exists, else absolute against the current folder. A document's path
+/// is kept this way so that the autosave, Recent files and the title name
+/// one file whatever folder flowrise is started from.
+#[must_use]
+pub fn absolute_path(path: &Path) -> PathBuf {
+    std::fs::canonicalize(path).or_else(|_| std::path::absolute(path)).unwrap_or_else(|_| path.to_path_buf())
+}
+
+/// Why recovered work must not be saved over its file without asking.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct SaveConflict {
+    /// The file the work belongs to.
+    pub path: PathBuf,
+    /// What happened to it, for people ("changed on disk since …").
+    pub reason: String,
+}
+
+impl Orphan {
+    /// Whether saving the recovered work over its original file needs a
+    /// question first: the file is gone, was changed since the autosave,
+    /// or the autosave names it without its folder (older builds).
+    #[must_use]
+    pub fn save_conflict(&self) -> Option<SaveConflict> {
+        let path = self.original_path.clone()?;
+        let reason = if path.is_relative() {
+            "the autosave names this file without its folder — choose where to save".to_owned()
+        } else {
+            match FileStamp::of(&path) {
+                None => "is no longer there (moved or deleted) since the work was autosaved".to_owned(),
+                Some(now) if self.original_stamp == Some(now) => return None,
+                Some(_) => "was changed on disk since this work was autosaved".to_owned(),
+            }
+        };
+        Some(SaveConflict { path, reason })
+    }
 }
 
 /// Work left behind by a session that did not close cleanly.
@@ -71,6 +147,11 @@ pub struct Orphan {
     pub project_path: PathBuf,
     /// The project's own file, if it had one.
     pub original_path: Option<PathBuf>,
+    /// That file as the crashed session last read or wrote it.
+    pub original_stamp: Option<FileStamp>,
+    /// What has happened to that file since (see [`Orphan::save_conflict`]),
+    /// found when the offer was made.
+    pub conflict: Option<SaveConflict>,
     /// When it was last written.
     pub modified: Option<SystemTime>,
     /// Project name and size, or why it does not load.
@@ -132,13 +213,17 @@ pub fn find_orphans(dir: &Path) -> Vec<Orphan> {
         let summary = Project::load(&project_path)
             .map(|p| format!("“{}” — {} emitters, {} runs", p.name, p.emitters().len(), p.run_count()))
             .map_err(|e| e.to_string());
-        out.push(Orphan {
+        let mut orphan = Orphan {
             project_path,
             original_path: meta.original_path,
+            original_stamp: meta.original_stamp,
+            conflict: None,
             modified: e.metadata().and_then(|m| m.modified()).ok(),
             summary,
             stem: stem.to_owned(),
-        });
+        };
+        orphan.conflict = orphan.save_conflict();
+        out.push(orphan);
     }
     out.sort_by_key(|o| std::cmp::Reverse(o.modified));
     out
@@ -257,7 +342,13 @@ impl Autosaver {
     /// when there is nothing unsaved. `hold` defers a due write (a drag in
     /// progress). Returns how long until a pending write is due, for a
     /// repaint.
-    pub fn tick(&mut self, project: &Project, dirty: bool, original: Option<&Path>, hold: bool) -> Option<Duration> {
+    pub fn tick(
+        &mut self,
+        project: &Project,
+        dirty: bool,
+        original: Option<(&Path, Option<FileStamp>)>,
+        hold: bool,
+    ) -> Option<Duration> {
         self.collect(false);
         if !dirty {
             self.clear(project.revision);
@@ -278,11 +369,14 @@ impl Autosaver {
     /// Write now (also used right after a recovery, so the recovered work
     /// is safe before the old files go). With `background` on, the project
     /// is serialised and written on a worker thread.
-    pub fn write(&mut self, project: &Project, original: Option<&Path>) {
+    pub fn write(&mut self, project: &Project, original: Option<(&Path, Option<FileStamp>)>) {
         self.collect(true);
         self.last_write = Instant::now();
         self.base_revision = project.revision;
-        let meta = Meta { original_path: original.map(Path::to_path_buf) };
+        let meta = Meta {
+            original_path: original.map(|(p, _)| absolute_path(p)),
+            original_stamp: original.and_then(|(_, s)| s),
+        };
         if self.meta.as_ref() != Some(&meta) {
             let written = serde_json::to_string(&meta).map_err(|e| e.to_string()).and_then(|text| {
                 write_atomic(&self.cfg.dir.join(format!("{}.meta.json", self.stem)), text.as_bytes())
@@ -472,16 +566,42 @@ mod tests {
         let dir = temp_dir("orphans");
         let cfg = RecoveryConfig { dir: dir.clone(), interval: Duration::ZERO, every_edits: 1 };
         let mut a = Autosaver::start(cfg, 0).unwrap();
-        a.write(&edited("left behind", 5), Some(Path::new("/somewhere/plant.ron")));
+        a.write(&edited("left behind", 5), Some((Path::new("/somewhere/plant.ron"), None)));
         assert!(find_orphans(&dir).is_empty(), "its lock is held");
         drop(a); // no `finish`: what a crash leaves
         let found = find_orphans(&dir);
         assert_eq!(found.len(), 1);
         assert_eq!(found[0].original_path.as_deref(), Some(Path::new("/somewhere/plant.ron")));
+        let conflict = found[0].save_conflict().expect("the file is not there");
+        assert!(conflict.reason.contains("no longer there"), "{conflict:?}");
         assert!(found[0].summary.as_ref().unwrap().contains("left behind"));
         assert_eq!(found[0].load().unwrap().name, "left behind");
         found[0].remove(&dir);
         assert!(find_orphans(&dir).is_empty());
+    }
+
+    /// Issue 20 item 1: the autosave records the original file by its
+    /// absolute path and its stamp; a file changed since then is a conflict.
+    #[test]
+    fn the_original_file_is_recorded_absolute_and_checked_on_recovery() {
+        let dir = temp_dir("stamp");
+        std::fs::create_dir_all(&dir).unwrap();
+        let original = dir.join("plant.ron");
+        std::fs::write(&original, "first").unwrap();
+        let stamp = FileStamp::of(&original);
+        let cfg = RecoveryConfig { dir: dir.join("rec"), interval: Duration::ZERO, every_edits: 1 };
+        let mut a = Autosaver::start(cfg, 0).unwrap();
+        let roundabout = dir.join(".").join("plant.ron");
+        a.write(&edited("work", 2), Some((&roundabout, stamp)));
+        drop(a);
+        let found = find_orphans(&dir.join("rec"));
+        assert_eq!(found[0].original_path.as_deref(), Some(absolute_path(&original).as_path()));
+        assert!(found[0].original_path.as_ref().unwrap().is_absolute());
+        assert_eq!(found[0].save_conflict(), None, "unchanged file: no question");
+        std::fs::write(&original, "changed by someone else").unwrap();
+        let conflict = found[0].save_conflict().expect("changed");
+        assert!(conflict.reason.contains("changed on disk"), "{conflict:?}");
+        std::fs::remove_dir_all(&dir).ok();
     }
 
     #[test]

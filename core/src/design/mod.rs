@@ -216,6 +216,9 @@ pub struct PumpResult {
     pub operating_head_pa: f64,
     /// Hydraulic power at the operating point, W.
     pub hydraulic_power_w: f64,
+    /// A controlled pump runs on its maximum curve at the operating point,
+    /// below its set-point (never true at fixed speed).
+    pub on_max_curve: bool,
 }
 
 /// Timing of the stages, ms.
@@ -551,7 +554,7 @@ impl<'f> Derivation<'f> {
             r_src,
             pump_out,
             rp.density_kg_m3,
-            LinkLaw::Pump { a0_pa: 0.0, a1_pa_s_kg: 0.0, a2_pa_s2_kg2: 0.0 },
+            LinkLaw::Pump { a0_pa: 0.0, a1_pa_s_kg: 0.0, a2_pa_s2_kg2: 0.0, max_curve_pa: None },
             LinkRole::Pump(source),
         );
         match PumpCurve::from_three_points(src.pump.curve_points) {
@@ -1256,12 +1259,19 @@ impl<'f> Derivation<'f> {
                             ),
                         ));
                     }
-                    r.valve_dp_pa = valves::resistance_r_pa_s2_kg2(valve_kv, rho_mean).unwrap_or(0.0) * m * m;
-                    r.kv_needed_m3_h = if dp_valve > 0.0 {
-                        valves::kv_needed(q_m3_h, dp_valve, sp.density_kg_m3).unwrap_or(0.0)
+                    // The same quantities as for a chosen presetting, so that
+                    // freezing a design (installed mode) changes no number:
+                    // the Δp the valve must absorb, the Kv that needs and the
+                    // flow error the stored setting gives.
+                    if dp_valve > 0.0 {
+                        r.valve_dp_pa = dp_valve;
+                        r.kv_needed_m3_h = valves::kv_needed(q_m3_h, dp_valve, rho_mean).unwrap_or(0.0);
+                        r.presetting_flow_error =
+                            valves::flow_ratio_in_circuit(valve_kv, r.kv_needed_m3_h, dp_valve, own_rest)
+                                .map_or(0.0, |ratio| ratio - 1.0);
                     } else {
-                        0.0
-                    };
+                        r.valve_dp_pa = valves::resistance_r_pa_s2_kg2(valve_kv, rho_mean).unwrap_or(0.0) * m * m;
+                    }
                 } else if dp_valve <= 0.0 {
                     valve_kv = family.settings.last().map_or(valve_kv, |st| st.kv_m3_h);
                     r.presetting = family.settings.last().map_or_else(String::new, |st| st.label.clone());
@@ -1381,7 +1391,17 @@ impl<'f> Derivation<'f> {
             rp.density_kg_m3,
             stored_design_kg_s.unwrap_or(total).max(1e-9),
         ) {
-            self.net.links[self.pump_link].law = LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2 };
+            // A controlled pump never gives more than its curve at full
+            // speed: the operating law is the lower of the two.
+            let max_curve_pa = match self.control {
+                PumpControl::FixedSpeed => None,
+                PumpControl::ConstantDp { .. } | PumpControl::ProportionalDp { .. } => {
+                    let (c0, c1, c2) = crate::pump::curve_in_mass_flow(&curve, rp.density_kg_m3);
+                    Some([c0, c1, c2])
+                }
+            };
+            self.net.links[self.pump_link].law =
+                LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2, max_curve_pa };
         }
         self.net.reference_pressure_pa = 0.0;
         sol.pump = Some(PumpResult {
@@ -1395,6 +1415,7 @@ impl<'f> Derivation<'f> {
             operating_flow_m3_h: q_design_m3_h,
             operating_head_pa: available,
             hydraulic_power_w: 0.0,
+            on_max_curve: false,
         });
 
         // Heat load, source capacity, volumes, vessel.
@@ -1765,8 +1786,12 @@ impl<'f> Derivation<'f> {
         // Pump operating point.
         if let (Some(pump), Some(rp)) = (sol.pump.as_mut(), self.return_props) {
             let m = flows[self.pump_link];
-            let (rise, _) = match &self.net.links[self.pump_link].law {
-                LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2 } => (a0_pa + m * (a1_pa_s_kg + m * a2_pa_s2_kg2), 0.0),
+            let (rise, control_rise) = match &self.net.links[self.pump_link].law {
+                LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
+                    let law = [*a0_pa, *a1_pa_s_kg, *a2_pa_s2_kg2];
+                    let rise = solver::pump_rise_and_slope(law, *max_curve_pa, m).0;
+                    (rise, solver::pump_rise_and_slope(law, None, m).0)
+                }
                 _ => (0.0, 0.0),
             };
             pump.operating_flow_m3_h = m / rp.density_kg_m3 * 3600.0;
@@ -1774,19 +1799,20 @@ impl<'f> Derivation<'f> {
             pump.hydraulic_power_w =
                 crate::pump::hydraulic_power_w(pump.operating_flow_m3_h.max(0.0), (rise / 1000.0).max(0.0))
                     .unwrap_or(0.0);
-            if let Some(curve) = &pump.curve
-                && let Ok(h) = curve.head_kpa(pump.operating_flow_m3_h.max(0.0))
-                && rise > h * 1000.0 * 1.001
-            {
+            // A controlled pump whose set-point its curve cannot give runs
+            // on the curve, below the set-point.
+            pump.on_max_curve = !matches!(pump.control, PumpControl::FixedSpeed) && rise < control_rise * (1.0 - 1e-6);
+            if pump.on_max_curve {
                 let source = self.source.unwrap_or(NodeId(0));
                 self.findings.push(Finding::warning(
                     ItemRef::Node(source),
                     format!(
-                        "the pump's control head {:.1} kPa is above its curve ({:.1} kPa at {:.2} m³/h) — the pump runs on its \
-                         maximum curve; choose a larger pump",
+                        "the pump cannot hold its set-point: at {:.2} m³/h its maximum curve gives {:.1} kPa, the control asks \
+                         {:.1} kPa — it runs on its maximum curve and the flows are those of full speed; choose a larger pump \
+                         or lower the set-point",
+                        pump.operating_flow_m3_h,
                         rise / 1000.0,
-                        h,
-                        pump.operating_flow_m3_h
+                        control_rise / 1000.0,
                     ),
                 ));
             }
@@ -1909,8 +1935,9 @@ pub(crate) fn choose_size(
 
 /// The edit that freezes a solved design into the project and switches to
 /// installed mode: every run gets its supply pipe's size as a fixed size,
-/// every emitter its presetting, a controlled pump its duty head as
-/// set-point. Radiators keep their sizing so the design flows stay the same.
+/// every emitter its presetting, every radiator to size its chosen size
+/// ([`crate::emitters::RadiatorSizing::Chosen`], which keeps its design
+/// flow), a controlled pump its duty head as set-point.
 #[must_use]
 pub fn freeze_edit(p: &Project, sol: &Solution) -> crate::project::Edit {
     use crate::project::{Edit, RunProps};
@@ -1928,12 +1955,19 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> crate::project::Edit {
     for e in &sol.emitters {
         let Some(node) = p.node(e.id) else { continue };
         let NodeKind::Emitter(em) = &node.kind else { continue };
-        if e.presetting == "—" || e.presetting.is_empty() {
-            continue;
+        let mut frozen = em.clone();
+        if !(e.presetting == "—" || e.presetting.is_empty()) {
+            frozen.valves.presetting = Some(e.presetting.clone());
         }
-        let mut em = em.clone();
-        em.valves.presetting = Some(e.presetting.clone());
-        edits.push(Edit::SetNodeKind { id: e.id, kind: NodeKind::Emitter(em) });
+        if let (crate::emitters::EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(d))) =
+            (&mut frozen.model, &e.detail)
+            && spec.sizing == crate::emitters::RadiatorSizing::ToSize
+        {
+            spec.sizing = d.frozen_sizing();
+        }
+        if frozen != *em {
+            edits.push(Edit::SetNodeKind { id: e.id, kind: NodeKind::Emitter(frozen) });
+        }
     }
     if let (Some(pump), Some(src)) = (&sol.pump, p.sources().first().and_then(|&s| p.node(s)))
         && let NodeKind::Source(source) = &src.kind
@@ -1955,9 +1989,10 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> crate::project::Edit {
 }
 
 /// The edit that switches back to *design follows layout*: every fixed pipe
-/// size and every presetting is released so the design re-chooses them on
-/// each edit (undo brings a released value back), and a proportional pump's
-/// stored design flow is cleared.
+/// size, every presetting and every radiator size frozen by
+/// [`freeze_edit`] is released so the design re-chooses them on each edit
+/// (undo brings a released value back), and a proportional pump's stored
+/// design flow is cleared.
 #[must_use]
 pub fn thaw_edit(p: &Project) -> crate::project::Edit {
     use crate::project::{Edit, RunProps};
@@ -1970,10 +2005,17 @@ pub fn thaw_edit(p: &Project) -> crate::project::Edit {
     }
     for node in p.nodes() {
         match &node.kind {
-            NodeKind::Emitter(em) if em.valves.presetting.is_some() => {
-                let mut em = em.clone();
-                em.valves.presetting = None;
-                edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Emitter(em) });
+            NodeKind::Emitter(em) => {
+                let mut thawed = em.clone();
+                thawed.valves.presetting = None;
+                if let crate::emitters::EmitterModel::Radiator(spec) = &mut thawed.model
+                    && matches!(spec.sizing, crate::emitters::RadiatorSizing::Chosen { .. })
+                {
+                    spec.sizing = crate::emitters::RadiatorSizing::ToSize;
+                }
+                if thawed != *em {
+                    edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Emitter(thawed) });
+                }
             }
             NodeKind::Source(src) if src.pump.design_flow_m3_h.is_some() => {
                 let mut src = src.clone();

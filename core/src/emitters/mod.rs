@@ -656,10 +656,14 @@ impl EmitterModel {
                 let t = cat.find(&spec.type_code)?;
                 t.nominal_w_per_m(spec.height_mm)?;
                 let n = spec.exponent_n.unwrap_or(t.exponent_n);
-                if let RadiatorSizing::Existing { nominal_output_w, .. } = spec.sizing {
-                    RadiatorRating::new(nominal_output_w, n)?;
-                } else {
-                    RadiatorRating::new(1.0, n)?;
+                match spec.sizing {
+                    RadiatorSizing::Existing { nominal_output_w, .. }
+                    | RadiatorSizing::Chosen { nominal_output_w, .. } => {
+                        RadiatorRating::new(nominal_output_w, n)?;
+                    }
+                    RadiatorSizing::ToSize => {
+                        RadiatorRating::new(1.0, n)?;
+                    }
                 }
                 Ok(())
             }

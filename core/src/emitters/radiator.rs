@@ -294,6 +294,18 @@ pub enum RadiatorSizing {
     /// To be sized by the design: the catalog length that delivers the load
     /// at the design temperatures.
     ToSize,
+    /// A size the design chose, kept when the design was frozen for
+    /// installation (installed mode): the size no longer follows the load,
+    /// but the radiator is still given the design flow at the design
+    /// temperature drop (its valve trims the excess), exactly as when it
+    /// was sized — so freezing changes no flow. A load it cannot cover at
+    /// the design temperatures shows as a shortfall.
+    Chosen {
+        /// Nominal output at 75/65/20 °C, W.
+        nominal_output_w: f64,
+        /// Length, mm.
+        length_mm: u32,
+    },
 }
 
 /// A radiator as a project stores it.
@@ -327,10 +339,18 @@ pub struct RadiatorDesign {
 }
 
 impl RadiatorDesign {
-    /// The sizing to store when the design is frozen (installed mode).
+    /// The radiator as an existing one on the wall (the sweep's retrofit
+    /// question: checked against the load, its flow follows).
+    #[must_use]
+    pub fn existing_sizing(&self) -> RadiatorSizing {
+        RadiatorSizing::Existing { nominal_output_w: self.nominal_output_w, length_mm: self.length_mm }
+    }
+
+    /// The sizing to store when the design is frozen (installed mode): the
+    /// chosen size, with the design flow kept (see [`RadiatorSizing::Chosen`]).
     #[must_use]
     pub fn frozen_sizing(&self) -> RadiatorSizing {
-        RadiatorSizing::Existing { nominal_output_w: self.nominal_output_w, length_mm: self.length_mm }
+        RadiatorSizing::Chosen { nominal_output_w: self.nominal_output_w, length_mm: self.length_mm }
     }
 }
 
@@ -350,6 +370,17 @@ pub(super) fn design(spec: &RadiatorSpec, load_w: f64, temps: &DesignTemperature
             let outcome = rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?;
             (nominal_output_w, length_mm, true, outcome)
         }
+        RadiatorSizing::Chosen { nominal_output_w, length_mm } => {
+            let rating = RadiatorRating::new(nominal_output_w, exponent_n)?;
+            // Covers the load (to rounding of the stored output): the design
+            // flow at the design drop, as when it was sized.
+            let covers = nominal_output_w >= required * (1.0 - 1e-9);
+            let outcome = match design_drop_outcome(load_w, temps)? {
+                Some(meets) if covers => meets,
+                _ => rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?,
+            };
+            (nominal_output_w, length_mm, true, outcome)
+        }
         RadiatorSizing::ToSize => {
             let w_per_m = rtype.nominal_w_per_m(spec.height_mm)?;
             let step = f64::from(catalog.length_step_mm);
@@ -364,20 +395,9 @@ pub(super) fn design(spec: &RadiatorSpec, load_w: f64, temps: &DesignTemperature
             };
             let nominal = w_per_m * f64::from(length_mm) * 1e-3;
             let rating = RadiatorRating::new(nominal, exponent_n)?;
-            let outcome = if fits {
-                let cp = water::mean_cp_j_kg_k(temps.supply_c, temps.return_c)?;
-                let delta = temps.supply_c - temps.return_c;
-                if delta > 0.0 {
-                    CheckOutcome::Meets {
-                        return_c: temps.return_c,
-                        mass_flow_kg_s: load_w / (cp * delta),
-                        output_w: load_w,
-                    }
-                } else {
-                    rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?
-                }
-            } else {
-                rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?
+            let outcome = match design_drop_outcome(load_w, temps)? {
+                Some(meets) if fits => meets,
+                _ => rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?,
             };
             (nominal, length_mm, fits, outcome)
         }
@@ -392,6 +412,17 @@ pub(super) fn design(spec: &RadiatorSpec, load_w: f64, temps: &DesignTemperature
     };
     let detail = RadiatorDesign { required_nominal_w: required, nominal_output_w, length_mm, exponent_n, fits_catalog };
     Ok(EmitterDesign { outcome, installed, detail: EmitterDetail::Radiator(detail) })
+}
+
+/// The load met at the design temperature drop: q_m = Φ/(c_p·(θs − θr)),
+/// return at the design return (`None` when there is no drop).
+fn design_drop_outcome(load_w: f64, temps: &DesignTemperatures) -> PhysicsResult<Option<CheckOutcome>> {
+    let delta = temps.supply_c - temps.return_c;
+    if delta <= 0.0 {
+        return Ok(None);
+    }
+    let cp = water::mean_cp_j_kg_k(temps.supply_c, temps.return_c)?;
+    Ok(Some(CheckOutcome::Meets { return_c: temps.return_c, mass_flow_kg_s: load_w / (cp * delta), output_w: load_w }))
 }
 
 #[cfg(test)]

@@ -47,6 +47,11 @@ pub enum LinkLaw {
         a1_pa_s_kg: f64,
         /// Quadratic coefficient, Pa·s²/kg².
         a2_pa_s2_kg2: f64,
+        /// The pump's maximum curve (a0 Pa, a1 Pa·s/kg, a2 Pa·s²/kg²) when
+        /// the law above is a control law: the pump cannot give more than
+        /// its curve at full speed, so the rise is the lower of the two at
+        /// every flow. `None` for a pump running on its curve.
+        max_curve_pa: Option<[f64; 3]>,
     },
 }
 

@@ -450,6 +450,22 @@ pub fn static_term_pa(density_kg_m3: f64, from_elevation_m: f64, to_elevation_m:
     Ok(density_kg_m3 * GRAVITY_M_S2 * (from_elevation_m - to_elevation_m))
 }
 
+/// Pressure rise of a pump law and its derivative at mass flow `m`: the
+/// quadratic `law`, or the lower of it and `max_curve` at this flow (a
+/// controlled pump cannot exceed its curve at full speed). Over the pump's
+/// range both laws are single-valued in flow, so their lower one is one
+/// continuous law with a kink where they cross; the slope taken is the one
+/// of the law in force.
+#[must_use]
+pub fn pump_rise_and_slope(law: [f64; 3], max_curve: Option<[f64; 3]>, m: f64) -> (f64, f64) {
+    let eval = |c: [f64; 3]| (c[0] + m * (c[1] + m * c[2]), c[1] + 2.0 * c[2] * m);
+    let controlled = eval(law);
+    match max_curve.map(eval) {
+        Some(curve) if curve.0 < controlled.0 => curve,
+        _ => controlled,
+    }
+}
+
 /// The law without checks.
 fn eval_law(law: &LinkLaw, m: f64) -> (f64, f64) {
     LinkKernel::new(law).eval(m)
@@ -464,8 +480,8 @@ pub(crate) enum LinkKernel {
     Pipe(PipeKernel),
     /// r·m|m| (linear below [`QUADRATIC_LINEAR_BELOW_KG_S`]).
     Quadratic(f64),
-    /// −(a0 + a1·m + a2·m²).
-    Pump(f64, f64, f64),
+    /// −(a0 + a1·m + a2·m²), bounded by the maximum curve when given.
+    Pump([f64; 3], Option<[f64; 3]>),
 }
 
 impl LinkKernel {
@@ -473,7 +489,9 @@ impl LinkKernel {
         match *law {
             LinkLaw::Pipe(ref pipe) => Self::Pipe(PipeKernel::new(pipe)),
             LinkLaw::Quadratic { r_pa_s2_kg2 } => Self::Quadratic(r_pa_s2_kg2),
-            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2 } => Self::Pump(a0_pa, a1_pa_s_kg, a2_pa_s2_kg2),
+            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
+                Self::Pump([a0_pa, a1_pa_s_kg, a2_pa_s2_kg2], max_curve_pa)
+            }
         }
     }
 
@@ -489,8 +507,9 @@ impl LinkKernel {
                     (r * QUADRATIC_LINEAR_BELOW_KG_S * m, r * QUADRATIC_LINEAR_BELOW_KG_S)
                 }
             }
-            Self::Pump(a0_pa, a1_pa_s_kg, a2_pa_s2_kg2) => {
-                (-(a0_pa + a1_pa_s_kg * m + a2_pa_s2_kg2 * m * m), -(a1_pa_s_kg + 2.0 * a2_pa_s2_kg2 * m))
+            Self::Pump(law, max_curve) => {
+                let (rise, slope) = pump_rise_and_slope(law, max_curve, m);
+                (-rise, -slope)
             }
         }
     }
@@ -552,10 +571,16 @@ fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<b
             LinkLaw::Quadratic { r_pa_s2_kg2 } => {
                 check::non_negative("resistance coefficient r", r_pa_s2_kg2, "Pa·s²/kg²").map(|_| ())
             }
-            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2 } => check::finite("pump coefficient a0", a0_pa, "Pa")
-                .and_then(|_| check::finite("pump coefficient a1", a1_pa_s_kg, "Pa·s/kg"))
-                .and_then(|_| check::finite("pump coefficient a2", a2_pa_s2_kg2, "Pa·s²/kg²"))
-                .map(|_| ()),
+            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
+                let [c0, c1, c2] = max_curve_pa.unwrap_or_default();
+                check::finite("pump coefficient a0", a0_pa, "Pa")
+                    .and_then(|_| check::finite("pump coefficient a1", a1_pa_s_kg, "Pa·s/kg"))
+                    .and_then(|_| check::finite("pump coefficient a2", a2_pa_s2_kg2, "Pa·s²/kg²"))
+                    .and_then(|_| check::finite("pump maximum-curve coefficient a0", c0, "Pa"))
+                    .and_then(|_| check::finite("pump maximum-curve coefficient a1", c1, "Pa·s/kg"))
+                    .and_then(|_| check::finite("pump maximum-curve coefficient a2", c2, "Pa·s²/kg²"))
+                    .map(|_| ())
+            }
         };
         if let Err(source) = checked {
             return if same_ends(ws, link) { Err(SolveError::InvalidLink { link, source }) } else { Ok(false) };

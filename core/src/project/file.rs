@@ -338,19 +338,29 @@ fn newer(path: &str, version: u32) -> FileError {
 
 /// Write `bytes` to `path` atomically (temporary file + fsync + rename).
 ///
+/// Every file flowrise writes goes through here. When `path` is a symbolic
+/// link, the file it points to is replaced (the link stays a link); when
+/// the file exists, the new one gets its permissions.
+///
 /// # Errors
 /// [`FileError::Io`] naming the path.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), FileError> {
     let io = |source| FileError::Io { path: path.to_owned(), source };
-    let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or_else(|| Path::new("."));
-    let name = path.file_name().map_or_else(|| "project".into(), |n| n.to_string_lossy().into_owned());
+    let target = resolve_links(path).map_err(io)?;
+    let target = target.as_path();
+    let dir = target.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or_else(|| Path::new("."));
+    let name = target.file_name().map_or_else(|| "project".into(), |n| n.to_string_lossy().into_owned());
     let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let permissions = std::fs::metadata(target).ok().map(|m| m.permissions());
     let result = (|| {
         let mut f = std::fs::File::create(&tmp)?;
         f.write_all(bytes)?;
+        if let Some(perm) = permissions {
+            f.set_permissions(perm)?;
+        }
         f.sync_all()?;
         drop(f);
-        std::fs::rename(&tmp, path)?;
+        std::fs::rename(&tmp, target)?;
         // Make the rename itself durable where the platform allows it.
         if let Ok(d) = std::fs::File::open(dir) {
             d.sync_all().ok();
@@ -363,6 +373,53 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), FileError> {
         remove_stale_temps(dir, &name);
     }
     result.map_err(io)
+}
+
+/// The file a chain of symbolic links at `path` ends in (`path` itself
+/// when it is not a link or does not exist yet). A link to a missing file
+/// gives the missing file, which the write then creates.
+fn resolve_links(path: &Path) -> std::io::Result<PathBuf> {
+    let mut current = path.to_path_buf();
+    // Links nest only so deep (the kernel's own limit is 40).
+    for _ in 0..40 {
+        match std::fs::symlink_metadata(&current) {
+            Ok(m) if m.file_type().is_symlink() => {
+                let next = std::fs::read_link(&current)?;
+                current = match current.parent() {
+                    Some(dir) if next.is_relative() => dir.join(next),
+                    _ => next,
+                };
+            }
+            _ => return Ok(current),
+        }
+    }
+    Err(std::io::Error::other("too many levels of symbolic links"))
+}
+
+/// True when `a` and `b` name the same file (after links, `.` and `..`;
+/// hard links too on Unix). A path that does not exist yet is compared by
+/// its folder and name.
+#[must_use]
+pub fn same_file(a: &Path, b: &Path) -> bool {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::MetadataExt;
+        if let (Ok(x), Ok(y)) = (std::fs::metadata(a), std::fs::metadata(b)) {
+            return x.dev() == y.dev() && x.ino() == y.ino();
+        }
+    }
+    let canonical = |p: &Path| -> Option<PathBuf> {
+        let p = resolve_links(p).ok()?;
+        if let Ok(c) = p.canonicalize() {
+            return Some(c);
+        }
+        let dir = p.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or_else(|| Path::new("."));
+        Some(dir.canonicalize().ok()?.join(p.file_name()?))
+    };
+    match (canonical(a), canonical(b)) {
+        (Some(x), Some(y)) => x == y,
+        _ => false,
+    }
 }
 
 /// Remove temporary files `.NAME.PID.tmp` left by saves that were killed
@@ -389,5 +446,60 @@ fn remove_stale_temps(dir: &Path, name: &str) {
         if stale && pid != std::process::id() {
             std::fs::remove_file(e.path()).ok();
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn temp_dir(tag: &str) -> PathBuf {
+        let d = std::env::temp_dir().join(format!("flowrise-file-{tag}-{}", std::process::id()));
+        std::fs::remove_dir_all(&d).ok();
+        std::fs::create_dir_all(&d).unwrap();
+        d
+    }
+
+    /// Issue 20 item 2: writing through a symbolic link replaces the file it
+    /// points to and leaves the link a link.
+    #[cfg(unix)]
+    #[test]
+    fn a_write_through_a_symlink_keeps_the_link() {
+        let d = temp_dir("link");
+        let real = d.join("real.csv");
+        std::fs::write(&real, "old").unwrap();
+        let link = d.join("link.csv");
+        std::os::unix::fs::symlink("real.csv", &link).unwrap();
+        write_atomic(&link, b"new").unwrap();
+        assert!(std::fs::symlink_metadata(&link).unwrap().file_type().is_symlink());
+        assert_eq!(std::fs::read_to_string(&real).unwrap(), "new");
+        assert!(same_file(&link, &real));
+        std::fs::remove_dir_all(&d).ok();
+    }
+
+    /// The replaced file keeps its permissions.
+    #[cfg(unix)]
+    #[test]
+    fn a_write_keeps_the_permissions_of_the_file_it_replaces() {
+        use std::os::unix::fs::PermissionsExt;
+        let d = temp_dir("perm");
+        let f = d.join("shared.csv");
+        std::fs::write(&f, "old").unwrap();
+        std::fs::set_permissions(&f, std::fs::Permissions::from_mode(0o640)).unwrap();
+        write_atomic(&f, b"new").unwrap();
+        assert_eq!(std::fs::metadata(&f).unwrap().permissions().mode() & 0o777, 0o640);
+        std::fs::remove_dir_all(&d).ok();
+    }
+
+    #[test]
+    fn same_file_sees_through_dot_dot_and_missing_files() {
+        let d = temp_dir("same");
+        std::fs::create_dir_all(d.join("sub")).unwrap();
+        let f = d.join("p.ron");
+        std::fs::write(&f, "x").unwrap();
+        assert!(same_file(&f, &d.join("sub").join("..").join("p.ron")));
+        assert!(!same_file(&f, &d.join("q.ron")));
+        assert!(same_file(&d.join("q.ron"), &d.join("sub").join("..").join("q.ron")));
+        std::fs::remove_dir_all(&d).ok();
     }
 }
