@@ -120,7 +120,7 @@ fn shift_dragging_a_branch_in_installed_mode_changes_the_flows() {
     // A header on the ground floor and the emitters it feeds.
     let project = h.state().project().clone();
     let header = project.nodes().find(|n| n.level == LevelId(0) && matches!(n.kind, NodeKind::Header(_))).unwrap();
-    let branch = tools::branch_of(&project, header.id);
+    let branch = tools::branch_of(h.state().solution(), header.id);
     let emitters: Vec<NodeId> = branch.iter().copied().filter(|id| project.emitters().contains(id)).collect();
     assert!(!emitters.is_empty());
     let flows_before: Vec<f64> = emitters.iter().map(|&e| h.state().solution().emitter(e).unwrap().flow_l_h).collect();

@@ -6,10 +6,10 @@
 //! - **pipes** per series, size and side: total length of the solution's
 //!   pipes plus a stated cutting allowance (default 5 %, common practice);
 //!   reverse-return home pipes use the solution's return lengths;
-//! - **bends** per material and size from the run geometry with the design's
-//!   own thresholds ([`crate::design::bend_count`]: a turn of 60° or more is
-//!   a 90° bend, 20–60° a 45° bend), plus the design's assumption of two
-//!   bends (foot and head) per vertical run and side; a junction joining two
+//! - **bends** per material and size as the design counted them for its
+//!   local losses ([`crate::design::PipeResult::bends_90`]: a turn of 60° or
+//!   more is a 90° bend, 20–60° a 45° bend, plus two bends (foot and head)
+//!   per vertical run and side); a junction joining two
 //!   horizontal runs at an angle also gets a bend per side (the design's
 //!   friction counts bends inside runs only — stated in the line's note);
 //! - **tees** where three pipes of one side meet at a junction: equal, or
@@ -30,22 +30,17 @@ use std::collections::{BTreeMap, BTreeSet};
 use thiserror::Error;
 
 use crate::csv_cell;
-use crate::design::topology::{self, Topology};
 use crate::design::{PipeResult, Side, Solution};
 use crate::emitters::{EmitterDetail, EmitterModel, RadiatorSizing};
 use crate::error::{PhysicsError, PhysicsResult, check};
 use crate::pipes::{self, PipeMaterial};
-use crate::project::{NodeId, NodeKind, PlanPoint, Project, Run};
+use crate::project::{NodeId, NodeKind, Project, Run};
 use crate::pump::PumpControl;
 use crate::valves;
 
 /// Default cutting allowance on pipe lengths, fraction (common practice:
 /// about 5 % for offcuts and jointing).
 pub const DEFAULT_CUTTING_ALLOWANCE_FRACTION: f64 = 0.05;
-
-/// Bends the design assumes per vertical run and side (riser foot and head),
-/// as in the design pass's local losses.
-pub const RISER_BENDS_PER_VERTICAL_RUN: u32 = 2;
 
 /// Common nominal expansion-vessel sizes, l (common practice; the vessel
 /// chosen is the first size not below the EN 12828 minimum).
@@ -262,13 +257,12 @@ fn metres(x: f64) -> f64 {
 /// the solution is not in the catalog.
 pub fn parts_list(p: &Project, sol: &Solution, opts: &PartsOptions) -> PhysicsResult<PartsList> {
     opts.validate()?;
-    let (topo, _) = topology::analyse(p);
     let mut acc = Acc::default();
     pipe_lines(sol, opts, &mut acc)?;
-    fitting_lines(p, sol, &topo, &mut acc)?;
+    fitting_lines(p, sol, &mut acc)?;
     emitter_lines(p, sol, &mut acc);
     valve_lines(p, sol, &mut acc);
-    header_lines(p, sol, &topo, &mut acc);
+    header_lines(p, sol, &mut acc);
     plant_lines(p, sol, &mut acc);
     insulation_lines(sol, opts, &mut acc)?;
     let mut lines = acc.finish();
@@ -413,80 +407,6 @@ fn pipe_lines(sol: &Solution, opts: &PartsOptions, acc: &mut Acc) -> PhysicsResu
     Ok(())
 }
 
-/// 90° and 45° bends along a run's polyline, with the thresholds of
-/// [`crate::design::bend_count`] (so `n90 + 0.5·n45 == bend_count`).
-#[must_use]
-pub fn bends_in_run(p: &Project, run: &Run) -> (u32, u32) {
-    let (Some(a), Some(b)) = (p.node(run.a), p.node(run.b)) else { return (0, 0) };
-    let mut pts = vec![a.pos];
-    pts.extend_from_slice(&run.vertices);
-    pts.push(b.pos);
-    let (mut n90, mut n45) = (0, 0);
-    for w in pts.windows(3) {
-        match turn_deg(w[0], w[1], w[2]) {
-            Some(t) if t >= 60.0 => n90 += 1,
-            Some(t) if t >= 20.0 => n45 += 1,
-            _ => {}
-        }
-    }
-    (n90, n45)
-}
-
-/// Turn angle at `b` of the path a → b → c, degrees; `None` when a leg has
-/// zero length.
-fn turn_deg(a: PlanPoint, b: PlanPoint, c: PlanPoint) -> Option<f64> {
-    let (u, v) = ((b.x_m - a.x_m, b.y_m - a.y_m), (c.x_m - b.x_m, c.y_m - b.y_m));
-    let (lu, lv) = (u.0.hypot(u.1), v.0.hypot(v.1));
-    if lu <= 0.0 || lv <= 0.0 {
-        return None;
-    }
-    let cos = ((u.0 * v.0 + u.1 * v.1) / (lu * lv)).clamp(-1.0, 1.0);
-    Some(cos.acos().to_degrees())
-}
-
-/// The two nodes a pipe of the solution joins, following the design's
-/// derivation: the run's ends, except in a reverse-return chain, whose first
-/// run's return is the home pipe from the chain's last node to its start and
-/// whose later runs' returns join the chain nodes in supply order.
-#[must_use]
-pub fn pipe_ends(topo: &Topology, pr: &PipeResult) -> Option<(NodeId, NodeId)> {
-    let tr = topo.tree_run(pr.run)?;
-    if pr.side == Side::Return {
-        for ch in &topo.reverse_chains {
-            let Some(i) = ch.runs.iter().position(|&r| r == pr.run) else { continue };
-            let mut nodes = vec![ch.start];
-            for &r in &ch.runs {
-                nodes.push(topo.tree_run(r)?.down);
-            }
-            return if i == 0 { Some((*nodes.last()?, ch.start)) } else { Some((nodes[i], nodes[i + 1])) };
-        }
-    }
-    Some((tr.up, tr.down))
-}
-
-/// Bends of one pipe (90°, 45°): its run's geometry (a reverse-return home
-/// pipe follows its whole chain) plus the riser foot and head of a vertical
-/// run.
-fn pipe_bends(p: &Project, topo: &Topology, pr: &PipeResult) -> (u32, u32) {
-    let Some(run) = p.run(pr.run) else { return (0, 0) };
-    let chain = (pr.side == Side::Return)
-        .then(|| topo.reverse_chains.iter().find(|ch| ch.runs.first() == Some(&pr.run)))
-        .flatten();
-    let (mut n90, n45) = match chain {
-        Some(ch) => ch
-            .runs
-            .iter()
-            .filter_map(|&r| p.run(r))
-            .map(|r| bends_in_run(p, r))
-            .fold((0, 0), |a, b| (a.0 + b.0, a.1 + b.1)),
-        None => bends_in_run(p, run),
-    };
-    if p.is_vertical(run) {
-        n90 += RISER_BENDS_PER_VERTICAL_RUN;
-    }
-    (n90, n45)
-}
-
 /// Direction (unit vector on the plan) in which run `run` leaves node `at`.
 fn leaving_direction(p: &Project, run: &Run, at: NodeId) -> Option<(f64, f64)> {
     let here = p.node(at)?.pos;
@@ -501,13 +421,13 @@ fn leaving_direction(p: &Project, run: &Run, at: NodeId) -> Option<(f64, f64)> {
 }
 
 #[allow(clippy::too_many_lines)] // reason: one pass over the junctions, each fitting rule beside the next
-fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) -> PhysicsResult<()> {
+fn fitting_lines(p: &Project, sol: &Solution, acc: &mut Acc) -> PhysicsResult<()> {
     // Bends and couplings per pipe.
     for pr in &sol.pipes {
         let series = series_of(pr)?;
         let mat = series.material.label();
         let serves = [pr.run.to_string()];
-        let (n90, n45) = pipe_bends(p, topo, pr);
+        let (n90, n45) = (pr.bends_90, pr.bends_45);
         let note = "from the run geometry and riser foot/head (as the design counts them)".to_owned();
         acc.add(
             PartCategory::Fitting,
@@ -544,10 +464,9 @@ fn fitting_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) ->
     // Pipes meeting at each node, per side.
     let mut at: BTreeMap<(NodeId, Side), Vec<&PipeResult>> = BTreeMap::new();
     for pr in &sol.pipes {
-        if let Some((u, d)) = pipe_ends(topo, pr) {
-            at.entry((u, pr.side)).or_default().push(pr);
-            at.entry((d, pr.side)).or_default().push(pr);
-        }
+        let [u, d] = pr.ends;
+        at.entry((u, pr.side)).or_default().push(pr);
+        at.entry((d, pr.side)).or_default().push(pr);
     }
     for ((node_id, side), mut list) in at {
         let Some(node) = p.node(node_id) else { continue };
@@ -757,14 +676,14 @@ fn valve_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
     }
 }
 
-fn header_lines(p: &Project, sol: &Solution, topo: &Topology, acc: &mut Acc) {
+fn header_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
+    let topo = &sol.topology;
     for node in p.nodes() {
         let NodeKind::Header(h) = &node.kind else { continue };
-        let used = topo.children.get(&node.id).map_or(0, Vec::len);
+        let used = topo.children_of(node.id).len();
         let inlet = topo
-            .parent_run
-            .get(&node.id)
-            .and_then(|&r| sol.run_pipes(r).find(|x| x.side == Side::Supply))
+            .parent_run_of(node.id)
+            .and_then(|r| sol.run_pipes(r).find(|x| x.side == Side::Supply))
             .map_or_else(String::new, |x| format!("; inlet {}", x.size));
         acc.add(
             PartCategory::Header,

@@ -24,7 +24,6 @@ macro_rules! w {
 
 pub mod svg;
 
-use crate::design::topology;
 use crate::design::{Severity, Side, Solution};
 use crate::emitters::{EmitterDetail, EmitterModel};
 use crate::parts::{PartsList, vessel_nominal_size_l};
@@ -253,7 +252,6 @@ fn conditions(h: &mut String, p: &Project, sol: &Solution, parts: &PartsList) {
 }
 
 fn drawings(h: &mut String, p: &Project, sol: &Solution) {
-    let (topo, _) = topology::analyse(p);
     h.push_str(
         "<section id=\"plans\"><h2>2 Level plans</h2><p class=\"muted\">Runs are drawn as one line for the supply + return \
          pair, coloured by the velocity margin v / v<sub>limit</sub> of the worse side (viridis scale, 0 → 1); runs over \
@@ -276,7 +274,7 @@ fn drawings(h: &mut String, p: &Project, sol: &Solution) {
         );
     }
     h.push_str("</section>\n<section id=\"riser\"><h2>3 Riser elevation</h2><p class=\"muted\">Levels at their elevations; vertical runs between them, one column per riser position, with the horizontal runs that leave each riser node.</p>");
-    w!(h, "<figure class=\"elevation\">{}</figure></section>\n", svg::riser_elevation(p, sol, &topo));
+    w!(h, "<figure class=\"elevation\">{}</figure></section>\n", svg::riser_elevation(p, sol, &sol.topology));
 }
 
 fn emitter_kind(p: &Project, sol_detail: Option<&EmitterDetail>, id: crate::project::NodeId) -> String {

@@ -11,8 +11,7 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
-use flowrise_core::design::topology;
-use flowrise_core::design::{LinkRole, Side, Solution, SolveOptions, Workspace, bend_count, solve_project};
+use flowrise_core::design::{self, LinkRole, Side, Solution, SolveOptions, Workspace, bend_count, solve_project};
 use flowrise_core::parts::{self, PartCategory, PartUnit, PartsList, PartsOptions};
 use flowrise_core::pipes;
 use flowrise_core::project::{NodeId, NodeKind, Project, RunId};
@@ -54,7 +53,7 @@ fn pipe_totals_per_side_and_series_are_the_run_lengths_plus_the_allowance() {
     for d in demos() {
         let allowance = d.parts.options.cutting_allowance_fraction;
         assert!(close(allowance, 0.05, 1e-12), "default allowance 5 % (common practice)");
-        let (topo, _) = topology::analyse(&d.p);
+        let topo = &d.sol.topology;
         let chain_runs: BTreeSet<RunId> = topo.reverse_chains.iter().flat_map(|c| c.runs.iter().copied()).collect();
         // Expected net length per (side, series name) from the project: supply
         // every run; return every run outside reverse-return chains, and the
@@ -116,9 +115,9 @@ fn pipe_totals_per_side_and_series_are_the_run_lengths_plus_the_allowance() {
 
 /// Map each layout node to its return node in the derived network, by
 /// walking the return pipes from the emitters' return nodes (the body
-/// link's outlet). Checks that `parts::pipe_ends` agrees with the network
-/// the design actually built.
-fn return_node_map(d: &Demo, topo: &topology::Topology) -> BTreeMap<NodeId, usize> {
+/// link's outlet). Checks that each pipe's `ends` (what the parts list
+/// reads) agree with the network the design actually built.
+fn return_node_map(d: &Demo) -> BTreeMap<NodeId, usize> {
     let net = &d.sol.network;
     let mut map: BTreeMap<NodeId, usize> = BTreeMap::new();
     for (k, role) in d.sol.roles.iter().enumerate() {
@@ -131,7 +130,7 @@ fn return_node_map(d: &Demo, topo: &topology::Topology) -> BTreeMap<NodeId, usiz
     while changed {
         changed = false;
         for pr in &returns {
-            let (u, v) = parts::pipe_ends(topo, pr).unwrap();
+            let [u, v] = pr.ends;
             let link = &net.links[pr.link];
             let ends = [link.from, link.to];
             for (known, other) in [(u, v), (v, u)] {
@@ -167,8 +166,7 @@ fn tee_legs(size: &str) -> Vec<String> {
 fn one_tee_of_the_right_sizes_per_three_way_junction() {
     let mut tees_seen = 0;
     for d in demos() {
-        let (topo, _) = topology::analyse(&d.p);
-        let rmap = return_node_map(&d, &topo);
+        let rmap = return_node_map(&d);
         let net = &d.sol.network;
         for side in [Side::Supply, Side::Return] {
             let suffix = match side {
@@ -311,7 +309,7 @@ fn every_emitter_appears_once_with_its_presetting() {
 fn bends_follow_the_design_rule_and_the_list_is_sorted_and_deterministic() {
     for d in demos() {
         for run in d.p.runs() {
-            let (n90, n45) = parts::bends_in_run(&d.p, run);
+            let (n90, n45) = design::bends_in_run(&d.p, run);
             assert!(
                 close(f64::from(n90) + 0.5 * f64::from(n45), bend_count(&d.p, run), 1e-12),
                 "{}: {}",

@@ -7,13 +7,13 @@
 
 use std::sync::Arc;
 
-use super::Side;
+use super::findings::FindingKind;
+use super::{Side, SizeInputs};
 use crate::emitters::{Characteristic, DesignTemperatures, EmitterDesign, EmitterModel, FlowOutput, InstalledEmitter};
 use crate::error::PhysicsResult;
 use crate::network::LinkLaw;
-use crate::pipes::PipeSeries;
 use crate::project::{NodeId, RunId};
-use crate::water::{self, WaterProperties};
+use crate::water;
 
 /// Largest relative flow change, |m − m₀|/m₀, over which an emitter's output
 /// is carried from its cached operating point along the local slope instead
@@ -179,61 +179,39 @@ fn slopes(inst: &InstalledEmitter, m: f64, supply_c: f64, room_c: f64, out: Flow
 }
 
 /// The pipe size chosen for each side of each run, with the inputs of the
-/// choice; reused while they are bit for bit the same (a drag in design
-/// mode changes lengths, not flows).
+/// choice; reused while they are the same (a drag in design mode changes
+/// lengths, not flows).
 #[derive(Debug, Default)]
 pub(super) struct SizeCache {
     /// By 2·run slot + side (the slot of [`super::topology::Topology`]).
     entries: Vec<Option<SizeEntry>>,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy)]
 struct SizeEntry {
-    /// Address of the `'static` catalog series (compared, never used).
-    series: usize,
     run: RunId,
-    key: [u64; 5],
+    inputs: SizeInputs,
     choice: (usize, bool),
 }
 
 impl SizeCache {
     /// [`super::choose_size`] through the cache.
-    #[allow(clippy::too_many_arguments)] // reason: the inputs of the choice, each part of the key
-    pub(super) fn choose(
-        &mut self,
-        run: RunId,
-        run_slot: usize,
-        side: Side,
-        series: &'static PipeSeries,
-        m: f64,
-        props: &WaterProperties,
-        v_lim: f64,
-        grad_lim: f64,
-    ) -> (usize, bool) {
+    pub(super) fn choose(&mut self, run: RunId, run_slot: usize, side: Side, inputs: &SizeInputs) -> (usize, bool) {
         let ix = run_slot.saturating_mul(2).saturating_add(usize::from(side == Side::Return));
-        let key = [
-            m.to_bits(),
-            props.density_kg_m3.to_bits(),
-            props.viscosity_pa_s.to_bits(),
-            v_lim.to_bits(),
-            grad_lim.to_bits(),
-        ];
-        let sp = std::ptr::from_ref(series).addr();
         if let Some(Some(e)) = self.entries.get(ix)
-            && e.series == sp
             && e.run == run
-            && e.key == key
+            && e.inputs == *inputs
         {
             return e.choice;
         }
-        let choice = super::choose_size(series, m, props, v_lim, grad_lim);
+        let choice = super::choose_size(inputs);
         // Slots are bounded by the topology's (dense) run slots.
         if ix < usize::MAX / 2 {
             if ix >= self.entries.len() {
                 self.entries.resize(ix + 1, None);
             }
             if let Some(x) = self.entries.get_mut(ix) {
-                *x = Some(SizeEntry { series: sp, run, key, choice });
+                *x = Some(SizeEntry { run, inputs: *inputs, choice });
             }
         }
         choice
@@ -297,7 +275,20 @@ struct MessageEntry {
 
 impl MessageCache {
     /// Kinds of cached messages per slot.
-    pub(super) const KINDS: usize = 4;
+    const KINDS: usize = 4;
+
+    /// Position of a cached kind among a slot's entries; `None` for kinds
+    /// that are not cached (they are rare: formatted each time). A kind
+    /// cached here is one that can appear on thousands of items at once.
+    fn kind_ix(kind: FindingKind) -> Option<usize> {
+        match kind {
+            FindingKind::KvAboveLargest => Some(0),
+            FindingKind::KvBelowSmallest => Some(1),
+            FindingKind::LowAuthority => Some(2),
+            FindingKind::SizeLimitsExceeded => Some(3),
+            _ => None,
+        }
+    }
 
     /// The message for item `slot` and `kind` written by `make` from the
     /// numbers `key` (bit patterns, ids) and the name `text`, from the cache
@@ -305,12 +296,12 @@ impl MessageCache {
     pub(super) fn get(
         &mut self,
         slot: usize,
-        kind: usize,
+        kind: FindingKind,
         key: [u64; 5],
         text: &str,
         make: impl FnOnce() -> String,
     ) -> Arc<str> {
-        let Some(ix) = slot.checked_mul(Self::KINDS).and_then(|x| x.checked_add(kind)).filter(|_| kind < Self::KINDS)
+        let Some(ix) = Self::kind_ix(kind).and_then(|k| slot.checked_mul(Self::KINDS).and_then(|x| x.checked_add(k)))
         else {
             return make().into();
         };

@@ -1,11 +1,16 @@
-//! Findings: errors, warnings and notes, each tied to the item it concerns.
+//! Findings: errors, warnings and notes, each tied to the item it concerns
+//! and typed by what it is about ([`FindingKind`]).
+//!
+//! Every finding text of the design chain is written here, by one builder
+//! per kind, so the wording stays consistent and a new finding has one
+//! place to go. A text names the item, the amount and the fix.
 
 use std::fmt;
 use std::sync::Arc;
 
 use serde::Serialize;
 
-use crate::project::{NodeId, RunId};
+use crate::project::{Node, NodeId, PipeClass, RunId};
 
 /// How serious a finding is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
@@ -17,6 +22,101 @@ pub enum Severity {
     Warning,
     /// Information.
     Note,
+}
+
+/// What a finding is about. Stable: the snake_case name is written to the
+/// JSON (`findings[].kind`, docs/solve-json.md) and scripts may key on it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FindingKind {
+    // ---- layout (topology)
+    /// The project has no heat source.
+    NoSource,
+    /// The heat source has no run.
+    SourceUnconnected,
+    /// A run closes a loop in the drawn tree.
+    LoopClosed,
+    /// An emitter is not connected to the source.
+    EmitterUnreachable,
+    /// A junction, header or source is not connected to the source.
+    NodeUnreachable,
+    /// A run is not connected to the source.
+    RunUnreachable,
+    /// A junction or header with nothing downstream.
+    DeadEnd,
+    /// A header has more outlet runs than outlets.
+    HeaderOutletsExceeded,
+    /// A reverse-return branch forks (derived as direct return).
+    ReverseReturnFork,
+    // ---- inputs
+    /// A design setting is out of range.
+    SettingsInvalid,
+    /// Design temperatures outside the water-property range.
+    WaterPropertyRange,
+    /// The pump curve points do not describe a falling curve.
+    PumpCurveInvalid,
+    /// An emitter has zero load.
+    ZeroLoad,
+    /// An emitter's own design failed (model data, temperatures).
+    EmitterDesignFailed,
+    /// An emitter's valve family is not in the catalog.
+    ValveFamilyUnknown,
+    /// An emitter's lockshield family is not in the catalog.
+    LockshieldFamilyUnknown,
+    /// No emitter is connected to the source.
+    NoEmitter,
+    // ---- sizing
+    /// A pipe series of the settings is not in the catalog.
+    PipeSeriesUnknown,
+    /// A run's fixed size is not in its series.
+    FixedSizeUnknown,
+    /// Even the largest size of the series exceeds the limits.
+    SizeLimitsExceeded,
+    /// A pipe's hydraulic data are not physical.
+    PipeLawInvalid,
+    // ---- emitters
+    /// An emitter delivers less than its load at the design temperatures.
+    EmitterShortfall,
+    /// A floor's mean surface temperature exceeds its EN 1264 limit.
+    FloorSurfaceLimit,
+    /// A floor loop's pressure drop exceeds the common-practice limit.
+    FloorLoopPressureDrop,
+    /// A floor loop is longer than the common-practice limit.
+    FloorLoopLength,
+    /// A radiator needs more than the longest of its type.
+    RadiatorBeyondCatalog,
+    // ---- balancing and pump
+    /// No emitter has a design flow.
+    NoDesignFlow,
+    /// The pump curve gives less than the index circuit needs.
+    PumpTooWeak,
+    /// A fixed presetting is not a step of the valve family.
+    PresettingUnknown,
+    /// The pump head cannot drive an emitter's design flow.
+    ValveCannotDeliver,
+    /// The needed Kv is above the valve's largest step.
+    KvAboveLargest,
+    /// The needed Kv is below the valve's smallest step.
+    KvBelowSmallest,
+    /// The presetting could not be chosen.
+    PresettingFailed,
+    /// Valve authority below the common-practice limit.
+    LowAuthority,
+    /// The source's capacity is below the total load.
+    SourceCapacity,
+    /// The expansion vessel could not be sized.
+    VesselNotSized,
+    // ---- operating solve
+    /// The derived network is not valid for the solver.
+    NetworkInvalid,
+    /// The operating solve did not converge.
+    NotConverged,
+    /// In installed mode a room gets too little of its load.
+    RoomShort,
+    /// A Δp-controlled pump cannot hold its set-point.
+    PumpOnMaxCurve,
+    /// A pipe's operating velocity exceeds its class limit.
+    VelocityOverLimit,
 }
 
 /// The item a finding concerns.
@@ -54,6 +154,8 @@ impl Serialize for ItemRef {
 pub struct Finding {
     /// Severity.
     pub severity: Severity,
+    /// What it is about.
+    pub kind: FindingKind,
     /// The item concerned.
     pub item: ItemRef,
     /// What is wrong and how to fix it. Shared, not copied: an unchanged
@@ -65,17 +167,420 @@ pub struct Finding {
 impl Finding {
     /// An error.
     #[must_use]
-    pub fn error(item: ItemRef, message: impl Into<Arc<str>>) -> Self {
-        Self { severity: Severity::Error, item, message: message.into() }
+    pub fn error(kind: FindingKind, item: ItemRef, message: impl Into<Arc<str>>) -> Self {
+        Self { severity: Severity::Error, kind, item, message: message.into() }
     }
     /// A warning.
     #[must_use]
-    pub fn warning(item: ItemRef, message: impl Into<Arc<str>>) -> Self {
-        Self { severity: Severity::Warning, item, message: message.into() }
+    pub fn warning(kind: FindingKind, item: ItemRef, message: impl Into<Arc<str>>) -> Self {
+        Self { severity: Severity::Warning, kind, item, message: message.into() }
     }
     /// A note.
     #[must_use]
-    pub fn note(item: ItemRef, message: impl Into<Arc<str>>) -> Self {
-        Self { severity: Severity::Note, item, message: message.into() }
+    pub fn note(kind: FindingKind, item: ItemRef, message: impl Into<Arc<str>>) -> Self {
+        Self { severity: Severity::Note, kind, item, message: message.into() }
     }
+}
+
+// ---------------------------------------------------------------------------
+// Layout (topology)
+// ---------------------------------------------------------------------------
+
+pub(crate) fn no_source() -> Finding {
+    Finding::error(
+        FindingKind::NoSource,
+        ItemRef::Project,
+        "the project has no heat source — place one with the Source tool and draw a run from it",
+    )
+}
+
+pub(crate) fn source_unconnected(source: NodeId) -> Finding {
+    Finding::error(
+        FindingKind::SourceUnconnected,
+        ItemRef::Node(source),
+        "the heat source has no run — draw a run from it to a junction, header or emitter",
+    )
+}
+
+pub(crate) fn loop_closed(run: RunId, loop_runs: &str) -> Finding {
+    Finding::error(
+        FindingKind::LoopClosed,
+        ItemRef::Run(run),
+        format!(
+            "run {run} closes a loop in the drawn network (loop-closing runs: {loop_runs}) — a two-pipe layout is \
+             drawn as a tree from the source; delete the run or one of the loop's runs. Emitters in \
+             series on one pipe (a one-pipe loop) are outside flowrise's scope"
+        ),
+    )
+}
+
+pub(crate) fn emitter_unreachable(node: &Node) -> Finding {
+    Finding::error(
+        FindingKind::EmitterUnreachable,
+        ItemRef::Node(node.id),
+        format!(
+            "{} is not connected to the heat source — draw a run from it to a junction or header of the network",
+            node.label()
+        ),
+    )
+}
+
+pub(crate) fn node_unreachable(node: &Node) -> Finding {
+    Finding::warning(
+        FindingKind::NodeUnreachable,
+        ItemRef::Node(node.id),
+        format!("{} is not connected to the heat source — connect it or delete it", node.label()),
+    )
+}
+
+pub(crate) fn run_unreachable(run: RunId) -> Finding {
+    Finding::warning(
+        FindingKind::RunUnreachable,
+        ItemRef::Run(run),
+        format!("run {run} is not connected to the heat source — connect it or delete it"),
+    )
+}
+
+pub(crate) fn dead_end(node: &Node) -> Finding {
+    Finding::warning(
+        FindingKind::DeadEnd,
+        ItemRef::Node(node.id),
+        format!("{} is a dead end: no emitter downstream, so it carries no flow", node.label()),
+    )
+}
+
+pub(crate) fn header_outlets_exceeded(node: &Node, runs: usize, outlets: u32) -> Finding {
+    Finding::warning(
+        FindingKind::HeaderOutletsExceeded,
+        ItemRef::Node(node.id),
+        format!("{} has {runs} outlet runs but {outlets} outlets — raise its outlet count", node.label()),
+    )
+}
+
+pub(crate) fn reverse_return_fork(at: NodeId, label: &str) -> Finding {
+    Finding::warning(
+        FindingKind::ReverseReturnFork,
+        ItemRef::Node(at),
+        format!(
+            "reverse return needs one trunk, but the branch forks at {label} — this branch is derived \
+             as direct return; give the forks their own reverse-return start or use direct return"
+        ),
+    )
+}
+
+// ---------------------------------------------------------------------------
+// Inputs
+// ---------------------------------------------------------------------------
+
+pub(crate) fn settings_invalid(field: &str, message: &str) -> Finding {
+    Finding::error(FindingKind::SettingsInvalid, ItemRef::Settings, format!("{field}: {message}"))
+}
+
+pub(crate) fn water_property_range() -> Finding {
+    Finding::error(
+        FindingKind::WaterPropertyRange,
+        ItemRef::Settings,
+        "design temperatures outside the water-property range",
+    )
+}
+
+pub(crate) fn pump_curve_invalid(source: NodeId, error: &dyn fmt::Display) -> Finding {
+    Finding::error(
+        FindingKind::PumpCurveInvalid,
+        ItemRef::Node(source),
+        format!("pump curve: {error} — correct the three curve points"),
+    )
+}
+
+pub(crate) fn zero_load(node: &Node) -> Finding {
+    Finding::warning(
+        FindingKind::ZeroLoad,
+        ItemRef::Node(node.id),
+        format!("{} has zero load — give it the room's heat load (it gets no flow)", node.label()),
+    )
+}
+
+pub(crate) fn emitter_design_failed(node: &Node, error: &dyn fmt::Display) -> Finding {
+    Finding::error(FindingKind::EmitterDesignFailed, ItemRef::Node(node.id), format!("{}: {error}", node.label()))
+}
+
+pub(crate) fn valve_family_unknown(node: &Node, error: &dyn fmt::Display) -> Finding {
+    Finding::error(
+        FindingKind::ValveFamilyUnknown,
+        ItemRef::Node(node.id),
+        format!("{}: valve family: {error} — pick a valve family from the catalog", node.label()),
+    )
+}
+
+pub(crate) fn lockshield_family_unknown(node: &Node, error: &dyn fmt::Display) -> Finding {
+    Finding::error(
+        FindingKind::LockshieldFamilyUnknown,
+        ItemRef::Node(node.id),
+        format!("{}: lockshield family: {error} — pick a lockshield from the catalog", node.label()),
+    )
+}
+
+pub(crate) fn no_emitter() -> Finding {
+    Finding::error(
+        FindingKind::NoEmitter,
+        ItemRef::Project,
+        "no emitter is connected to the heat source — place emitters and draw runs to them",
+    )
+}
+
+// ---------------------------------------------------------------------------
+// Sizing
+// ---------------------------------------------------------------------------
+
+pub(crate) fn pipe_series_unknown(class: PipeClass, error: &dyn fmt::Display) -> Finding {
+    Finding::error(
+        FindingKind::PipeSeriesUnknown,
+        ItemRef::Settings,
+        format!("pipe series for {}: {error}", class.name()),
+    )
+}
+
+pub(crate) fn fixed_size_unknown(run: RunId, label: &str, series: &str) -> Finding {
+    Finding::error(
+        FindingKind::FixedSizeUnknown,
+        ItemRef::Run(run),
+        format!("run {run}: fixed size {label} is not in {series} — pick one of its sizes"),
+    )
+}
+
+/// The text of [`FindingKind::SizeLimitsExceeded`] (cached per run).
+pub(crate) fn size_limits_exceeded_text(
+    run: RunId,
+    largest: &str,
+    series: &str,
+    class: PipeClass,
+    flow_l_h: f64,
+) -> String {
+    format!(
+        "run {run}: even the largest size {largest} of {series} exceeds the {} limits at {flow_l_h:.0} l/h — \
+         choose a series with larger sizes or split the load",
+        class.name(),
+    )
+}
+
+pub(crate) fn size_limits_exceeded(run: RunId, message: Arc<str>) -> Finding {
+    Finding::warning(FindingKind::SizeLimitsExceeded, ItemRef::Run(run), message)
+}
+
+pub(crate) fn pipe_law_invalid(run: RunId, error: &dyn fmt::Display) -> Finding {
+    Finding::error(FindingKind::PipeLawInvalid, ItemRef::Run(run), format!("run {run}: {error}"))
+}
+
+// ---------------------------------------------------------------------------
+// Emitters
+// ---------------------------------------------------------------------------
+
+pub(crate) fn emitter_shortfall(node: &Node, shortfall_w: f64, fraction_delivered: f64) -> Finding {
+    Finding::warning(
+        FindingKind::EmitterShortfall,
+        ItemRef::Node(node.id),
+        format!(
+            "{} falls short by {shortfall_w:.0} W ({:.0} % of the load delivered) at the design temperatures — \
+             a larger emitter or a higher supply temperature is needed",
+            node.label(),
+            fraction_delivered * 100.0
+        ),
+    )
+}
+
+pub(crate) fn floor_surface_limit(node: &Node, surface_c: f64, limit_c: f64) -> Finding {
+    Finding::warning(
+        FindingKind::FloorSurfaceLimit,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: floor surface {surface_c:.1} °C exceeds the EN 1264 limit {limit_c:.0} °C — add area (edge zone, wall \
+             heating) or a supplementary emitter",
+            node.label(),
+        ),
+    )
+}
+
+pub(crate) fn floor_loop_pressure_drop(node: &Node, loop_dp_pa: f64, limit_pa: f64) -> Finding {
+    Finding::warning(
+        FindingKind::FloorLoopPressureDrop,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: loop pressure drop {:.1} kPa exceeds {:.0} kPa (common practice) — split it into two loops",
+            node.label(),
+            loop_dp_pa / 1000.0,
+            limit_pa / 1000.0
+        ),
+    )
+}
+
+pub(crate) fn floor_loop_length(node: &Node, length_m: f64) -> Finding {
+    Finding::warning(
+        FindingKind::FloorLoopLength,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: loop length {length_m:.0} m is long (common practice limit) — split it into two loops",
+            node.label()
+        ),
+    )
+}
+
+pub(crate) fn radiator_beyond_catalog(node: &Node, required_nominal_w: f64) -> Finding {
+    Finding::warning(
+        FindingKind::RadiatorBeyondCatalog,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: needs {required_nominal_w:.0} W nominal, more than the longest radiator of its type and height — choose \
+             a taller or deeper type, or two radiators",
+            node.label(),
+        ),
+    )
+}
+
+// ---------------------------------------------------------------------------
+// Balancing and pump
+// ---------------------------------------------------------------------------
+
+pub(crate) fn no_design_flow() -> Finding {
+    Finding::error(
+        FindingKind::NoDesignFlow,
+        ItemRef::Project,
+        "no emitter has a design flow — give the rooms their loads",
+    )
+}
+
+pub(crate) fn pump_too_weak(source: NodeId, curve_kpa: f64, flow_m3_h: f64, duty_kpa: f64) -> Finding {
+    Finding::warning(
+        FindingKind::PumpTooWeak,
+        ItemRef::Node(source),
+        format!(
+            "pump too weak: its curve gives {curve_kpa:.1} kPa at the design flow {flow_m3_h:.2} m³/h but the index \
+             circuit needs {duty_kpa:.1} kPa with margin — choose a larger pump or reduce the index circuit's pressure \
+             drop"
+        ),
+    )
+}
+
+pub(crate) fn presetting_unknown(node: &Node, label: &str, family: &str) -> Finding {
+    Finding::error(
+        FindingKind::PresettingUnknown,
+        ItemRef::Node(node.id),
+        format!("{}: presetting {label} is not a step of {family} — pick one of its steps", node.label()),
+    )
+}
+
+pub(crate) fn valve_cannot_deliver(node: &Node) -> Finding {
+    Finding::warning(
+        FindingKind::ValveCannotDeliver,
+        ItemRef::Node(node.id),
+        format!("{}: the pump head cannot drive the design flow even with the valve fully open", node.label()),
+    )
+}
+
+/// The text of [`FindingKind::KvAboveLargest`] (cached per emitter).
+pub(crate) fn kv_above_largest_text(
+    node: &Node,
+    kv_needed: f64,
+    family: &str,
+    kv_largest: f64,
+    flow_share: f64,
+) -> String {
+    format!(
+        "{}: needs Kv {kv_needed:.3} but {family} opens only to {kv_largest:.3} — the room gets about {:.0} % of its \
+         flow; choose a valve with a larger Kv or lower the circuit's resistance",
+        node.label(),
+        flow_share * 100.0
+    )
+}
+
+/// The text of [`FindingKind::KvBelowSmallest`] (cached per emitter).
+pub(crate) fn kv_below_smallest_text(node: &Node, kv_needed: f64, kv_smallest: f64, flow_share: f64) -> String {
+    format!(
+        "{}: needs Kv {kv_needed:.3}, below the smallest presetting ({kv_smallest:.3}) — the room gets about {:.0} % \
+         of its flow; throttle with the lockshield or choose a valve with a finer presetting",
+        node.label(),
+        flow_share * 100.0
+    )
+}
+
+pub(crate) fn presetting_failed(node: &Node, error: &dyn fmt::Display) -> Finding {
+    Finding::error(FindingKind::PresettingFailed, ItemRef::Node(node.id), format!("{}: {error}", node.label()))
+}
+
+/// The text of [`FindingKind::LowAuthority`] (cached per emitter).
+pub(crate) fn low_authority_text(node: &Node, authority: f64, limit: f64) -> String {
+    format!(
+        "{}: valve authority {authority:.2} is below {limit:.1} (common practice) — the valve has little control; \
+         reduce the pump head or the circuit's other resistances",
+        node.label(),
+    )
+}
+
+pub(crate) fn source_capacity(source: NodeId, capacity_w: f64, load_w: f64) -> Finding {
+    Finding::warning(
+        FindingKind::SourceCapacity,
+        ItemRef::Node(source),
+        format!(
+            "the source's capacity {:.1} kW is below the total load {:.1} kW — choose a larger source",
+            capacity_w / 1000.0,
+            load_w / 1000.0
+        ),
+    )
+}
+
+pub(crate) fn vessel_not_sized(error: &dyn fmt::Display) -> Finding {
+    Finding::warning(FindingKind::VesselNotSized, ItemRef::Settings, format!("expansion vessel: {error}"))
+}
+
+// ---------------------------------------------------------------------------
+// Operating solve
+// ---------------------------------------------------------------------------
+
+pub(crate) fn network_invalid(error: &dyn fmt::Display) -> Finding {
+    Finding::error(FindingKind::NetworkInvalid, ItemRef::Project, format!("network: {error}"))
+}
+
+pub(crate) fn not_converged(iterations: usize, detail: &str) -> Finding {
+    Finding::error(
+        FindingKind::NotConverged,
+        ItemRef::Project,
+        format!(
+            "the operating solve did not converge in {iterations} iterations{detail} — check for closed valves isolating \
+             emitters, a pump far too weak, or extreme resistances"
+        ),
+    )
+}
+
+pub(crate) fn room_short(id: NodeId, name: &str, flow_share: f64, output_w: f64, load_w: f64) -> Finding {
+    Finding::warning(
+        FindingKind::RoomShort,
+        ItemRef::Node(id),
+        format!(
+            "{name} gets {:.0} % of its design flow and delivers {output_w:.0} W of {load_w:.0} W",
+            flow_share * 100.0
+        ),
+    )
+}
+
+pub(crate) fn pump_on_max_curve(source: NodeId, flow_m3_h: f64, curve_kpa: f64, control_kpa: f64) -> Finding {
+    Finding::warning(
+        FindingKind::PumpOnMaxCurve,
+        ItemRef::Node(source),
+        format!(
+            "the pump cannot hold its set-point: at {flow_m3_h:.2} m³/h its maximum curve gives {curve_kpa:.1} kPa, the \
+             control asks {control_kpa:.1} kPa — it runs on its maximum curve and the flows are those of full speed; \
+             choose a larger pump or lower the set-point"
+        ),
+    )
+}
+
+pub(crate) fn velocity_over_limit(run: RunId, velocity: f64, size: &str, class: PipeClass, limit: f64) -> Finding {
+    Finding::warning(
+        FindingKind::VelocityOverLimit,
+        ItemRef::Run(run),
+        format!(
+            "run {run}: {velocity:.2} m/s in {size} exceeds the {} limit {limit:.2} m/s — use a larger size or clear its \
+             fixed size",
+            class.name(),
+        ),
+    )
 }

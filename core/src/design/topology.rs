@@ -1,9 +1,7 @@
 //! Topology of the drawn layout: the supply tree from the heat source, pipe
 //! classes, reverse-return chains and the findings about connectivity.
 
-use std::collections::BTreeMap;
-
-use super::findings::{Finding, ItemRef};
+use super::findings::{self, Finding};
 use crate::project::{Node, NodeId, NodeKind, PipeClass, Project, ReturnLayout, Run, RunId};
 
 /// Marks "none" in the dense index vectors.
@@ -238,14 +236,8 @@ pub struct Topology {
     pub order: Vec<NodeId>,
     /// Tree runs in the same order as their downstream node in `order`.
     pub runs: Vec<TreeRun>,
-    /// The run feeding each reachable node (not the source).
-    pub parent_run: BTreeMap<NodeId, RunId>,
-    /// Children of each node: (run, child node), sorted by run id.
-    pub children: BTreeMap<NodeId, Vec<(RunId, NodeId)>>,
     /// Reachable emitters, in depth-first supply order.
     pub emitters: Vec<NodeId>,
-    /// Pipe class of each tree run.
-    pub class: BTreeMap<RunId, PipeClass>,
     /// Reverse-return chains.
     pub reverse_chains: Vec<ReverseChain>,
     /// Runs left out because they close a loop.
@@ -301,19 +293,36 @@ impl Topology {
         self.run_pos.get(self.rix(run)).copied().filter(|&i| i != NONE)
     }
 
-    /// The run feeding node `n` (as `parent_run`).
-    pub(crate) fn parent_run_of(&self, n: NodeId) -> Option<RunId> {
+    /// The run feeding node `n` (`None` for the source and nodes outside
+    /// the tree).
+    #[must_use]
+    pub fn parent_run_of(&self, n: NodeId) -> Option<RunId> {
         self.parent_pos.get(self.nix(n)).and_then(|&i| self.runs.get(i)).map(|t| t.run)
     }
 
-    /// The tree runs leaving node `n`, sorted by run id (as `children`).
-    pub(crate) fn children_of(&self, n: NodeId) -> &[TreeRun] {
+    /// The tree runs leaving node `n`, sorted by run id.
+    #[must_use]
+    pub fn children_of(&self, n: NodeId) -> &[TreeRun] {
         self.child_range.get(self.nix(n)).and_then(|&(a, b)| self.runs.get(a..b)).unwrap_or(&[])
     }
 
-    /// Pipe class of tree run `run` (as `class`).
-    pub(crate) fn class_of(&self, run: RunId) -> Option<PipeClass> {
+    /// Pipe class of tree run `run`.
+    #[must_use]
+    pub fn class_of(&self, run: RunId) -> Option<PipeClass> {
         self.run_pos.get(self.rix(run)).and_then(|&i| self.class_pos.get(i)).copied()
+    }
+
+    /// Node `root` and every node downstream of it in the supply tree,
+    /// breadth first.
+    #[must_use]
+    pub fn subtree(&self, root: NodeId) -> Vec<NodeId> {
+        let mut out = vec![root];
+        let mut i = 0;
+        while i < out.len() {
+            out.extend(self.children_of(out[i]).iter().map(|tr| tr.down));
+            i += 1;
+        }
+        out
     }
 }
 
@@ -321,30 +330,22 @@ impl Topology {
 /// reverse-return chains; every problem becomes a finding naming the items.
 #[must_use]
 pub fn analyse(p: &Project) -> (Topology, Vec<Finding>) {
-    analyse_dense(p, &Dense::new(p), true)
+    analyse_dense(p, &Dense::new(p))
 }
 
-/// [`analyse`] on an index of the project already built. Without
-/// `public_maps` the ordered maps `parent_run`, `children` and `class` stay
-/// empty (the derivation uses the dense accessors).
+/// [`analyse`] on an index of the project already built.
 #[allow(clippy::too_many_lines)] // reason: one pass with its findings reads best together
-pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>, public_maps: bool) -> (Topology, Vec<Finding>) {
+pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>) -> (Topology, Vec<Finding>) {
     let mut t = Topology::default();
     let mut findings = Vec::new();
     let sources = p.sources();
     let Some(&source) = sources.first() else {
-        findings.push(Finding::error(
-            ItemRef::Project,
-            "the project has no heat source — place one with the Source tool and draw a run from it",
-        ));
+        findings.push(findings::no_source());
         return (t, findings);
     };
     t.source = Some(source);
     if d.runs_at(source).is_empty() {
-        findings.push(Finding::error(
-            ItemRef::Node(source),
-            "the heat source has no run — draw a run from it to a junction, header or emitter",
-        ));
+        findings.push(findings::source_unconnected(source));
     }
     t.node_map = d.node_map.clone();
     t.run_map = d.run_map.clone();
@@ -403,31 +404,12 @@ pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>, public_maps: bool) -> (T
             *x = (first_child, t.runs.len());
         }
     }
-    // Ordered maps for callers outside the derivation (built from sorted
-    // input in one pass).
-    if public_maps {
-        let mut parents: Vec<(NodeId, RunId)> = t.runs.iter().map(|tr| (tr.down, tr.run)).collect();
-        parents.sort_unstable();
-        t.parent_run = parents.into_iter().collect();
-        let mut with_children: Vec<NodeId> =
-            t.order.iter().copied().filter(|&n| !t.children_of(n).is_empty()).collect();
-        with_children.sort_unstable();
-        t.children =
-            with_children.iter().map(|&n| (n, t.children_of(n).iter().map(|tr| (tr.run, tr.down)).collect())).collect();
-    }
     if !t.loop_runs.is_empty() {
         t.loop_runs.sort_unstable();
         let names: Vec<String> = t.loop_runs.iter().map(ToString::to_string).collect();
+        let names = names.join(", ");
         for &r in &t.loop_runs {
-            findings.push(Finding::error(
-                ItemRef::Run(r),
-                format!(
-                    "run {r} closes a loop in the drawn network (loop-closing runs: {}) — a two-pipe layout is \
-                     drawn as a tree from the source; delete the run or one of the loop's runs. Emitters in \
-                     series on one pipe (a one-pipe loop) are outside flowrise's scope",
-                    names.join(", ")
-                ),
-            ));
+            findings.push(findings::loop_closed(r, &names));
         }
     }
 
@@ -437,25 +419,15 @@ pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>, public_maps: bool) -> (T
             continue;
         }
         match &n.kind {
-            NodeKind::Emitter(_) => findings.push(Finding::error(
-                ItemRef::Node(n.id),
-                format!(
-                    "{} is not connected to the heat source — draw a run from it to a junction or header of the network",
-                    n.label()
-                ),
-            )),
-            _ => findings.push(Finding::warning(
-                ItemRef::Node(n.id),
-                format!("{} is not connected to the heat source — connect it or delete it", n.label()),
-            )),
+            NodeKind::Emitter(_) => findings.push(findings::emitter_unreachable(n)),
+            NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_) => {
+                findings.push(findings::node_unreachable(n));
+            }
         }
     }
     for r in p.runs() {
         if !is(&used_runs, t.rix(r.id)) {
-            findings.push(Finding::warning(
-                ItemRef::Run(r.id),
-                format!("run {} is not connected to the heat source — connect it or delete it", r.id),
-            ));
+            findings.push(findings::run_unreachable(r.id));
         }
     }
 
@@ -475,22 +447,12 @@ pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>, public_maps: bool) -> (T
         let Some(node) = d.node(n) else { continue };
         let outlets = t.children_of(n).len();
         if matches!(node.kind, NodeKind::Junction | NodeKind::Header(_)) && outlets == 0 {
-            findings.push(Finding::warning(
-                ItemRef::Node(n),
-                format!("{} is a dead end: no emitter downstream, so it carries no flow", node.label()),
-            ));
+            findings.push(findings::dead_end(node));
         }
         if let NodeKind::Header(h) = &node.kind
             && outlets > h.outlets as usize
         {
-            findings.push(Finding::warning(
-                ItemRef::Node(n),
-                format!(
-                    "{} has {outlets} outlet runs but {} outlets — raise its outlet count",
-                    node.label(),
-                    h.outlets
-                ),
-            ));
+            findings.push(findings::header_outlets_exceeded(node, outlets, h.outlets));
         }
     }
 
@@ -519,18 +481,6 @@ pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>, public_maps: bool) -> (T
         };
         t.class_pos.push(run.props.class.unwrap_or(auto));
     }
-    if public_maps {
-        let mut classes: Vec<(RunId, PipeClass)> = t
-            .runs
-            .iter()
-            .zip(&t.class_pos)
-            .filter(|(tr, _)| d.run(tr.run).is_some())
-            .map(|(tr, &c)| (tr.run, c))
-            .collect();
-        classes.sort_unstable_by_key(|x| x.0);
-        t.class = classes.into_iter().collect();
-    }
-
     // Effective return layout per run (inherited down the tree) and the
     // reverse-return chains.
     let mut layout: Vec<ReturnLayout> = Vec::with_capacity(t.runs.len());
@@ -573,14 +523,8 @@ pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>, public_maps: bool) -> (T
                 }
                 _ => {
                     forked = true;
-                    findings.push(Finding::warning(
-                        ItemRef::Node(at),
-                        format!(
-                            "reverse return needs one trunk, but the branch forks at {} — this branch is derived \
-                             as direct return; give the forks their own reverse-return start or use direct return",
-                            d.node(at).map_or_else(|| at.to_string(), crate::project::Node::label)
-                        ),
-                    ));
+                    let label = d.node(at).map_or_else(|| at.to_string(), crate::project::Node::label);
+                    findings.push(findings::reverse_return_fork(at, &label));
                     break;
                 }
             }

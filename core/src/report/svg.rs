@@ -554,9 +554,7 @@ fn downstream_emitters(p: &Project, topo: &Topology, node: NodeId) -> Vec<NodeId
         if matches!(p.node(n).map(|x| &x.kind), Some(NodeKind::Emitter(_))) {
             out.push(n);
         }
-        if let Some(ch) = topo.children.get(&n) {
-            stack.extend(ch.iter().map(|&(_, c)| c));
-        }
+        stack.extend(topo.children_of(n).iter().map(|tr| tr.down));
     }
     out
 }

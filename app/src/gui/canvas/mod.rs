@@ -181,7 +181,7 @@ pub fn show(
         }
     }
 
-    handle_drag(ui, &resp, project, state, out);
+    handle_drag(ui, &resp, project, sol, state, out);
     handle_clicks(&resp, project, state, out);
 
     // Draw.
@@ -227,7 +227,14 @@ pub fn show(
     }
 }
 
-fn handle_drag(ui: &Ui, resp: &egui::Response, project: &Project, state: &mut CanvasState, out: &mut Intents) {
+fn handle_drag(
+    ui: &Ui,
+    resp: &egui::Response,
+    project: &Project,
+    sol: &Solution,
+    state: &mut CanvasState,
+    out: &mut Intents,
+) {
     if resp.drag_started() {
         let origin = ui.input(|i| i.pointer.press_origin()).or(resp.interact_pointer_pos()).unwrap_or(Pos2::ZERO);
         let shift = ui.input(|i| i.modifiers.shift);
@@ -235,7 +242,7 @@ fn handle_drag(ui: &Ui, resp: &egui::Response, project: &Project, state: &mut Ca
             if state.tool == Tool::Select { hit::hit_node(project, state.level, &state.view, origin) } else { None };
         state.drag = Some(match grabbed.and_then(|id| project.node(id)) {
             Some(node) => {
-                let ids = if shift { tools::branch_of(project, node.id) } else { vec![node.id] };
+                let ids = if shift { tools::branch_of(sol, node.id) } else { vec![node.id] };
                 out.select = Some(Selection::Node(node.id));
                 out.drag_begin = true;
                 Drag::Move {

@@ -2,7 +2,7 @@
 //! never change the project; they emit [`Edit`] values into the frame's
 //! [`Intents`], which the app applies after drawing.
 
-use flowrise_core::design::topology;
+use flowrise_core::design::Solution;
 use flowrise_core::emitters::{EmitterModel, RadiatorSizing, RadiatorSpec};
 use flowrise_core::project::{
     Edit, Emitter, EmitterValves, Header, HeatSource, LevelId, NodeId, NodeKind, PlanPoint, Project, PumpSpec,
@@ -154,19 +154,11 @@ pub fn level_above(project: &Project, level: LevelId) -> Option<LevelId> {
         .map(|l| l.id)
 }
 
-/// A node and everything downstream of it in the supply tree.
+/// A node and everything downstream of it in the supply tree, from the
+/// topology of the latest solve.
 #[must_use]
-pub fn branch_of(project: &Project, root: NodeId) -> Vec<NodeId> {
-    let (topo, _) = topology::analyse(project);
-    let mut out = vec![root];
-    let mut i = 0;
-    while i < out.len() {
-        if let Some(children) = topo.children.get(&out[i]) {
-            out.extend(children.iter().map(|&(_, c)| c));
-        }
-        i += 1;
-    }
-    out
+pub fn branch_of(sol: &Solution, root: NodeId) -> Vec<NodeId> {
+    sol.topology.subtree(root)
 }
 
 /// What one click means. `at` is the snapped plan point, `hit` what lies

@@ -1,0 +1,103 @@
+//! Freezing a solved design into the project (installed mode) and
+//! thawing it back (design follows layout). Both are [`Edit`]s, so one
+//! switch is one undo step.
+
+use crate::emitters::{EmitterDetail, EmitterModel, RadiatorSizing};
+use crate::project::{DesignSettings, Edit, Mode, NodeKind, Project, RunProps};
+use crate::pump::PumpControl;
+
+use super::results::{Side, Solution};
+
+/// The edit that freezes a solved design into the project and switches to
+/// installed mode: every run gets its supply pipe's size as a fixed size,
+/// every emitter its presetting, every radiator to size its chosen size
+/// ([`RadiatorSizing::Chosen`], which keeps its design
+/// flow), a controlled pump its duty head as set-point.
+#[must_use]
+pub fn freeze_edit(p: &Project, sol: &Solution) -> Edit {
+    let mut edits = Vec::new();
+    for run in p.runs() {
+        if let Some(pr) = sol.run_pipes(run.id).find(|x| x.side == Side::Supply) {
+            let ret = sol.run_pipes(run.id).find(|x| x.side == Side::Return).map(|x| x.size.to_owned());
+            let fixed_return_size = ret.filter(|r| *r != pr.size);
+            let props = RunProps { fixed_size: Some(pr.size.to_owned()), fixed_return_size, ..run.props.clone() };
+            if props != run.props {
+                edits.push(Edit::SetRunProps { id: run.id, props });
+            }
+        }
+    }
+    for e in &sol.emitters {
+        let Some(node) = p.node(e.id) else { continue };
+        let NodeKind::Emitter(em) = &node.kind else { continue };
+        let mut frozen = em.clone();
+        if !(e.presetting == "—" || e.presetting.is_empty()) {
+            frozen.valves.presetting = Some(e.presetting.clone());
+        }
+        if let (EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(d))) = (&mut frozen.model, &e.detail)
+            && spec.sizing == RadiatorSizing::ToSize
+        {
+            spec.sizing = d.frozen_sizing();
+        }
+        if frozen != *em {
+            edits.push(Edit::SetNodeKind { id: e.id, kind: NodeKind::Emitter(frozen) });
+        }
+    }
+    if let (Some(pump), Some(src)) = (&sol.pump, p.sources().first().and_then(|&s| p.node(s)))
+        && let NodeKind::Source(source) = &src.kind
+    {
+        let mut source = source.clone();
+        source.pump.design_flow_m3_h = Some(pump.design_flow_m3_h);
+        source.pump.control = match source.pump.control {
+            PumpControl::ConstantDp { .. } => PumpControl::ConstantDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
+            PumpControl::ProportionalDp { .. } => {
+                PumpControl::ProportionalDp { setpoint_kpa: pump.duty_head_pa / 1000.0 }
+            }
+            PumpControl::FixedSpeed => PumpControl::FixedSpeed,
+        };
+        edits.push(Edit::SetNodeKind { id: src.id, kind: NodeKind::Source(source) });
+    }
+    let settings = DesignSettings { mode: Mode::Installed, ..p.settings.clone() };
+    edits.push(Edit::SetSettings(Box::new(settings)));
+    Edit::Batch(edits)
+}
+
+/// The edit that switches back to *design follows layout*: every fixed pipe
+/// size, every presetting and every radiator size frozen by
+/// [`freeze_edit`] is released so the design re-chooses them on each edit
+/// (undo brings a released value back), and a proportional pump's stored
+/// design flow is cleared.
+#[must_use]
+pub fn thaw_edit(p: &Project) -> Edit {
+    let mut edits = Vec::new();
+    for run in p.runs() {
+        if run.props.fixed_size.is_some() || run.props.fixed_return_size.is_some() {
+            let props = RunProps { fixed_size: None, fixed_return_size: None, ..run.props.clone() };
+            edits.push(Edit::SetRunProps { id: run.id, props });
+        }
+    }
+    for node in p.nodes() {
+        match &node.kind {
+            NodeKind::Emitter(em) => {
+                let mut thawed = em.clone();
+                thawed.valves.presetting = None;
+                if let EmitterModel::Radiator(spec) = &mut thawed.model
+                    && matches!(spec.sizing, RadiatorSizing::Chosen { .. })
+                {
+                    spec.sizing = RadiatorSizing::ToSize;
+                }
+                if thawed != *em {
+                    edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Emitter(thawed) });
+                }
+            }
+            NodeKind::Source(src) if src.pump.design_flow_m3_h.is_some() => {
+                let mut src = src.clone();
+                src.pump.design_flow_m3_h = None;
+                edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Source(src) });
+            }
+            NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_) => {}
+        }
+    }
+    let settings = DesignSettings { mode: Mode::DesignFollowsLayout, ..p.settings.clone() };
+    edits.push(Edit::SetSettings(Box::new(settings)));
+    Edit::Batch(edits)
+}

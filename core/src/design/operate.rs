@@ -1,0 +1,187 @@
+//! Stage 4, **operate**: the Global Gradient solve of the derived network
+//! with sizes, presettings and the pump law fixed ([`crate::network::solver`]),
+//! then the results at the real flows: pipe flows, velocities, gradients
+//! and pressure drops, each emitter's output and return temperature, the
+//! pump's operating point, and the findings only the real flows show.
+//!
+//! The [`Workspace`] keeps the solver's symbolic factorisation and the last
+//! flows: an edit that keeps the topology re-solves from a warm start.
+
+use super::findings;
+use super::results::{LinkRole, Side, Solution};
+use super::state::Derivation;
+use super::{SolveOptions, Workspace};
+use crate::friction::{friction_gradient_pa_m, pipe_dp};
+use crate::network::solver::{self, SolverWorkspace};
+use crate::network::{HydLink, HydraulicNetwork, LinkLaw};
+use crate::project::{Mode, NodeId, Project};
+use crate::pump::PumpControl;
+use crate::water;
+
+impl Derivation<'_> {
+    /// Matched physics ([`SolveOptions::matched_physics`]): one density and
+    /// viscosity (water at the mean design temperature) and EPANET's friction
+    /// law on every link of the derived network.
+    pub(super) fn match_physics(&mut self, p: &Project) {
+        let mean_c = 0.5 * (p.settings.supply_c + p.settings.return_c);
+        let Ok(w) = water::properties(mean_c) else { return };
+        for k in &mut self.net.links {
+            k.density_kg_m3 = w.density_kg_m3;
+            if let LinkLaw::Pipe(h) = &mut k.law {
+                h.density_kg_m3 = w.density_kg_m3;
+                h.viscosity_pa_s = w.viscosity_pa_s;
+                h.friction_law = crate::friction::FrictionLaw::SwameeJainEpanet;
+            }
+        }
+    }
+
+    /// The operate stage (see the module docs).
+    pub(super) fn operate(&mut self, p: &Project, opts: &SolveOptions, ws: &mut Workspace, sol: &mut Solution) {
+        if sol.pump.is_none() || sol.emitters.is_empty() {
+            return;
+        }
+        let same_topology = ws.last_roles == self.roles && ws.last_flows.len() == self.net.links.len();
+        if !same_topology {
+            ws.solver = None;
+        }
+        let solver_ws = match ws.solver.take() {
+            Some(w) => Ok(w),
+            None => SolverWorkspace::new(&self.net),
+        };
+        let mut solver_ws = match solver_ws {
+            Ok(w) => w,
+            Err(e) => {
+                self.findings.push(findings::network_invalid(&e));
+                return;
+            }
+        };
+        let initial: &[f64] = if same_topology { &ws.last_flows } else { &self.design_flows };
+        let report = solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(initial));
+        let report = match report {
+            Ok(r) => {
+                sol.timings.solver_ms = r.timings.total_us / 1000.0;
+                r
+            }
+            Err(e) => {
+                ws.solver = Some(solver_ws);
+                self.findings.push(findings::network_invalid(&e));
+                return;
+            }
+        };
+        sol.iterations = report.iterations;
+        sol.converged = report.converged;
+        if !report.converged {
+            let detail = report.diagnostic.as_ref().map_or_else(String::new, |d| {
+                let links: Vec<String> = d
+                    .suspect_links
+                    .iter()
+                    .take(5)
+                    .map(|s| self.roles.get(s.link).map_or_else(|| format!("link {}", s.link), LinkRole::describe))
+                    .collect();
+                format!(" (last flow change {:.2e}; links that oscillate: {})", d.last_flow_change, links.join(", "))
+            });
+            self.findings.push(findings::not_converged(report.iterations, &detail));
+        }
+        let finite = report.flows_kg_s.iter().all(|f| f.is_finite());
+        let flows = if finite { report.flows_kg_s } else { self.design_flows.clone() };
+        if !same_topology {
+            ws.last_roles.clone_from(&self.roles);
+        }
+        ws.last_flows.clone_from(&flows);
+        sol.node_pressures_pa = report.pressures_pa;
+        // The solver's last evaluation of the link laws is at these flows.
+        fill_pipe_flows(sol, &self.net, &flows, finite.then(|| solver_ws.link_drops_pa()));
+        ws.solver = Some(solver_ws);
+        self.pipes_filled = true;
+        sol.link_flows_kg_s = flows;
+        let flows = &sol.link_flows_kg_s;
+
+        // Emitter outputs at the real flows.
+        let Some(sp) = self.supply_props else { return };
+        // In id order (the order of `sol.emitters` and of the caches).
+        let node_count = p.node_count();
+        for (r, &i) in sol.emitters.iter_mut().zip(&self.result_emitter) {
+            let Some(e) = self.emitters.get(i) else { continue };
+            let m = flows[e.valves_link].max(0.0);
+            r.flow_kg_s = m;
+            r.flow_l_h = m / sp.density_kg_m3 * 3.6e6;
+            r.flow_deviation = if r.design_flow_kg_s > 0.0 { m / r.design_flow_kg_s - 1.0 } else { 0.0 };
+            if let Some(d) = &e.design
+                && let Ok(out) = ws.emitters.output_at_flow(e.id, node_count, &d.installed, m, r.supply_c, r.room_c)
+            {
+                r.output_w = out.output_w;
+                r.return_c = out.return_c;
+            }
+            if p.settings.mode == Mode::Installed && !r.closed && r.load_w > 0.0 && r.output_w < 0.95 * r.load_w {
+                self.findings.push(findings::room_short(e.id, &r.name, 1.0 + r.flow_deviation, r.output_w, r.load_w));
+            }
+        }
+        // Pump operating point.
+        if let (Some(pump), Some(rp)) = (sol.pump.as_mut(), self.return_props) {
+            let m = flows[self.pump_link];
+            let (rise, control_rise) = match &self.net.links[self.pump_link].law {
+                LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
+                    let law = [*a0_pa, *a1_pa_s_kg, *a2_pa_s2_kg2];
+                    let rise = solver::pump_rise_and_slope(law, *max_curve_pa, m).0;
+                    (rise, solver::pump_rise_and_slope(law, None, m).0)
+                }
+                LinkLaw::Pipe(_) | LinkLaw::Quadratic { .. } => (0.0, 0.0),
+            };
+            pump.operating_flow_m3_h = m / rp.density_kg_m3 * 3600.0;
+            pump.operating_head_pa = rise;
+            pump.hydraulic_power_w =
+                crate::pump::hydraulic_power_w(pump.operating_flow_m3_h.max(0.0), (rise / 1000.0).max(0.0))
+                    .unwrap_or(0.0);
+            // A controlled pump whose set-point its curve cannot give runs
+            // on the curve, below the set-point.
+            pump.on_max_curve = !matches!(pump.control, PumpControl::FixedSpeed) && rise < control_rise * (1.0 - 1e-6);
+            if pump.on_max_curve {
+                let source = self.source.unwrap_or(NodeId(0));
+                self.findings.push(findings::pump_on_max_curve(
+                    source,
+                    pump.operating_flow_m3_h,
+                    rise / 1000.0,
+                    control_rise / 1000.0,
+                ));
+            }
+        }
+        // Velocity over limit on the real flows.
+        for pr in &sol.pipes {
+            if pr.side == Side::Supply && pr.velocity_m_s > pr.velocity_limit_m_s * 1.0001 {
+                self.findings.push(findings::velocity_over_limit(
+                    pr.run,
+                    pr.velocity_m_s,
+                    pr.size,
+                    pr.class,
+                    pr.velocity_limit_m_s,
+                ));
+            }
+        }
+    }
+}
+
+/// Fill the flow-dependent pipe results from link flows. `drops_pa`, when
+/// given, are the link laws already evaluated at `flows` (the solver's last
+/// evaluation): the pipe's Δp is taken from there and its friction gradient
+/// follows by removing the local losses, without evaluating the friction
+/// factor again.
+pub(super) fn fill_pipe_flows(sol: &mut Solution, net: &HydraulicNetwork, flows: &[f64], drops_pa: Option<&[f64]>) {
+    for pr in &mut sol.pipes {
+        let m = flows.get(pr.link).copied().unwrap_or(0.0);
+        pr.flow_kg_s = m;
+        if let Some(HydLink { law: LinkLaw::Pipe(h), .. }) = net.links.get(pr.link) {
+            pr.flow_l_h = m.abs() / h.density_kg_m3 * 3.6e6;
+            pr.velocity_m_s = h.velocity_m_s(m).abs();
+            if let Some(&dp) = drops_pa.and_then(|d| d.get(pr.link)) {
+                // Δp = (f·L/D + Σζ)·ρv²/2: the friction part per metre.
+                let area = h.flow_area_m2();
+                let local = h.zeta_sum * m * m / (2.0 * h.density_kg_m3 * area * area);
+                pr.gradient_pa_m = (dp.abs() - local).max(0.0) / h.length_m;
+                pr.dp_pa = dp;
+            } else {
+                pr.gradient_pa_m = friction_gradient_pa_m(h, m.abs());
+                pr.dp_pa = pipe_dp(h, m).0;
+            }
+        }
+    }
+}

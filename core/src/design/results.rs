@@ -1,0 +1,277 @@
+//! What a solve produces: per pipe, per emitter, the pump, totals, the
+//! derived network with its flows and pressures, the layout's topology and
+//! the findings. Everything downstream (the window, the parts list, the
+//! report, the exports) reads these; none of it derives facts again.
+
+use crate::emitters::EmitterDetail;
+use crate::network::HydraulicNetwork;
+use crate::project::{NodeId, PipeClass, RunId};
+use crate::pump::{PumpControl, PumpCurve};
+use crate::vessel;
+
+use super::findings::{Finding, Severity};
+use super::topology::Topology;
+
+/// Supply or return side of a drawn run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Side {
+    /// Supply (flow) pipe.
+    Supply,
+    /// Return pipe.
+    Return,
+}
+
+/// What a link of the derived network stands for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LinkRole {
+    /// A pipe of a drawn run.
+    Pipe {
+        /// The run.
+        run: RunId,
+        /// Supply or return.
+        side: Side,
+    },
+    /// An emitter's valve + lockshield.
+    EmitterValves(NodeId),
+    /// An emitter's body (radiator, floor loop, terminal coil).
+    EmitterBody(NodeId),
+    /// The heat source's water path.
+    Source(NodeId),
+    /// The circulation pump.
+    Pump(NodeId),
+}
+
+impl LinkRole {
+    /// Words for the link, for messages and exports ("run R3 supply",
+    /// "valves of N7").
+    #[must_use]
+    pub fn describe(&self) -> String {
+        match self {
+            Self::Pipe { run, side: Side::Supply } => format!("run {run} supply"),
+            Self::Pipe { run, side: Side::Return } => format!("run {run} return"),
+            Self::EmitterValves(n) => format!("valves of {n}"),
+            Self::EmitterBody(n) => format!("emitter {n}"),
+            Self::Source(n) => format!("heat source {n}"),
+            Self::Pump(n) => format!("pump of {n}"),
+        }
+    }
+}
+
+/// Results of one pipe (one side of one run).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PipeResult {
+    /// Run.
+    pub run: RunId,
+    /// Side.
+    pub side: Side,
+    /// Pipe class.
+    #[serde(skip)]
+    pub class: PipeClass,
+    /// Length, m.
+    pub length_m: f64,
+    /// Series id (borrowed from the pipe catalogue: no copy per pipe).
+    pub series: &'static str,
+    /// Size label (borrowed from the pipe catalogue).
+    pub size: &'static str,
+    /// Inner diameter, mm.
+    pub inner_mm: f64,
+    /// Sum of local loss coefficients.
+    pub zeta: f64,
+    /// Water temperature, °C.
+    pub temperature_c: f64,
+    /// Design mass flow, kg/s.
+    pub design_flow_kg_s: f64,
+    /// Operating mass flow, kg/s (= design when no operating solve ran).
+    pub flow_kg_s: f64,
+    /// Operating volume flow, l/h.
+    pub flow_l_h: f64,
+    /// Operating velocity, m/s.
+    pub velocity_m_s: f64,
+    /// Velocity limit of its class, m/s.
+    pub velocity_limit_m_s: f64,
+    /// Friction pressure gradient at operating flow, Pa/m.
+    pub gradient_pa_m: f64,
+    /// Total pressure drop (friction + local) at operating flow, Pa.
+    pub dp_pa: f64,
+    /// Index of the link in the derived network.
+    #[serde(skip)]
+    pub link: usize,
+    /// The layout nodes the pipe joins, upstream end first on the supply
+    /// side (a reverse-return home pipe: from the chain's last node back to
+    /// its start; the other returns of a chain: from one chain node to the
+    /// next, in supply order).
+    #[serde(skip)]
+    pub ends: [NodeId; 2],
+    /// 90° bends along the pipe as the design counts them: turns of 60° or
+    /// more in the drawn polyline ([`super::BEND_90_MIN_DEG`]), plus
+    /// [`super::RISER_BENDS_PER_VERTICAL_RUN`] on a vertical run (riser foot
+    /// and head). A home pipe follows its whole chain.
+    #[serde(skip)]
+    pub bends_90: u32,
+    /// 45° bends along the pipe: turns of 20°–60° in the drawn polyline.
+    #[serde(skip)]
+    pub bends_45: u32,
+}
+
+/// Results of one emitter and its circuit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EmitterResult {
+    /// Node id.
+    pub id: NodeId,
+    /// Name.
+    pub name: String,
+    /// Level name.
+    pub level: String,
+    /// Design load, W.
+    pub load_w: f64,
+    /// Room temperature, °C.
+    pub room_c: f64,
+    /// Supply temperature, °C.
+    pub supply_c: f64,
+    /// Design return temperature, °C.
+    pub design_return_c: f64,
+    /// Design mass flow, kg/s.
+    pub design_flow_kg_s: f64,
+    /// Design volume flow at the supply temperature, l/h.
+    pub design_flow_l_h: f64,
+    /// Design output, W (less than the load when short).
+    pub design_output_w: f64,
+    /// The emitter's design detail (radiator size, floor loop data).
+    pub detail: Option<EmitterDetail>,
+    /// Circuit Δp with the valve fully open (source → emitter → source), Pa.
+    pub circuit_dp_open_pa: f64,
+    /// Circuit Δp without the valve (the rest of the circuit), Pa.
+    pub circuit_rest_pa: f64,
+    /// Δp the valve absorbs at design flow, Pa.
+    pub valve_dp_pa: f64,
+    /// Kv needed, m³/h.
+    pub kv_needed_m3_h: f64,
+    /// Presetting label.
+    pub presetting: String,
+    /// Kv at the presetting, m³/h.
+    pub valve_kv_m3_h: f64,
+    /// Valve authority.
+    pub authority: f64,
+    /// Flow error expected from the presetting step, fraction.
+    pub presetting_flow_error: f64,
+    /// Operating mass flow, kg/s.
+    pub flow_kg_s: f64,
+    /// Operating volume flow at the supply temperature, l/h.
+    pub flow_l_h: f64,
+    /// Operating return temperature, °C.
+    pub return_c: f64,
+    /// Operating output, W.
+    pub output_w: f64,
+    /// Operating flow / design flow − 1.
+    pub flow_deviation: f64,
+    /// Valve closed in this scenario.
+    pub closed: bool,
+}
+
+/// Pump duty and operating point.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PumpResult {
+    /// Design mass flow, kg/s.
+    pub design_flow_kg_s: f64,
+    /// Design flow at the pump (return temperature), m³/h.
+    pub design_flow_m3_h: f64,
+    /// Index-circuit Δp incl. the index valve's minimum, Pa.
+    pub index_dp_pa: f64,
+    /// Duty head with margin, Pa.
+    pub duty_head_pa: f64,
+    /// Head the pump gives at design flow under its control, Pa (what the
+    /// presettings balance against).
+    pub available_pa: f64,
+    /// Control mode used.
+    #[serde(skip)]
+    pub control: PumpControl,
+    /// The pump curve.
+    #[serde(skip)]
+    pub curve: Option<PumpCurve>,
+    /// Operating flow, m³/h.
+    pub operating_flow_m3_h: f64,
+    /// Operating head, Pa.
+    pub operating_head_pa: f64,
+    /// Hydraulic power at the operating point, W.
+    pub hydraulic_power_w: f64,
+    /// A controlled pump runs on its maximum curve at the operating point,
+    /// below its set-point (never true at fixed speed).
+    pub on_max_curve: bool,
+}
+
+/// Timing of the stages, ms.
+#[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
+pub struct StageTimings {
+    /// Topology + network derivation.
+    pub derive_ms: f64,
+    /// Design pass.
+    pub design_ms: f64,
+    /// Operating solve (the hydraulic solve and the results at the real
+    /// flows: emitter outputs, pipe velocities and gradients, findings).
+    pub operate_ms: f64,
+    /// The hydraulic solve alone, part of `operate_ms` (what a
+    /// general-purpose network solver does: flows and pressures).
+    pub solver_ms: f64,
+}
+
+/// Everything a solve produces.
+#[derive(Debug, Clone, Default)]
+pub struct Solution {
+    /// Project revision the results belong to.
+    pub revision: u64,
+    /// Pipes (both sides of every run), sorted by run then side.
+    pub pipes: Vec<PipeResult>,
+    /// Emitters in id order.
+    pub emitters: Vec<EmitterResult>,
+    /// Pump duty.
+    pub pump: Option<PumpResult>,
+    /// Index emitter.
+    pub index_emitter: Option<NodeId>,
+    /// Total heat load, W.
+    pub heat_load_w: f64,
+    /// System water volume, l.
+    pub water_volume_l: f64,
+    /// Expansion vessel.
+    pub vessel: Option<vessel::VesselSizing>,
+    /// Findings, errors first.
+    pub findings: Vec<Finding>,
+    /// Newton iterations of the operating solve.
+    pub iterations: usize,
+    /// Operating solve converged.
+    pub converged: bool,
+    /// Stage timings.
+    pub timings: StageTimings,
+    /// The derived network.
+    pub network: HydraulicNetwork,
+    /// Role of each link of the network.
+    pub roles: Vec<LinkRole>,
+    /// Operating mass flow of each link, kg/s.
+    pub link_flows_kg_s: Vec<f64>,
+    /// Node pressures of the operating solve, Pa (gauge).
+    pub node_pressures_pa: Vec<f64>,
+    /// Links of the index circuit in flow order (pump outlet → pump inlet).
+    pub index_path: Vec<usize>,
+    /// The layout's supply tree: run orientation, classes, reverse-return
+    /// chains (what the derivation worked from).
+    pub topology: Topology,
+}
+
+impl Solution {
+    /// True when there is an error finding (the design is incomplete).
+    #[must_use]
+    pub fn has_errors(&self) -> bool {
+        self.findings.iter().any(|f| f.severity == Severity::Error)
+    }
+
+    /// Results of emitter `id`.
+    #[must_use]
+    pub fn emitter(&self, id: NodeId) -> Option<&EmitterResult> {
+        self.emitters.iter().find(|e| e.id == id)
+    }
+
+    /// Results of both sides of run `run`.
+    pub fn run_pipes(&self, run: RunId) -> impl Iterator<Item = &PipeResult> + '_ {
+        self.pipes.iter().filter(move |p| p.run == run)
+    }
+}
