@@ -66,7 +66,7 @@
 
 use std::fmt::Write as _;
 
-use crate::design::{LinkRole, Side, Solution};
+use crate::design::{LinkRole, Solution};
 use crate::error::{PhysicsError, PhysicsResult, check};
 use crate::network::{HydraulicNetwork, LinkLaw};
 
@@ -172,15 +172,7 @@ pub fn link_id(k: usize) -> String {
 /// Words for a link role (comment in the file, `role` in the flows JSON).
 #[must_use]
 pub fn role_text(role: Option<&LinkRole>) -> String {
-    match role {
-        Some(LinkRole::Pipe { run, side: Side::Supply }) => format!("run {run} supply"),
-        Some(LinkRole::Pipe { run, side: Side::Return }) => format!("run {run} return"),
-        Some(LinkRole::EmitterValves(n)) => format!("valves of {n}"),
-        Some(LinkRole::EmitterBody(n)) => format!("emitter {n}"),
-        Some(LinkRole::Source(n)) => format!("heat source {n}"),
-        Some(LinkRole::Pump(n)) => format!("pump of {n}"),
-        None => "link".to_owned(),
-    }
+    role.map_or_else(|| "link".to_owned(), LinkRole::describe)
 }
 
 /// A pump link and its law: (link, a0 Pa, a1 Pa·s/kg, a2 Pa·s²/kg², the

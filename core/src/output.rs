@@ -162,6 +162,7 @@ fn pipe_json(x: &PipeResult) -> Value {
 fn finding_json(f: &Finding) -> Value {
     json!({
         "severity": match f.severity { Severity::Error => "error", Severity::Warning => "warning", Severity::Note => "note" },
+        "kind": f.kind,
         "item": f.item.to_string(),
         "message": f.message,
     })

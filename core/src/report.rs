@@ -48,58 +48,8 @@ pub fn esc(text: &str) -> String {
     out
 }
 
-const CSS: &str = r#"
-:root { --ink: #1a1a1a; --muted: #5a5a5a; --rule: #c9c9c9; --band: #f3f3f0; --warn: #8a5a00; --err: #a00000; }
-* { box-sizing: border-box; }
-html { font-family: "DejaVu Sans", "Segoe UI", Helvetica, Arial, sans-serif; font-size: 11pt; color: var(--ink); }
-body { margin: 0 auto; padding: 28px 40px 40px; max-width: 1000px; line-height: 1.4; }
-h1 { font-size: 1.7em; margin: 0 0 2px; font-weight: 600; }
-h2 { font-size: 1.2em; margin: 26px 0 8px; padding-bottom: 3px; border-bottom: 2px solid var(--ink); font-weight: 600; }
-h3 { font-size: 1.0em; margin: 14px 0 6px; font-weight: 600; }
-p { margin: 4px 0 8px; }
-.sub { color: var(--muted); margin: 0 0 12px; }
-.caution-box { border: 1.5px solid var(--ink); border-left-width: 6px; padding: 6px 12px; margin: 10px 0 4px; font-size: 0.92em; background: #fbfbf8; }
-.cols { display: flex; gap: 24px; flex-wrap: wrap; align-items: flex-start; }
-.cols > div { flex: 1 1 300px; }
-table { border-collapse: collapse; width: 100%; font-size: 0.84em; margin: 4px 0 10px; }
-th, td { border-bottom: 1px solid var(--rule); padding: 2px 6px; text-align: left; vertical-align: top; }
-th { background: var(--band); font-weight: 600; border-bottom: 1.5px solid var(--ink); }
-td.n, th.n { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
-table.kv th { width: 48%; background: none; border-bottom: 1px solid var(--rule); font-weight: normal; color: var(--muted); }
-table.kv td { font-variant-numeric: tabular-nums; }
-tr.over td { font-weight: 600; }
-tr.index td { background: #f5f1de; }
-table.emitters { font-size: 0.8em; }
-table.emitters th { vertical-align: bottom; }
-table.emitters td:nth-child(4) { min-width: 15em; }
-.swatch { display: inline-block; width: 10px; height: 10px; border: 1px solid #333; margin-right: 4px; vertical-align: -1px; }
-.sev-error td.sev { color: var(--err); font-weight: 600; }
-.sev-warning td.sev { color: var(--warn); font-weight: 600; }
-figure { margin: 8px 0 16px; break-inside: avoid; page-break-inside: avoid; }
-figcaption { font-size: 0.9em; color: var(--muted); margin-bottom: 4px; }
-svg { max-width: 100%; height: auto; display: block; }
-svg.level-plan, svg.riser-elevation { width: 100%; }
-svg text { font-family: "DejaVu Sans", Helvetica, Arial, sans-serif; fill: #1a1a1a; }
-svg .lb { font-size: 11px; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
-svg .sm { font-size: 9.5px; fill: #444444; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
-svg .sz { font-size: 9.5px; paint-order: stroke; stroke: #ffffff; stroke-width: 3px; }
-svg .lg { font-size: 9.5px; }
-ul.notes { font-size: 0.9em; margin: 4px 0 10px; padding-left: 20px; }
-dl.methods dt { font-weight: 600; margin-top: 6px; }
-dl.methods dd { margin: 0 0 4px 16px; }
-.muted { color: var(--muted); }
-footer { margin-top: 30px; font-size: 0.8em; color: var(--muted); border-top: 1px solid var(--rule); padding-top: 6px; }
-@page { size: A4; margin: 14mm 12mm 16mm; }
-@media print {
-  html { font-size: 9.5pt; }
-  body { padding: 0; max-width: none; }
-  h2 { break-after: avoid; page-break-after: avoid; }
-  thead { display: table-header-group; }
-  tr { break-inside: avoid; page-break-inside: avoid; }
-  section.page { break-before: page; page-break-before: always; }
-  .caution-box { background: none; }
-}
-"#;
+/// The report's style sheet (inlined into the page: one self-contained file).
+const CSS: &str = include_str!("report/report.css");
 
 fn kw(x: f64) -> String {
     format!("{:.2} kW", x / 1000.0)

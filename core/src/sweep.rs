@@ -281,7 +281,7 @@ fn upgrades_at(existing: &Project, target_c: f64) -> (Vec<Upgrade>, Vec<String>)
                     });
                 }
             }
-            _ => other.push(ep.id.clone()),
+            EmitterModel::FloorLoop(_) | EmitterModel::Terminal(_) => other.push(ep.id.clone()),
         }
     }
     (ups, other)

@@ -227,7 +227,8 @@ fn file_errors_name_the_item_and_the_fix() {
     assert!(err.unwrap_err().to_string().contains(&format!("run {r}")));
     let bad = text.replacen("length_override_m: None", "length_override_m: Some(-2.0)", 1);
     let e = Project::from_ron(&bad).unwrap_err().to_string();
-    assert!(e.contains("run R") && e.contains("length -2 m") && e.contains("give a length"), "{e}");
+    assert!(e.contains("run R") && e.contains("length -2 m") && e.contains("give more than 0"), "{e}");
+    assert_eq!(e.matches("run R").count(), 1, "the run is named once: {e}");
     // A dangling run end.
     let bad = text.replacen("b: 2,", "b: 999,", 1);
     let e = Project::from_ron(&bad).unwrap_err().to_string();
@@ -424,7 +425,7 @@ fn source_of(p: &Project) -> (NodeId, flowrise_core::project::HeatSource) {
 
 /// Issue 20 item 3: a controlled pump whose set-point is above what its
 /// curve gives runs on its curve. With an 8 kPa shut-off head and a 20 kPa
-/// (or 1 GPa) constant-Δp or proportional-Δp set-point, the installed
+/// (or 900 kPa) constant-Δp or proportional-Δp set-point, the installed
 /// operating solve equals the same pump at fixed speed, and the finding
 /// says the pump cannot hold its set-point; part load says so as well.
 #[test]
@@ -447,10 +448,16 @@ fn a_set_point_above_the_pump_curve_gives_the_fixed_speed_result() {
     let fixed_pump = fixed.pump.clone().unwrap();
     assert!(!fixed_pump.on_max_curve);
     assert!(!fixed.findings.iter().any(|f| f.message.contains("set-point")), "no set-point finding at fixed speed");
+    // A set-point far beyond any circulator is refused with its range.
+    let mut q = installed.clone();
+    let mut s = base.clone();
+    s.pump.control = PumpControl::ConstantDp { setpoint_kpa: 1e6 };
+    let e = q.apply(Edit::SetNodeKind { id: src, kind: NodeKind::Source(s) }).unwrap_err().to_string();
+    assert!(e.contains("set-point") && e.contains("0.1 to 1000 kPa"), "{e}");
     for control in [
         PumpControl::ConstantDp { setpoint_kpa: 20.0 },
         PumpControl::ProportionalDp { setpoint_kpa: 20.0 },
-        PumpControl::ConstantDp { setpoint_kpa: 1e6 },
+        PumpControl::ConstantDp { setpoint_kpa: 900.0 },
     ] {
         let p = with(control);
         let s = solve(&p);

@@ -119,6 +119,109 @@ pub enum FindingKind {
     VelocityOverLimit,
 }
 
+impl FindingKind {
+    /// Every kind, in declaration order.
+    pub const ALL: [Self; 41] = [
+        Self::NoSource,
+        Self::SourceUnconnected,
+        Self::LoopClosed,
+        Self::EmitterUnreachable,
+        Self::NodeUnreachable,
+        Self::RunUnreachable,
+        Self::DeadEnd,
+        Self::HeaderOutletsExceeded,
+        Self::ReverseReturnFork,
+        Self::SettingsInvalid,
+        Self::WaterPropertyRange,
+        Self::PumpCurveInvalid,
+        Self::ZeroLoad,
+        Self::EmitterDesignFailed,
+        Self::ValveFamilyUnknown,
+        Self::LockshieldFamilyUnknown,
+        Self::NoEmitter,
+        Self::PipeSeriesUnknown,
+        Self::FixedSizeUnknown,
+        Self::SizeLimitsExceeded,
+        Self::PipeLawInvalid,
+        Self::EmitterShortfall,
+        Self::FloorSurfaceLimit,
+        Self::FloorLoopPressureDrop,
+        Self::FloorLoopLength,
+        Self::RadiatorBeyondCatalog,
+        Self::NoDesignFlow,
+        Self::PumpTooWeak,
+        Self::PresettingUnknown,
+        Self::ValveCannotDeliver,
+        Self::KvAboveLargest,
+        Self::KvBelowSmallest,
+        Self::PresettingFailed,
+        Self::LowAuthority,
+        Self::SourceCapacity,
+        Self::VesselNotSized,
+        Self::NetworkInvalid,
+        Self::NotConverged,
+        Self::RoomShort,
+        Self::PumpOnMaxCurve,
+        Self::VelocityOverLimit,
+    ];
+
+    /// Position in [`Self::ALL`] (an exhaustive match: a new kind does not
+    /// compile until it is placed, and the test of `ALL` fails until it is
+    /// listed there).
+    #[must_use]
+    pub const fn index(self) -> usize {
+        match self {
+            Self::NoSource => 0,
+            Self::SourceUnconnected => 1,
+            Self::LoopClosed => 2,
+            Self::EmitterUnreachable => 3,
+            Self::NodeUnreachable => 4,
+            Self::RunUnreachable => 5,
+            Self::DeadEnd => 6,
+            Self::HeaderOutletsExceeded => 7,
+            Self::ReverseReturnFork => 8,
+            Self::SettingsInvalid => 9,
+            Self::WaterPropertyRange => 10,
+            Self::PumpCurveInvalid => 11,
+            Self::ZeroLoad => 12,
+            Self::EmitterDesignFailed => 13,
+            Self::ValveFamilyUnknown => 14,
+            Self::LockshieldFamilyUnknown => 15,
+            Self::NoEmitter => 16,
+            Self::PipeSeriesUnknown => 17,
+            Self::FixedSizeUnknown => 18,
+            Self::SizeLimitsExceeded => 19,
+            Self::PipeLawInvalid => 20,
+            Self::EmitterShortfall => 21,
+            Self::FloorSurfaceLimit => 22,
+            Self::FloorLoopPressureDrop => 23,
+            Self::FloorLoopLength => 24,
+            Self::RadiatorBeyondCatalog => 25,
+            Self::NoDesignFlow => 26,
+            Self::PumpTooWeak => 27,
+            Self::PresettingUnknown => 28,
+            Self::ValveCannotDeliver => 29,
+            Self::KvAboveLargest => 30,
+            Self::KvBelowSmallest => 31,
+            Self::PresettingFailed => 32,
+            Self::LowAuthority => 33,
+            Self::SourceCapacity => 34,
+            Self::VesselNotSized => 35,
+            Self::NetworkInvalid => 36,
+            Self::NotConverged => 37,
+            Self::RoomShort => 38,
+            Self::PumpOnMaxCurve => 39,
+            Self::VelocityOverLimit => 40,
+        }
+    }
+
+    /// The stable name written to the JSON.
+    #[must_use]
+    pub fn name(self) -> String {
+        serde_json::to_value(self).ok().and_then(|v| v.as_str().map(str::to_owned)).unwrap_or_default()
+    }
+}
+
 /// The item a finding concerns.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub enum ItemRef {
@@ -583,4 +686,20 @@ pub(crate) fn velocity_over_limit(run: RunId, velocity: f64, size: &str, class: 
             class.name(),
         ),
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_kind_is_listed_once_and_documented() {
+        let doc = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../docs/solve-json.md")).unwrap();
+        for (i, k) in FindingKind::ALL.iter().enumerate() {
+            assert_eq!(k.index(), i, "{k:?}");
+            let name = k.name();
+            assert!(!name.is_empty() && name.chars().all(|c| c.is_ascii_lowercase() || c == '_'), "{name}");
+            assert!(doc.contains(&format!("| `{name}` |")), "docs/solve-json.md does not list the finding kind {name}");
+        }
+    }
 }

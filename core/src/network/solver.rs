@@ -8,6 +8,12 @@
 //! elevation term carried per link so that links of different density
 //! (supply and return) give buoyancy.
 //!
+//! This file is longer than the house's ~700 lines on purpose: it is one
+//! algorithm (equations, regularisation, convergence test, warm starts and
+//! the chord step, non-convergence diagnostics) whose documentation belongs
+//! beside the code it explains; the workspace (symbolic factorisation,
+//! sparsity pattern) and the tests live in `solver/`.
+//!
 //! # Equations
 //! Link k from node i to node j, mass flow m_k (positive i → j):
 //!

@@ -6,7 +6,10 @@
 
 use thiserror::Error;
 
+use super::limits::{self, Limit};
 use super::{DesignSettings, Level, LevelId, Node, NodeId, NodeKind, PlanPoint, Project, Run, RunId, RunProps};
+use crate::emitters::{EmitterModel, RadiatorSizing};
+use crate::pump::PumpControl;
 
 /// One change to the project.
 #[derive(Debug, Clone, PartialEq)]
@@ -115,57 +118,60 @@ fn invalid(item: impl Into<String>, message: impl Into<String>) -> EditError {
 /// # Errors
 /// [`EditError::Invalid`] naming the node.
 pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError> {
-    let finite_in = |v: f64, lo: f64, hi: f64| v.is_finite() && (lo..=hi).contains(&v);
+    let within = |l: &Limit, v: f64| l.check(v).map(|_| ()).map_err(|m| invalid(label, m));
     match kind {
         NodeKind::Junction => Ok(()),
-        NodeKind::Header(h) => {
-            if h.outlets == 0 || h.outlets > 24 {
-                return Err(invalid(label, format!("{} outlets — give 1 to 24", h.outlets)));
-            }
-            Ok(())
-        }
+        NodeKind::Header(h) => within(&limits::HEADER_OUTLETS, f64::from(h.outlets)),
         NodeKind::Source(s) => {
-            if !finite_in(s.capacity_w, 1.0, 1e8) {
-                return Err(invalid(label, format!("capacity {} W — give 1 W to 100 MW", s.capacity_w)));
-            }
-            if !finite_in(s.kv_m3_h, 0.01, 10_000.0) {
-                return Err(invalid(label, format!("Kv {} m³/h — give 0.01 to 10000", s.kv_m3_h)));
-            }
-            if !finite_in(s.water_content_l, 0.0, 1e6) {
-                return Err(invalid(label, format!("water content {} l — give 0 or more", s.water_content_l)));
+            within(&limits::SOURCE_CAPACITY_W, s.capacity_w)?;
+            within(&limits::SOURCE_KV_M3_H, s.kv_m3_h)?;
+            within(&limits::SOURCE_WATER_L, s.water_content_l)?;
+            for (q, h) in s.pump.curve_points {
+                within(&limits::PUMP_CURVE_FLOW_M3_H, q)?;
+                within(&limits::PUMP_CURVE_HEAD_KPA, h)?;
             }
             crate::pump::PumpCurve::from_three_points(s.pump.curve_points)
                 .map_err(|e| invalid(label, format!("pump curve: {e}")))?;
-            s.pump.control.validate().map_err(|e| invalid(label, format!("pump control: {e}")))?;
-            if let Some(q) = s.pump.design_flow_m3_h
-                && !finite_in(q, 1e-6, 10_000.0)
-            {
-                return Err(invalid(label, format!("pump design flow {q} m³/h — give a flow > 0")));
+            match s.pump.control {
+                PumpControl::FixedSpeed => {}
+                PumpControl::ConstantDp { setpoint_kpa } | PumpControl::ProportionalDp { setpoint_kpa } => {
+                    within(&limits::PUMP_SETPOINT_KPA, setpoint_kpa)?;
+                }
+            }
+            if let Some(q) = s.pump.design_flow_m3_h {
+                within(&limits::PUMP_DESIGN_FLOW_M3_H, q)?;
             }
             Ok(())
         }
         NodeKind::Emitter(e) => {
-            if !finite_in(e.load_w, 0.0, 1e6) {
-                return Err(invalid(label, format!("load {} W — give 0 to 1000000 W", e.load_w)));
-            }
-            if !finite_in(e.room_c, 5.0, 30.0) {
-                return Err(invalid(label, format!("room temperature {} °C — give 5 to 30 °C", e.room_c)));
-            }
+            within(&limits::LOAD_W, e.load_w)?;
+            within(&limits::ROOM_C, e.room_c)?;
             e.model.validate().map_err(|err| invalid(label, err.to_string()))?;
             // Hydraulic data far outside any real emitter would overflow the
-            // circuit pressure drops (Δp ∝ 1/Kv², ∝ ζ): generous bounds,
-            // common practice, like the source's Kv above.
+            // circuit pressure drops (Δp ∝ 1/Kv², ∝ ζ): generous bounds.
             match &e.model {
-                crate::emitters::EmitterModel::Terminal(t) if !finite_in(t.kv_m3_h, 0.01, 10_000.0) => {
-                    return Err(invalid(label, format!("terminal Kv {} m³/h — give 0.01 to 10000", t.kv_m3_h)));
+                EmitterModel::Radiator(r) => {
+                    within(&limits::RADIATOR_HEIGHT_MM, f64::from(r.height_mm))?;
+                    match r.sizing {
+                        RadiatorSizing::ToSize => {}
+                        RadiatorSizing::Existing { nominal_output_w, length_mm }
+                        | RadiatorSizing::Chosen { nominal_output_w, length_mm } => {
+                            within(&limits::RADIATOR_NOMINAL_W, nominal_output_w)?;
+                            within(&limits::RADIATOR_LENGTH_MM, f64::from(length_mm))?;
+                        }
+                    }
                 }
-                crate::emitters::EmitterModel::FloorLoop(f) if !finite_in(f.zeta_sum, 0.0, 1000.0) => {
-                    return Err(invalid(label, format!("loop ζ sum {} — give 0 to 1000", f.zeta_sum)));
+                EmitterModel::FloorLoop(f) => {
+                    within(&limits::FLOOR_AREA_M2, f.area_m2)?;
+                    within(&limits::FLOOR_SPACING_M, f.spacing_m)?;
+                    within(&limits::FLOOR_COVERING_M2K_W, f.covering_resistance_m2k_w)?;
+                    within(&limits::FLOOR_ZETA, f.zeta_sum)?;
+                    within(&limits::FLOOR_ROUGHNESS_M, f.pipe_roughness_m)?;
                 }
-                crate::emitters::EmitterModel::FloorLoop(f) if !finite_in(f.pipe_roughness_m, 0.0, 0.005) => {
-                    return Err(invalid(label, format!("pipe roughness {} m — give 0 to 0.005 m", f.pipe_roughness_m)));
+                EmitterModel::Terminal(t) => {
+                    within(&limits::TERMINAL_NOMINAL_W, t.nominal_output_w)?;
+                    within(&limits::TERMINAL_KV_M3_H, t.kv_m3_h)?;
                 }
-                _ => {}
             }
             Ok(())
         }
@@ -177,10 +183,8 @@ pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError>
 /// # Errors
 /// [`EditError::Invalid`] naming the run.
 pub fn validate_run_props(id: RunId, props: &RunProps) -> Result<(), EditError> {
-    if let Some(l) = props.length_override_m
-        && !(l.is_finite() && l > 0.0 && l <= 10_000.0)
-    {
-        return Err(invalid(format!("run {id}"), format!("length {l} m — give a length > 0 and ≤ 10000 m")));
+    if let Some(l) = props.length_override_m {
+        limits::RUN_LENGTH_M.check(l).map_err(|m| invalid(format!("run {id}"), m))?;
     }
     if let Some(size) = &props.fixed_size
         && size.trim().is_empty()
@@ -191,7 +195,7 @@ pub fn validate_run_props(id: RunId, props: &RunProps) -> Result<(), EditError> 
 }
 
 fn check_point(item: &str, p: PlanPoint) -> Result<(), EditError> {
-    if p.x_m.is_finite() && p.y_m.is_finite() && p.x_m.abs() <= 1e5 && p.y_m.abs() <= 1e5 {
+    if limits::PLAN_COORDINATE_M.contains(p.x_m) && limits::PLAN_COORDINATE_M.contains(p.y_m) {
         Ok(())
     } else {
         Err(invalid(item, format!("position ({}, {}) m is not a finite point within 100 km", p.x_m, p.y_m)))
@@ -255,7 +259,7 @@ impl Project {
                 self.settings = *settings;
             }
             Edit::AddLevel { name, elevation_m } => {
-                if !(elevation_m.is_finite() && elevation_m.abs() <= 500.0) {
+                if !(limits::ELEVATION_M.contains(elevation_m)) {
                     return Err(invalid(
                         format!("level {name}"),
                         format!("elevation {elevation_m} m — give −500 to 500 m"),
@@ -266,7 +270,7 @@ impl Project {
                 self.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
             }
             Edit::SetLevel(level) => {
-                if !(level.elevation_m.is_finite() && level.elevation_m.abs() <= 500.0) {
+                if !(limits::ELEVATION_M.contains(level.elevation_m)) {
                     return Err(invalid(
                         format!("level {}", level.name),
                         format!("elevation {} m — give −500 to 500 m", level.elevation_m),

@@ -11,6 +11,7 @@ use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
 use super::edit::{validate_node_kind, validate_run_props};
+use super::limits;
 use super::{DesignSettings, Level, Node, NodeKind, Project, Run};
 
 /// Format tag at the top of every project file.
@@ -88,6 +89,14 @@ pub enum FileError {
         /// The limit.
         max: u64,
     },
+}
+
+/// An edit's refusal as a file error (its item named once).
+fn from_edit(e: super::edit::EditError) -> FileError {
+    match e {
+        super::edit::EditError::Invalid { item, message } => FileError::Invalid { item, message },
+        super::edit::EditError::Missing(item) => bad(item, "does not exist"),
+    }
 }
 
 fn bad(item: impl Into<String>, message: impl Into<String>) -> FileError {
@@ -193,7 +202,7 @@ impl Project {
             if !level_ids.insert(l.id) {
                 return Err(bad(format!("level {}", l.id), "this id is used twice — give each level its own id"));
             }
-            if !(l.elevation_m.is_finite() && l.elevation_m.abs() <= 500.0) {
+            if !(limits::ELEVATION_M.contains(l.elevation_m)) {
                 return Err(bad(
                     format!("level {} ({})", l.id, l.name),
                     format!("elevation {} m — give −500 to 500 m", l.elevation_m),
@@ -216,13 +225,13 @@ impl Project {
                     format!("level {} does not exist — put the node on an existing level", n.level),
                 ));
             }
-            if !(n.pos.x_m.is_finite() && n.pos.y_m.is_finite() && n.pos.x_m.abs() <= 1e5 && n.pos.y_m.abs() <= 1e5) {
+            if !(limits::PLAN_COORDINATE_M.contains(n.pos.x_m) && limits::PLAN_COORDINATE_M.contains(n.pos.y_m)) {
                 return Err(bad(
                     label,
                     format!("position ({}, {}) m is not a finite point within 100 km", n.pos.x_m, n.pos.y_m),
                 ));
             }
-            validate_node_kind(&label, &n.kind).map_err(|e| bad(label.clone(), e.to_string()))?;
+            validate_node_kind(&label, &n.kind).map_err(from_edit)?;
             if matches!(n.kind, NodeKind::Source(_)) {
                 sources += 1;
                 if sources > 1 {
@@ -248,11 +257,11 @@ impl Project {
                 return Err(bad(item, "both ends are the same node — delete the run"));
             }
             for v in &r.vertices {
-                if !(v.x_m.is_finite() && v.y_m.is_finite() && v.x_m.abs() <= 1e5 && v.y_m.abs() <= 1e5) {
+                if !(limits::PLAN_COORDINATE_M.contains(v.x_m) && limits::PLAN_COORDINATE_M.contains(v.y_m)) {
                     return Err(bad(item, format!("bend point ({}, {}) m is not a finite point", v.x_m, v.y_m)));
                 }
             }
-            validate_run_props(r.id, &r.props).map_err(|e| bad(item.clone(), e.to_string()))?;
+            validate_run_props(r.id, &r.props).map_err(from_edit)?;
             let level = p.node(r.a).map(|n| n.level);
             if r.props.length_override_m.is_none() && p.drawn_length_m(&r) <= 0.0 {
                 let lv = level.map_or_else(String::new, |l| format!(" on level {l}"));

@@ -11,6 +11,7 @@
 
 pub mod edit;
 pub mod file;
+pub mod limits;
 pub mod settings;
 
 use std::collections::BTreeMap;

@@ -5,6 +5,8 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::limits::{self, Limit};
+
 /// Class of a pipe run; each class has its own velocity limit and series.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
 pub enum PipeClass {
@@ -167,12 +169,12 @@ impl DesignSettings {
     pub fn problems(&self) -> Vec<SettingsProblem> {
         let mut out = Vec::new();
         let mut bad = |field: &'static str, message: String| out.push(SettingsProblem { field, message });
-        let finite_in = |v: f64, lo: f64, hi: f64| v.is_finite() && (lo..=hi).contains(&v);
-        if !finite_in(self.supply_c, 20.0, 95.0) {
-            bad("supply temperature", format!("{} °C is outside 20–95 °C", self.supply_c));
+        let outside = |l: &Limit, v: f64| format!("{v} {} is outside {}", l.unit, l.range_text());
+        if !limits::SUPPLY_C.contains(self.supply_c) {
+            bad("supply temperature", outside(&limits::SUPPLY_C, self.supply_c));
         }
-        if !finite_in(self.return_c, 10.0, 90.0) {
-            bad("return temperature", format!("{} °C is outside 10–90 °C", self.return_c));
+        if !limits::RETURN_C.contains(self.return_c) {
+            bad("return temperature", outside(&limits::RETURN_C, self.return_c));
         }
         if self.return_c >= self.supply_c {
             bad(
@@ -183,36 +185,36 @@ impl DesignSettings {
                 ),
             );
         }
-        if !finite_in(self.room_c, 5.0, 30.0) {
-            bad("room temperature", format!("{} °C is outside 5–30 °C", self.room_c));
+        if !limits::ROOM_C.contains(self.room_c) {
+            bad("room temperature", outside(&limits::ROOM_C, self.room_c));
         } else if self.room_c >= self.return_c {
             bad("room temperature", format!("room {} °C must be below the return {} °C", self.room_c, self.return_c));
         }
         for class in PipeClass::ALL {
             let v = *self.velocity_limit_m_s.get(class);
-            if !finite_in(v, 0.1, 3.0) {
-                bad("velocity limit", format!("{}: {v} m/s is outside 0.1–3 m/s", class.name()));
+            if !limits::VELOCITY_LIMIT_M_S.contains(v) {
+                bad("velocity limit", format!("{}: {}", class.name(), outside(&limits::VELOCITY_LIMIT_M_S, v)));
             }
         }
-        if !finite_in(self.gradient_limit_pa_m, 20.0, 1000.0) {
-            bad("pressure gradient limit", format!("{} Pa/m is outside 20–1000 Pa/m", self.gradient_limit_pa_m));
+        if !limits::GRADIENT_LIMIT_PA_M.contains(self.gradient_limit_pa_m) {
+            bad("pressure gradient limit", outside(&limits::GRADIENT_LIMIT_PA_M, self.gradient_limit_pa_m));
         }
-        if !finite_in(self.head_margin_fraction, 0.0, 1.0) {
-            bad("pump head margin", format!("{} is outside 0–100 %", self.head_margin_fraction * 100.0));
+        if !limits::HEAD_MARGIN_FRACTION.contains(self.head_margin_fraction) {
+            bad("pump head margin", format!("{} % is outside 0 to 100 %", self.head_margin_fraction * 100.0));
         }
-        if !finite_in(self.min_valve_dp_pa, 0.0, 50_000.0) {
-            bad("minimum valve Δp", format!("{} Pa is outside 0–50 kPa", self.min_valve_dp_pa));
+        if !limits::MIN_VALVE_DP_PA.contains(self.min_valve_dp_pa) {
+            bad("minimum valve Δp", outside(&limits::MIN_VALVE_DP_PA, self.min_valve_dp_pa));
         }
-        if !finite_in(self.fill_temperature_c, 1.0, 40.0) {
-            bad("fill temperature", format!("{} °C is outside 1–40 °C", self.fill_temperature_c));
+        if !limits::FILL_TEMPERATURE_C.contains(self.fill_temperature_c) {
+            bad("fill temperature", outside(&limits::FILL_TEMPERATURE_C, self.fill_temperature_c));
         }
         if let Some(h) = self.static_height_m
-            && !finite_in(h, 0.0, 200.0)
+            && !limits::STATIC_HEIGHT_M.contains(h)
         {
-            bad("static height", format!("{h} m is outside 0–200 m"));
+            bad("static height", outside(&limits::STATIC_HEIGHT_M, h));
         }
-        if !finite_in(self.safety_valve_bar, 1.0, 10.0) {
-            bad("safety valve pressure", format!("{} bar is outside 1–10 bar", self.safety_valve_bar));
+        if !limits::SAFETY_VALVE_BAR.contains(self.safety_valve_bar) {
+            bad("safety valve pressure", outside(&limits::SAFETY_VALVE_BAR, self.safety_valve_bar));
         }
         out
     }
