@@ -53,6 +53,7 @@ impl Builder {
             kv_m3_h: 4.0,
             water_content_l: 3.0,
             pump: PumpSpec { curve_points: curve, control, design_flow_m3_h: None },
+            max_flow_c: None,
         });
         self.node(level, x, y, kind)
     }
@@ -72,6 +73,7 @@ impl Builder {
             valve_family: self.p.settings.valve_family.clone(),
             presetting: None,
             lockshield_family: self.p.settings.lockshield_family.clone(),
+            lockshield_setting: None,
         }
     }
 

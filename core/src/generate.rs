@@ -178,6 +178,7 @@ fn valves(settings: &DesignSettings, family: &str) -> EmitterValves {
         valve_family: family.to_owned(),
         presetting: None,
         lockshield_family: settings.lockshield_family.clone(),
+        lockshield_setting: None,
     }
 }
 
@@ -219,6 +220,7 @@ fn source_kind(total_load_w: f64, curve: [(f64, f64); 3], duty_kpa: f64) -> Node
             control: PumpControl::ConstantDp { setpoint_kpa: duty_kpa },
             design_flow_m3_h: None,
         },
+        max_flow_c: None,
     })
 }
 

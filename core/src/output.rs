@@ -284,3 +284,82 @@ pub fn write_solve_text(s: &mut impl std::fmt::Write, p: &Project, sol: &Solutio
 fn truncate(s: &str, n: usize) -> String {
     if s.chars().count() <= n { s.to_owned() } else { s.chars().take(n - 1).collect::<String>() + "…" }
 }
+
+/// The readable summary of a supply-temperature sweep (`flowrise sweep`):
+/// the lowest supply temperature every room is covered at, the first room
+/// short below it, and the radiator upgrades for the target temperature.
+///
+/// # Errors
+/// The sink's error (a String never fails).
+pub fn write_sweep_text(
+    s: &mut impl std::fmt::Write,
+    p: &Project,
+    spec: &crate::sweep::SweepSpec,
+    result: &crate::sweep::SweepResult,
+) -> std::fmt::Result {
+    out!(
+        s,
+        "{} — supply-temperature sweep {:.0} → {:.0} °C ({})",
+        p.name,
+        spec.from_c,
+        spec.to_c,
+        if spec.frozen_presettings { "presettings frozen" } else { "re-balanced" }
+    );
+    match (result.lowest_supply_c, &result.limiting_emitter) {
+        (Some(t), Some(e)) => out!(s, "every room covered down to {t:.1} °C; the first room short below it: {e}"),
+        (Some(t), None) => out!(s, "every room covered over the whole range, down to {t:.1} °C"),
+        (None, Some(e)) => out!(s, "a room is short already at {:.1} °C: {e}", spec.from_c),
+        (None, None) => out!(s, "no point of the sweep could be designed"),
+    }
+    if result.upgrades.is_empty() {
+        out!(s, "no radiator upgrade needed at {:.1} °C", result.target_c);
+    } else {
+        out!(
+            s,
+            "upgrades to cover every room at {:.1} °C supply (θr = θs − {:.0} K):",
+            result.target_c,
+            crate::sweep::UPGRADE_DELTA_K
+        );
+        for u in &result.upgrades {
+            out!(
+                s,
+                "  {:<6} {:<24} {:>7.0} W nominal now → {:>7.0} W needed",
+                u.id,
+                u.name,
+                u.current_nominal_w,
+                u.needed_nominal_w
+            );
+        }
+    }
+    for id in &result.short_other {
+        out!(s, "  {id}: short at the target but not a radiator — check it separately");
+    }
+    Ok(())
+}
+
+/// The readable summary of part-load cases (`flowrise part-load`).
+///
+/// # Errors
+/// The sink's error (a String never fails).
+pub fn write_part_load_text(
+    s: &mut impl std::fmt::Write,
+    p: &Project,
+    closed: usize,
+    cases: &[crate::sweep::PartLoadCase],
+) -> std::fmt::Result {
+    out!(s, "{} — {} of {} emitter valves closed", p.name, closed, p.emitters().len());
+    for c in cases {
+        out!(
+            s,
+            "{:<16} pump {:>7.0} l/h at {:>5.1} kPa · largest valve Δp {:>5.1} kPa",
+            c.control,
+            c.pump_flow_l_h,
+            c.pump_head_kpa,
+            c.max_valve_dp_kpa
+        );
+        for w in &c.warnings {
+            out!(s, "    warning: {w}");
+        }
+    }
+    Ok(())
+}

@@ -143,11 +143,11 @@ impl Derivation<'_> {
                     None
                 }
             };
-            let lockshield_kv = match family_memo.get(&em.valves.lockshield_family) {
-                Ok(v) => v.settings.last().map_or(v.kvs_fully_open, |st| st.kv_m3_h),
+            let (lockshield, lockshield_kv) = match family_memo.get(&em.valves.lockshield_family) {
+                Ok(v) => (Some(v), v.settings.last().map_or(v.kvs_fully_open, |st| st.kv_m3_h)),
                 Err(err) => {
                     self.findings.push(findings::lockshield_family_unknown(node, &err));
-                    f64::INFINITY
+                    (None, f64::INFINITY)
                 }
             };
             let vl =
@@ -181,6 +181,7 @@ impl Derivation<'_> {
                 design,
                 flow_kg_s: flow,
                 valve,
+                lockshield,
                 lockshield_kv,
             });
         }

@@ -98,6 +98,11 @@ pub enum FindingKind {
     KvAboveLargest,
     /// The needed Kv is below the valve's smallest step.
     KvBelowSmallest,
+    /// No pair of valve and lockshield steps brings the flow within the
+    /// tolerance (the steps are too coarse).
+    TrimOutOfReach,
+    /// A fixed lockshield setting is not a step of its family.
+    LockshieldSettingUnknown,
     /// The presetting could not be chosen.
     PresettingFailed,
     /// Valve authority below the common-practice limit.
@@ -111,6 +116,11 @@ pub enum FindingKind {
     NetworkInvalid,
     /// The operating solve did not converge.
     NotConverged,
+    /// An emitter's operating flow is outside the flow tolerance.
+    FlowOutOfTolerance,
+    /// An emitter's return is hotter than the design return by more than
+    /// the margin.
+    HotReturn,
     /// In installed mode a room gets too little of its load.
     RoomShort,
     /// A Δp-controlled pump cannot hold its set-point.
@@ -121,7 +131,7 @@ pub enum FindingKind {
 
 impl FindingKind {
     /// Every kind, in declaration order.
-    pub const ALL: [Self; 41] = [
+    pub const ALL: [Self; 45] = [
         Self::NoSource,
         Self::SourceUnconnected,
         Self::LoopClosed,
@@ -154,12 +164,16 @@ impl FindingKind {
         Self::ValveCannotDeliver,
         Self::KvAboveLargest,
         Self::KvBelowSmallest,
+        Self::TrimOutOfReach,
+        Self::LockshieldSettingUnknown,
         Self::PresettingFailed,
         Self::LowAuthority,
         Self::SourceCapacity,
         Self::VesselNotSized,
         Self::NetworkInvalid,
         Self::NotConverged,
+        Self::FlowOutOfTolerance,
+        Self::HotReturn,
         Self::RoomShort,
         Self::PumpOnMaxCurve,
         Self::VelocityOverLimit,
@@ -203,15 +217,19 @@ impl FindingKind {
             Self::ValveCannotDeliver => 29,
             Self::KvAboveLargest => 30,
             Self::KvBelowSmallest => 31,
-            Self::PresettingFailed => 32,
-            Self::LowAuthority => 33,
-            Self::SourceCapacity => 34,
-            Self::VesselNotSized => 35,
-            Self::NetworkInvalid => 36,
-            Self::NotConverged => 37,
-            Self::RoomShort => 38,
-            Self::PumpOnMaxCurve => 39,
-            Self::VelocityOverLimit => 40,
+            Self::TrimOutOfReach => 32,
+            Self::LockshieldSettingUnknown => 33,
+            Self::PresettingFailed => 34,
+            Self::LowAuthority => 35,
+            Self::SourceCapacity => 36,
+            Self::VesselNotSized => 37,
+            Self::NetworkInvalid => 38,
+            Self::NotConverged => 39,
+            Self::FlowOutOfTolerance => 40,
+            Self::HotReturn => 41,
+            Self::RoomShort => 42,
+            Self::PumpOnMaxCurve => 43,
+            Self::VelocityOverLimit => 44,
         }
     }
 
@@ -588,8 +606,8 @@ pub(crate) fn kv_above_largest_text(
     flow_share: f64,
 ) -> String {
     format!(
-        "{}: needs Kv {kv_needed:.3} but {family} opens only to {kv_largest:.3} — the room gets about {:.0} % of its \
-         flow; choose a valve with a larger Kv or lower the circuit's resistance",
+        "{}: needs Kv {kv_needed:.3} but {family} with its lockshield open gives only {kv_largest:.3} — the room gets \
+         about {:.0} % of its flow; choose a valve with a larger Kv or lower the circuit's resistance",
         node.label(),
         flow_share * 100.0
     )
@@ -598,10 +616,39 @@ pub(crate) fn kv_above_largest_text(
 /// The text of [`FindingKind::KvBelowSmallest`] (cached per emitter).
 pub(crate) fn kv_below_smallest_text(node: &Node, kv_needed: f64, kv_smallest: f64, flow_share: f64) -> String {
     format!(
-        "{}: needs Kv {kv_needed:.3}, below the smallest presetting ({kv_smallest:.3}) — the room gets about {:.0} % \
-         of its flow; throttle with the lockshield or choose a valve with a finer presetting",
+        "{}: needs Kv {kv_needed:.3}, below the smallest presetting with the lockshield nearly closed ({kv_smallest:.3}) \
+         — the room gets about {:.0} % of its flow; choose a valve with smaller Kv steps or add resistance to the \
+         circuit",
         node.label(),
         flow_share * 100.0
+    )
+}
+
+/// The text of [`FindingKind::TrimOutOfReach`] (cached per emitter).
+pub(crate) fn trim_out_of_reach_text(
+    node: &Node,
+    valve: &str,
+    lockshield: &str,
+    tolerance: f64,
+    presetting: &str,
+    lock_setting: &str,
+    error: f64,
+) -> String {
+    format!(
+        "{}: no presetting of {valve} with a setting of {lockshield} brings the flow within ±{:.0} % of design (the \
+         closest pair, presetting {presetting} with the lockshield at {lock_setting}, gives {:+.0} %) — choose a valve \
+         family with finer steps or a continuous presetting",
+        node.label(),
+        tolerance * 100.0,
+        error * 100.0
+    )
+}
+
+pub(crate) fn lockshield_setting_unknown(node: &Node, label: &str, family: &str) -> Finding {
+    Finding::error(
+        FindingKind::LockshieldSettingUnknown,
+        ItemRef::Node(node.id),
+        format!("{}: lockshield setting {label} is not a step of {family} — pick one of its steps", node.label()),
     )
 }
 
@@ -609,10 +656,13 @@ pub(crate) fn presetting_failed(node: &Node, error: &dyn fmt::Display) -> Findin
     Finding::error(FindingKind::PresettingFailed, ItemRef::Node(node.id), format!("{}: {error}", node.label()))
 }
 
-/// The text of [`FindingKind::LowAuthority`] (cached per emitter).
+/// The text of [`FindingKind::LowAuthority`] (cached per emitter). The
+/// authority is printed rounded down, so it never reads as equal to the
+/// limit it is below.
 pub(crate) fn low_authority_text(node: &Node, authority: f64, limit: f64) -> String {
+    let shown = (authority * 100.0).floor() / 100.0;
     format!(
-        "{}: valve authority {authority:.2} is below {limit:.1} (common practice) — the valve has little control; \
+        "{}: valve authority {shown:.2} is below {limit:.2} (common practice) — the valve has little control; \
          reduce the pump head or the circuit's other resistances",
         node.label(),
     )
@@ -649,6 +699,53 @@ pub(crate) fn not_converged(iterations: usize, detail: &str) -> Finding {
         format!(
             "the operating solve did not converge in {iterations} iterations{detail} — check for closed valves isolating \
              emitters, a pump far too weak, or extreme resistances"
+        ),
+    )
+}
+
+/// An emitter's flow outside the tolerance, with its output when it falls
+/// short and what to do about it.
+#[allow(clippy::too_many_arguments)] // reason: the numbers the message states
+pub(crate) fn flow_out_of_tolerance(
+    node: &Node,
+    flow_l_h: f64,
+    design_l_h: f64,
+    deviation: f64,
+    tolerance: f64,
+    output_w: f64,
+    load_w: f64,
+    installed: bool,
+) -> Finding {
+    let short =
+        if output_w < load_w - 0.5 { format!(" and delivers {output_w:.0} W of {load_w:.0} W") } else { String::new() };
+    let fix = if installed {
+        "re-trim its presetting and lockshield (switch to design follows layout to have them chosen)"
+    } else if deviation < 0.0 {
+        "its valves are open as far as the pair allows: lower the circuit's resistance or raise the pump head"
+    } else {
+        "its valves cannot throttle it further: choose a valve family with finer steps or add resistance"
+    };
+    Finding::warning(
+        FindingKind::FlowOutOfTolerance,
+        ItemRef::Node(node.id),
+        format!(
+            "{} gets {flow_l_h:.1} l/h, {:+.0} % of its design flow {design_l_h:.1} l/h{short}, outside the ±{:.0} % \
+             tolerance — {fix}",
+            node.label(),
+            deviation * 100.0,
+            tolerance * 100.0
+        ),
+    )
+}
+
+pub(crate) fn hot_return(node: &Node, return_c: f64, design_return_c: f64, margin_k: f64) -> Finding {
+    Finding::warning(
+        FindingKind::HotReturn,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: returns {return_c:.1} °C, more than {margin_k:.0} K above the design return {design_return_c:.1} °C — \
+             the emitter is oversupplied; fit a return-temperature limiter or lower its presetting",
+            node.label()
         ),
     )
 }

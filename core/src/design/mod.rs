@@ -28,6 +28,7 @@
 
 mod balance;
 mod cache;
+mod commission;
 mod derive;
 pub mod findings;
 mod freeze;
@@ -109,7 +110,22 @@ pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> So
         if opts.matched_physics {
             d.match_physics(p);
         }
+        let mut mark = d.findings.len();
         d.operate(p, opts, ws, &mut sol);
+        if !opts.continuous_presetting {
+            for _ in 0..commission::MAX_PASSES {
+                let done = d.commission(p, &dn, ws, &mut sol);
+                if done.is_empty() {
+                    break;
+                }
+                // The operating findings belong to the settings just
+                // replaced: drop them, refresh the trim findings, solve again.
+                d.findings.truncate(mark);
+                d.retrim_findings(p, &dn, ws, &mut sol, &done);
+                mark = d.findings.len();
+                d.operate(p, opts, ws, &mut sol);
+            }
+        }
         sol.timings.operate_ms = ms_since(t2);
     }
     if !d.pipes_filled {

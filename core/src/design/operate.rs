@@ -112,8 +112,27 @@ impl Derivation<'_> {
                 r.output_w = out.output_w;
                 r.return_c = out.return_c;
             }
-            if p.settings.mode == Mode::Installed && !r.closed && r.load_w > 0.0 && r.output_w < 0.95 * r.load_w {
+            let s = &p.settings;
+            let installed = s.mode == Mode::Installed;
+            let open = !r.closed && r.design_flow_kg_s > 0.0;
+            r.flow_within_tolerance = !open || r.flow_deviation.abs() <= s.flow_tolerance_fraction;
+            let node = p.node(e.id);
+            if let Some(node) = node.filter(|_| !r.flow_within_tolerance) {
+                self.findings.push(findings::flow_out_of_tolerance(
+                    node,
+                    r.flow_l_h,
+                    r.design_flow_l_h,
+                    r.flow_deviation,
+                    s.flow_tolerance_fraction,
+                    r.output_w,
+                    r.load_w,
+                    installed,
+                ));
+            } else if installed && open && r.load_w > 0.0 && r.output_w < 0.95 * r.load_w {
                 self.findings.push(findings::room_short(e.id, &r.name, 1.0 + r.flow_deviation, r.output_w, r.load_w));
+            }
+            if let Some(node) = node.filter(|_| open && r.return_c > s.return_c + s.hot_return_margin_k) {
+                self.findings.push(findings::hot_return(node, r.return_c, s.return_c, s.hot_return_margin_k));
             }
         }
         // Pump operating point.

@@ -143,14 +143,21 @@ pub struct EmitterResult {
     pub circuit_dp_open_pa: f64,
     /// Circuit Δp without the valve (the rest of the circuit), Pa.
     pub circuit_rest_pa: f64,
-    /// Δp the valve absorbs at design flow, Pa.
+    /// Δp across the valve at its presetting at design flow, Pa.
     pub valve_dp_pa: f64,
-    /// Kv needed, m³/h.
+    /// Δp across the lockshield at its setting at design flow, Pa.
+    pub lockshield_dp_pa: f64,
+    /// Kv the valve needs at its chosen lockshield setting, m³/h (0 when
+    /// the circuit cannot be balanced).
     pub kv_needed_m3_h: f64,
     /// Presetting label.
     pub presetting: String,
     /// Kv at the presetting, m³/h.
     pub valve_kv_m3_h: f64,
+    /// Lockshield setting label (its last step is fully open).
+    pub lockshield: String,
+    /// Kv at the lockshield setting, m³/h.
+    pub lockshield_kv_m3_h: f64,
     /// Valve authority.
     pub authority: f64,
     /// Flow error expected from the presetting step, fraction.
@@ -165,6 +172,9 @@ pub struct EmitterResult {
     pub output_w: f64,
     /// Operating flow / design flow − 1.
     pub flow_deviation: f64,
+    /// The operating flow is within the flow tolerance of the design flow
+    /// (always true for a closed valve or an emitter without design flow).
+    pub flow_within_tolerance: bool,
     /// Valve closed in this scenario.
     pub closed: bool,
 }

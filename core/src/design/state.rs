@@ -51,6 +51,8 @@ pub(super) struct EmitterData {
     pub(super) design: Option<Arc<EmitterDesign>>,
     pub(super) flow_kg_s: f64,
     pub(super) valve: Option<&'static ValveFamily>,
+    pub(super) lockshield: Option<&'static ValveFamily>,
+    /// Kv of the lockshield fully open, m³/h (∞ without a lockshield).
     pub(super) lockshield_kv: f64,
 }
 

@@ -106,6 +106,13 @@ pub const STATIC_HEIGHT_M: Limit = Limit::new("static height", "m", 0.0, 200.0);
 /// Safety valve set pressure, bar.
 pub const SAFETY_VALVE_BAR: Limit = Limit::new("safety valve pressure", "bar", 1.0, 10.0);
 
+/// Accepted flow deviation from design, fraction.
+pub const FLOW_TOLERANCE_FRACTION: Limit = Limit::new("flow tolerance", "", 0.01, 0.5);
+/// Margin of a hot return above the design return, K.
+pub const HOT_RETURN_MARGIN_K: Limit = Limit::new("hot-return margin", "K", 0.5, 20.0);
+/// Highest flow temperature a source can deliver, °C.
+pub const SOURCE_MAX_FLOW_C: Limit = Limit::new("maximum flow temperature", "°C", 20.0, 110.0);
+
 // ---- layout
 /// A plan coordinate, m (within 100 km of the origin).
 pub const PLAN_COORDINATE_M: Limit = Limit::new("plan coordinate", "m", -1e5, 1e5);

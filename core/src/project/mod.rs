@@ -119,6 +119,24 @@ pub struct HeatSource {
     pub water_content_l: f64,
     /// The circulation pump.
     pub pump: PumpSpec,
+    /// Highest flow temperature the source can deliver (its limit
+    /// thermostat), °C: the expansion vessel is sized for it. `None` = the
+    /// design supply temperature + [`DEFAULT_MAX_FLOW_ABOVE_DESIGN_K`].
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub max_flow_c: Option<f64>,
+}
+
+/// How far above the design supply a source's flow can rise when its
+/// highest flow temperature is not given, K (10 K: common practice for the
+/// margin of a limit thermostat over the design flow temperature).
+pub const DEFAULT_MAX_FLOW_ABOVE_DESIGN_K: f64 = 10.0;
+
+impl HeatSource {
+    /// The highest flow temperature the vessel is sized for, °C.
+    #[must_use]
+    pub fn max_flow_temperature_c(&self, design_supply_c: f64) -> f64 {
+        self.max_flow_c.unwrap_or(design_supply_c + DEFAULT_MAX_FLOW_ABOVE_DESIGN_K)
+    }
 }
 
 /// A header: distributor (supply) and collector (return) pair.
@@ -139,6 +157,10 @@ pub struct EmitterValves {
     pub presetting: Option<String>,
     /// Lockshield family on the return.
     pub lockshield_family: String,
+    /// Lockshield setting installed (label of a step); `None` = chosen by
+    /// the design (fully open unless the trim needs it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub lockshield_setting: Option<String>,
 }
 
 /// A room's emitter.

@@ -126,6 +126,14 @@ pub struct DesignSettings {
     pub static_height_m: Option<f64>,
     /// Safety valve set pressure, bar gauge.
     pub safety_valve_bar: f64,
+    /// Accepted deviation of an emitter's (or balancing device's) flow from
+    /// its design flow, fraction (default ±10 %: common practice for a
+    /// balanced two-pipe system). Outside it is a finding.
+    pub flow_tolerance_fraction: f64,
+    /// How far an emitter's return may lie above the design return before
+    /// it is a finding, K (default 3 K: common practice; a hot return is
+    /// an emitter oversupplied or throttled only by its valve).
+    pub hot_return_margin_k: f64,
 }
 
 impl Default for DesignSettings {
@@ -150,6 +158,8 @@ impl Default for DesignSettings {
             fill_temperature_c: 10.0,
             static_height_m: None,
             safety_valve_bar: 3.0,
+            flow_tolerance_fraction: 0.10,
+            hot_return_margin_k: 3.0,
         }
     }
 }
@@ -215,6 +225,12 @@ impl DesignSettings {
         }
         if !limits::SAFETY_VALVE_BAR.contains(self.safety_valve_bar) {
             bad("safety valve pressure", outside(&limits::SAFETY_VALVE_BAR, self.safety_valve_bar));
+        }
+        if !limits::FLOW_TOLERANCE_FRACTION.contains(self.flow_tolerance_fraction) {
+            bad("flow tolerance", format!("±{} % is outside ±1 to ±50 %", self.flow_tolerance_fraction * 100.0));
+        }
+        if !limits::HOT_RETURN_MARGIN_K.contains(self.hot_return_margin_k) {
+            bad("hot-return margin", outside(&limits::HOT_RETURN_MARGIN_K, self.hot_return_margin_k));
         }
         out
     }

@@ -118,6 +118,7 @@ pub fn new_radiator(project: &Project, name: &str) -> NodeKind {
             valve_family: project.settings.valve_family.clone(),
             presetting: None,
             lockshield_family: project.settings.lockshield_family.clone(),
+            lockshield_setting: None,
         },
     })
 }
@@ -135,6 +136,7 @@ pub fn new_source() -> NodeKind {
             control: PumpControl::ConstantDp { setpoint_kpa: 40.0 },
             design_flow_m3_h: None,
         },
+        max_flow_c: None,
     })
 }
 
