@@ -8,7 +8,9 @@ use egui_plot::{Legend, Line, Plot, Points};
 use flowrise_core::design::{ItemRef, LinkRole, Side, Solution};
 use flowrise_core::project::Project;
 
-use super::{Intents, inspector, theme};
+use super::findings_view::findings_list;
+use super::intents::Intents;
+use super::theme;
 
 /// Drawer tabs.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -104,9 +106,7 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
             Tab::Pipes => pipes_table(ui, project, sol, out),
             Tab::Emitters => emitters_table(ui, sol, out),
             Tab::Findings => {
-                ScrollArea::vertical()
-                    .auto_shrink([false, false])
-                    .show(ui, |ui| inspector::findings_list(ui, sol, out));
+                ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| findings_list(ui, sol, out));
             }
             Tab::Pump => pump_chart(ui, sol, &st.scenarios, project.revision),
             Tab::Profile => profile_chart(ui, sol),

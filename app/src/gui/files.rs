@@ -5,8 +5,10 @@ use std::path::PathBuf;
 
 use flowrise_core::project::Project;
 
+use super::FlowriseApp;
+use super::prefs::{PREFS_KEY, Prefs};
 use super::recovery::{self, RecoveryConfig};
-use super::{FlowriseApp, PREFS_KEY, Prefs, theme};
+use super::theme;
 
 /// The embedded default demo project.
 pub const DEFAULT_DEMO: &str = include_str!("../../../demo-projects/apartment-block-heat-pump.ron");

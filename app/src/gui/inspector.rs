@@ -3,7 +3,7 @@
 //! selected it shows the design settings.
 
 use egui::{Grid, RichText, ScrollArea, Ui};
-use flowrise_core::design::{ItemRef, Severity, Side, Solution};
+use flowrise_core::design::{Side, Solution};
 use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{
     EmitterDetail, EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec, radiator,
@@ -14,7 +14,9 @@ use flowrise_core::pump::PumpControl;
 use flowrise_core::valves::{self, ValveKind};
 
 use super::fields::FieldState;
-use super::{Intents, Selection, settings_panel, theme};
+use super::findings_view::findings_list;
+use super::intents::{Intents, Selection};
+use super::{settings_panel, theme};
 
 /// Show the inspector.
 pub fn show(
@@ -636,31 +638,4 @@ fn run_results(ui: &mut Ui, sol: &Solution, id: RunId) {
         line("Δp", &|p| format!("{:.2} kPa", p.dp_pa / 1000.0));
         line("Water", &|p| format!("{:.0} °C", p.temperature_c));
     });
-}
-
-/// The findings, errors first; a click selects the item and centres on it.
-pub fn findings_list(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
-    let n = sol.findings.len();
-    ui.strong(format!("Findings ({n})"));
-    if n == 0 {
-        ui.label(RichText::new("No findings — the design is complete.").weak());
-    }
-    for f in &sol.findings {
-        let (mark, colour) = match f.severity {
-            Severity::Error => ("Error", theme::ERROR),
-            Severity::Warning => ("Warning", theme::WARNING),
-            Severity::Note => ("Note", theme::INK),
-        };
-        let text = RichText::new(format!("{mark} at {}: {}", f.item, f.message)).color(colour);
-        if ui
-            .add(egui::Button::selectable(false, text).wrap())
-            .on_hover_text("Select this item and centre the canvas on it")
-            .clicked()
-        {
-            out.centre_on = Some(f.item);
-            if f.item == ItemRef::Settings {
-                out.select = Some(Selection::None);
-            }
-        }
-    }
 }

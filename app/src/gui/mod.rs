@@ -6,14 +6,20 @@
 //! Three kinds of state are kept apart:
 //! - **the document** — the [`Project`] (saved to its file), its path, the
 //!   last saved copy (for the unsaved mark) and the undo [`history`];
-//! - **UI preferences** — [`Prefs`], kept in eframe's storage between
-//!   sessions (recent files, labels, colour-by, open panels);
-//! - **transient state** — canvas view, tool in progress, hover, selection,
-//!   inspector text buffers, status line, open windows; never saved.
+//! - **UI preferences** — [`Prefs`] ([`prefs`]), kept in eframe's storage
+//!   between sessions (recent files, labels, colour-by, open panels);
+//! - **transient state** — canvas view, tool in progress, hover,
+//!   [`Selection`], inspector text buffers, [`Status`] line, open windows;
+//!   never saved. The small types the panels share live in [`intents`].
 //!
 //! Each frame: solve if the project changed (see [`solve`]), draw the
 //! panels (they receive what they need and push [`Intents`]: edits, actions,
 //! selection), then apply the edits with `Project::apply` in one place.
+//!
+//! Panels import the shared types from their own modules ([`intents`],
+//! [`prefs`], `findings_view`, [`theme`], …), never from this file, which
+//! puts the panels together; only the window launcher
+//! ([`run_window`], in `files`) reaches up, for [`FlowriseApp`] itself.
 
 pub mod actions;
 pub mod canvas;
@@ -21,9 +27,12 @@ mod drawer;
 mod export;
 mod fields;
 mod files;
+mod findings_view;
 mod history;
 mod inspector;
+pub mod intents;
 mod outline;
+pub mod prefs;
 pub mod recovery;
 mod scenarios;
 mod settings_panel;
@@ -37,152 +46,17 @@ use std::sync::Arc;
 
 use egui::{Color32, RichText, Ui};
 use flowrise_core::design::{ItemRef, Solution};
-use flowrise_core::project::{Edit, NodeId, PlanPoint, Project, RunId};
-use serde::{Deserialize, Serialize};
+use flowrise_core::project::{Edit, PlanPoint, Project};
 
 pub use actions::Action;
 pub use canvas::{CanvasState, Tool};
 pub use files::{StartProject, WindowError, run_window};
+pub use intents::{Intents, QueuedEdit, SelectNew, Selection, Status};
+pub use prefs::{PREFS_KEY, Prefs};
 pub use theme::ColourBy;
 
 /// The caution shown in the status line and the About window (DESIGN.md §5).
 pub const CAUTION: &str = "Design aid only — pressures, temperatures, materials and safety devices must follow local codes and licensed practice (EN 12828 or the local equivalent). Hot surfaces can burn.";
-
-/// What is selected.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub enum Selection {
-    /// Nothing: the inspector shows the design settings.
-    #[default]
-    None,
-    /// A node.
-    Node(NodeId),
-    /// A run.
-    Run(RunId),
-}
-
-/// Select what an edit creates.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum SelectNew {
-    /// Keep the selection.
-    Nothing,
-    /// Select the last node created.
-    Node,
-    /// Select the first run created.
-    Run,
-}
-
-/// An edit waiting to be applied after the frame is drawn.
-#[derive(Debug, Clone)]
-pub struct QueuedEdit {
-    /// The edit.
-    pub edit: Edit,
-    /// Inspector field that asked for it (a refusal is shown beside it).
-    pub field: Option<String>,
-    /// Part of a drag: no undo step of its own.
-    pub during_drag: bool,
-    /// What to select afterwards.
-    pub select_new: SelectNew,
-}
-
-/// A status-line message.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct Status {
-    /// Text.
-    pub text: String,
-    /// Shown in red.
-    pub error: bool,
-}
-
-/// What the panels ask for during one frame; applied after drawing.
-#[derive(Debug, Default)]
-pub struct Intents {
-    /// Edits in order.
-    pub edits: Vec<QueuedEdit>,
-    /// Actions in order.
-    pub actions: Vec<Action>,
-    /// New selection.
-    pub select: Option<Selection>,
-    /// Centre the canvas on this item.
-    pub centre_on: Option<ItemRef>,
-    /// A node drag started: take one undo snapshot now.
-    pub drag_begin: bool,
-    /// The node drag ended.
-    pub drag_end: bool,
-    /// Status message.
-    pub status: Option<Status>,
-    /// Open this file (recent files menu).
-    pub open_path: Option<PathBuf>,
-}
-
-impl Intents {
-    fn push(&mut self, edit: Edit, select_new: SelectNew) {
-        self.edits.push(QueuedEdit { edit, field: None, during_drag: false, select_new });
-    }
-    /// Queue an edit.
-    pub fn edit(&mut self, edit: Edit) {
-        self.push(edit, SelectNew::Nothing);
-    }
-    /// Queue an edit and select the node it creates.
-    pub fn edit_select(&mut self, edit: Edit) {
-        self.push(edit, SelectNew::Node);
-    }
-    /// Queue an edit and select the run it creates.
-    pub fn edit_select_run(&mut self, edit: Edit) {
-        self.push(edit, SelectNew::Run);
-    }
-    /// Queue an edit from an inspector field.
-    pub fn edit_field(&mut self, edit: Edit, field: &str) {
-        self.edits.push(QueuedEdit {
-            edit,
-            field: Some(field.to_owned()),
-            during_drag: false,
-            select_new: SelectNew::Nothing,
-        });
-    }
-    /// Queue one step of a drag (no undo step of its own).
-    pub fn edit_during_drag(&mut self, edit: Edit) {
-        self.edits.push(QueuedEdit { edit, field: None, during_drag: true, select_new: SelectNew::Nothing });
-    }
-    /// Show an error in the status line.
-    pub fn status_error(&mut self, text: impl Into<String>) {
-        self.status = Some(Status { text: text.into(), error: true });
-    }
-    /// Show a note in the status line.
-    pub fn status_note(&mut self, text: impl Into<String>) {
-        self.status = Some(Status { text: text.into(), error: false });
-    }
-}
-
-/// UI preferences, kept in eframe storage between sessions.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
-pub struct Prefs {
-    /// Recently opened or saved files, newest first.
-    pub recent: Vec<PathBuf>,
-    /// Labels on the canvas.
-    pub show_labels: bool,
-    /// Metric of the run colours.
-    pub colour_by: ColourBy,
-    /// Riser strip open.
-    pub show_elevation: bool,
-    /// Bottom drawer open.
-    pub drawer_open: bool,
-}
-
-impl Default for Prefs {
-    fn default() -> Self {
-        Self {
-            recent: Vec::new(),
-            show_labels: true,
-            colour_by: ColourBy::default(),
-            show_elevation: true,
-            drawer_open: true,
-        }
-    }
-}
-
-/// Storage key of [`Prefs`].
-pub const PREFS_KEY: &str = "flowrise-prefs";
 
 /// Why the unsaved-changes prompt is open.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

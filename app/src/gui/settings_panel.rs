@@ -8,8 +8,8 @@ use flowrise_core::design::{Solution, freeze_edit};
 use flowrise_core::pipes;
 use flowrise_core::project::{DesignSettings, Edit, Mode, PipeClass, Project, ReturnLayout};
 
-use super::Intents;
 use super::fields::FieldState;
+use super::intents::Intents;
 
 fn set(out: &mut Intents, s: DesignSettings, field: &str) {
     out.edit_field(Edit::SetSettings(Box::new(s)), field);

@@ -2,8 +2,10 @@
 
 use egui::{Align2, Color32, FontId, Pos2, Rect, Sense, Shape, Stroke, Ui, pos2, vec2};
 
+use super::actions::Action;
 use super::canvas::Tool;
-use super::{Action, Intents, theme};
+use super::intents::Intents;
+use super::theme;
 
 /// Draw the small icon of a tool into `r`.
 fn icon(p: &egui::Painter, r: Rect, tool: Tool, c: Color32) {

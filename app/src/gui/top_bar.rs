@@ -7,8 +7,11 @@ use egui::{RichText, Ui};
 use flowrise_core::design::{Severity, Solution};
 use flowrise_core::project::{Mode, Project};
 
+use super::actions::Action;
+use super::intents::Intents;
+use super::prefs::Prefs;
 use super::theme::ColourBy;
-use super::{Action, Intents, Prefs, settings_panel, theme};
+use super::{settings_panel, theme};
 
 /// What the strip shows.
 #[derive(Debug)]

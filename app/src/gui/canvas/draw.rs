@@ -10,7 +10,7 @@ use flowrise_core::project::{LevelId, Node, NodeKind, Project};
 
 use super::hit::{Hit, run_polyline};
 use super::view::View;
-use crate::gui::Selection;
+use crate::gui::intents::Selection;
 use crate::gui::theme::{self, ColourBy};
 
 /// What a plan drawing needs for one frame.

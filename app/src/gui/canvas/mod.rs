@@ -20,8 +20,8 @@ use tools::RunDraft;
 pub use tools::Tool;
 pub use view::View;
 
+use super::intents::{Intents, Selection};
 use super::theme::{self, ColourBy};
-use super::{Intents, Selection};
 
 /// A drag in progress.
 #[derive(Debug, Clone, PartialEq)]

@@ -10,7 +10,7 @@ use flowrise_core::project::{
 use flowrise_core::pump::PumpControl;
 
 use super::hit::Hit;
-use crate::gui::{Intents, Selection};
+use crate::gui::intents::{Intents, Selection};
 
 /// A canvas tool.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]

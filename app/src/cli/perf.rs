@@ -1,16 +1,16 @@
 //! `generate`, `export-network` and the hidden `bench-solve` subcommands.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::process::ExitCode;
 use std::time::Instant;
 
 use clap::{Args, ValueEnum};
-use flowrise_core::design::{Severity, SolveOptions, Workspace, solve_project};
+use flowrise_core::design::{SolveOptions, Workspace, solve_project};
 use flowrise_core::export::{ExportOptions, PumpExport, flows_json, network_to_inp};
 use flowrise_core::generate::{BuildingSpec, generate_building};
-use flowrise_core::project::{Edit, NodeKind, Project};
+use flowrise_core::project::{Edit, NodeKind};
 
-use super::EXIT_INVALID;
+use super::common::{EXIT_INVALID, load_or_exit, print_error_findings, refuse_output_over_input, write_output};
 
 /// Arguments of `flowrise generate`.
 #[derive(Debug, Args)]
@@ -84,13 +84,6 @@ pub struct BenchArgs {
     flow_tolerance: Option<f64>,
 }
 
-fn load(path: &Path) -> Result<Project, ExitCode> {
-    Project::load(path).map_err(|e| {
-        eprintln!("flowrise: {e}");
-        ExitCode::from(EXIT_INVALID)
-    })
-}
-
 /// `flowrise generate`.
 pub fn generate(a: &GenerateArgs) -> ExitCode {
     let spec = BuildingSpec {
@@ -107,9 +100,15 @@ pub fn generate(a: &GenerateArgs) -> ExitCode {
             return ExitCode::from(EXIT_INVALID);
         }
     };
-    if let Err(e) = project.save(&a.output) {
-        eprintln!("flowrise: cannot write {e}");
-        return ExitCode::from(EXIT_INVALID);
+    let text = match project.to_ron() {
+        Ok(t) => t,
+        Err(e) => {
+            eprintln!("flowrise: cannot write {e}");
+            return ExitCode::from(EXIT_INVALID);
+        }
+    };
+    if let Err(code) = write_output(&a.output, text.as_bytes()) {
+        return code;
     }
     eprintln!(
         "flowrise: wrote {} ({} emitters, {} runs)",
@@ -124,21 +123,19 @@ pub fn generate(a: &GenerateArgs) -> ExitCode {
 pub fn export_network(a: &ExportArgs) -> ExitCode {
     for (out, option) in [(Some(&a.output), "-o"), (a.flows_json.as_ref(), "--flows-json")] {
         if let Some(out) = out
-            && let Err(code) = super::refuse_output_over_input(&a.file, out, option)
+            && let Err(code) = refuse_output_over_input(&a.file, out, option)
         {
             return code;
         }
     }
-    let project = match load(&a.file) {
+    let project = match load_or_exit(&a.file) {
         Ok(p) => p,
         Err(code) => return code,
     };
     let opts = SolveOptions { matched_physics: a.matched, ..SolveOptions::default() };
     let sol = solve_project(&project, &opts, &mut Workspace::default());
     if sol.has_errors() {
-        for f in sol.findings.iter().filter(|f| f.severity == Severity::Error) {
-            eprintln!("flowrise: {}: {}", f.item, f.message);
-        }
+        print_error_findings(&sol);
         return ExitCode::from(EXIT_INVALID);
     }
     let pump = match a.pump {
@@ -154,9 +151,8 @@ pub fn export_network(a: &ExportArgs) -> ExitCode {
             return ExitCode::from(EXIT_INVALID);
         }
     };
-    if let Err(e) = flowrise_core::project::file::write_atomic(&a.output, text.as_bytes()) {
-        eprintln!("flowrise: cannot write {e}");
-        return ExitCode::from(EXIT_INVALID);
+    if let Err(code) = write_output(&a.output, text.as_bytes()) {
+        return code;
     }
     if let Some(path) = &a.flows_json {
         let doc = match flows_json(&sol, &eo) {
@@ -173,9 +169,8 @@ pub fn export_network(a: &ExportArgs) -> ExitCode {
                 return ExitCode::FAILURE;
             }
         };
-        if let Err(e) = flowrise_core::project::file::write_atomic(path, &bytes) {
-            eprintln!("flowrise: cannot write {e}");
-            return ExitCode::from(EXIT_INVALID);
+        if let Err(code) = write_output(path, &bytes) {
+            return code;
         }
     }
     ExitCode::SUCCESS
@@ -202,7 +197,7 @@ pub fn bench_solve(a: &BenchArgs) -> ExitCode {
     let mut project = None;
     for _ in 0..repeat.min(3) {
         let t = Instant::now();
-        match load(&a.file) {
+        match load_or_exit(&a.file) {
             Ok(p) => project = Some(p),
             Err(code) => return code,
         }

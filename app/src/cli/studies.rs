@@ -5,9 +5,9 @@ use std::path::Path;
 use std::process::ExitCode;
 
 use flowrise_core::project::{NodeId, Project};
-use flowrise_core::sweep::{self, SweepSpec};
+use flowrise_core::sweep::{self, SweepResult, SweepSpec};
 
-use crate::cli::{EXIT_INVALID, load_or_exit, parse_node_id, refuse_output_over_input};
+use super::common::{EXIT_INVALID, closed_emitters, load_or_exit, refuse_output_over_input, write_output};
 
 /// Supply-temperature sweep.
 pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) -> ExitCode {
@@ -42,6 +42,14 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) 
         }
         return ExitCode::SUCCESS;
     }
+    print_sweep_text(&p, spec, &result);
+    ExitCode::SUCCESS
+}
+
+/// The sweep as text on stdout: the lowest supply temperature that covers
+/// every room, the first room short below it, and the upgrades for the
+/// target temperature.
+fn print_sweep_text(p: &Project, spec: &SweepSpec, result: &SweepResult) {
     println!(
         "{} — supply-temperature sweep {:.0} → {:.0} °C ({})",
         p.name,
@@ -73,7 +81,6 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) 
     for id in &result.short_other {
         println!("  {id}: short at the target but not a radiator — check it separately");
     }
-    ExitCode::SUCCESS
 }
 
 /// Part-load scenario: valves closed, each pump control mode.
@@ -90,26 +97,14 @@ pub fn run_part_load(
     {
         return code;
     }
-    let p: Project = match load_or_exit(file) {
+    let p = match load_or_exit(file) {
         Ok(p) => p,
         Err(code) => return code,
     };
-    let mut closed = std::collections::BTreeSet::new();
-    for c in close {
-        match parse_node_id(c) {
-            Ok(id) if p.emitters().contains(&id) => {
-                closed.insert(id);
-            }
-            Ok(id) => {
-                eprintln!("flowrise: --close {id}: no emitter with this id");
-                return ExitCode::from(EXIT_INVALID);
-            }
-            Err(e) => {
-                eprintln!("flowrise: --close: {e}");
-                return ExitCode::from(EXIT_INVALID);
-            }
-        }
-    }
+    let mut closed = match closed_emitters(close, &p, file) {
+        Ok(c) => c,
+        Err(code) => return code,
+    };
     if let Some(f) = fraction {
         if !(0.0..=1.0).contains(&f) {
             eprintln!("flowrise: --fraction {f}: give a fraction from 0 to 1");
@@ -154,14 +149,12 @@ pub fn run_part_load(
     ExitCode::SUCCESS
 }
 
-/// Write CSV text atomically, or print the error and give the exit code.
+/// Write CSV text as an output file, or print the error and give the exit
+/// code.
 fn write_csv(path: &Path, text: Result<String, csv::Error>) -> Result<(), ExitCode> {
     let text = text.map_err(|e| {
         eprintln!("flowrise: CSV: {e}");
         ExitCode::FAILURE
     })?;
-    flowrise_core::project::file::write_atomic(path, text.as_bytes()).map_err(|e| {
-        eprintln!("flowrise: {e}");
-        ExitCode::from(EXIT_INVALID)
-    })
+    write_output(path, text.as_bytes())
 }

@@ -1,0 +1,85 @@
+//! `flowrise parts` and `flowrise report`: solve, then write the parts list
+//! as CSV or the design report as one HTML file.
+
+use std::path::Path;
+use std::process::ExitCode;
+
+use flowrise_core::design::{SolveOptions, Workspace, solve_project};
+
+use super::common::{EXIT_INVALID, load_or_exit, print_error_findings, refuse_output_over_input, write_output};
+
+/// What `export` writes.
+#[derive(Debug, Clone, Copy)]
+pub enum Export {
+    /// The parts list (CSV).
+    Parts,
+    /// The design report (HTML).
+    Report,
+    /// The design report with the sweep and part-load studies.
+    ReportWithStudies,
+}
+
+/// `flowrise parts` / `flowrise report`: solve, then write the parts CSV or
+/// the HTML report (stdout without `-o`). An invalid file or a design with
+/// errors writes nothing and exits 2 with the errors on stderr.
+pub fn export(file: &Path, output: Option<&Path>, what: Export) -> ExitCode {
+    if let Some(out) = output
+        && let Err(code) = refuse_output_over_input(file, out, "-o")
+    {
+        return code;
+    }
+    let project = match load_or_exit(file) {
+        Ok(p) => p,
+        Err(code) => return code,
+    };
+    let sol = solve_project(&project, &SolveOptions::default(), &mut Workspace::default());
+    if sol.has_errors() {
+        print_error_findings(&sol);
+        eprintln!("flowrise: the design has errors; nothing written");
+        return ExitCode::from(EXIT_INVALID);
+    }
+    let parts = match flowrise_core::parts::parts_list(&project, &sol, &flowrise_core::parts::PartsOptions::default()) {
+        Ok(p) => p,
+        Err(e) => {
+            eprintln!("flowrise: parts list: {e}");
+            return ExitCode::from(EXIT_INVALID);
+        }
+    };
+    let text = match what {
+        Export::Parts => match flowrise_core::parts::parts_csv(&parts) {
+            Ok(t) => t,
+            Err(e) => {
+                eprintln!("flowrise: {e}");
+                return ExitCode::FAILURE;
+            }
+        },
+        Export::Report => flowrise_core::report::report_html(&project, &sol, &parts),
+        Export::ReportWithStudies => {
+            use flowrise_core::sweep;
+            let sweep_result =
+                sweep::sweep(&project, &sweep::SweepSpec { target_c: Some(45.0), ..sweep::SweepSpec::default() });
+            let closed = sweep::random_closed_set(&project, 0.5, 1);
+            let cases = sweep::part_load(&project, &closed);
+            if let Err(e) = &sweep_result {
+                eprintln!("flowrise: sweep: {e} (left out of the report)");
+            }
+            if let Err(e) = &cases {
+                eprintln!("flowrise: part load: {e} (left out of the report)");
+            }
+            let studies = flowrise_core::report::Studies {
+                sweep: sweep_result.as_ref().ok(),
+                part_load: cases.as_ref().ok().map(|c| (c.as_slice(), closed.len())),
+            };
+            flowrise_core::report::report_html_with(&project, &sol, &parts, studies)
+        }
+    };
+    match output {
+        Some(path) => {
+            if let Err(code) = write_output(path, text.as_bytes()) {
+                return code;
+            }
+        }
+        None => print!("{text}"),
+    }
+    ExitCode::SUCCESS
+}
