@@ -82,6 +82,14 @@ pub enum FrictionLaw {
     /// cross-check `tests/epanet/crosscheck.py` confirms them numerically
     /// against the engine.
     SwameeJainEpanet,
+    /// The design's law: as [`FrictionLaw::ColebrookWhite`], but in the
+    /// transition range (Re between [`LAMINAR_RE_MAX`] and
+    /// [`TURBULENT_RE_MIN`]) the larger of the interpolation and
+    /// Colebrook–White carried down to that Re. Flow there may be turbulent
+    /// or not; sizing and the pressure drops the pump and the presettings are
+    /// chosen from take the larger friction, so a pipe in this range is not
+    /// under-designed. The operating solve uses the continuous law.
+    ColebrookWhiteConservative,
 }
 
 impl PipeHydraulics {
@@ -232,6 +240,7 @@ impl PipeKernel {
             }
             FrictionLaw::ColebrookWhite => friction_factor_and_slope(re, self.rr),
             FrictionLaw::SwameeJainEpanet => epanet_friction_and_slope(re, self.rr),
+            FrictionLaw::ColebrookWhiteConservative => conservative_friction_and_slope(re, self.rr),
         };
         // Δp_f = f(Re)·(L/D)·k·ṁ², Re ∝ ṁ ⇒ dΔp_f/dṁ = (L/D)·k·ṁ·(2f + Re·f').
         let friction_dp = f * self.friction_k * m_abs * m_abs;
@@ -315,6 +324,33 @@ pub fn pressure_gradient_pa_m(
     check::finite("mass flow", mass_flow_kg_s, "kg/s")?;
     let p = PipeHydraulics::new(1.0, inner_diameter_m, roughness_m, 0.0, density_kg_m3, viscosity_pa_s)?;
     Ok(friction_gradient_pa_m(&p, mass_flow_kg_s))
+}
+
+/// [`FrictionLaw::ColebrookWhiteConservative`]: f and df/dRe for Re above
+/// the laminar range.
+fn conservative_friction_and_slope(re: f64, rr: f64) -> (f64, f64) {
+    let smooth = friction_factor_and_slope(re, rr);
+    if re >= TURBULENT_RE_MIN || re <= LAMINAR_RE_MAX {
+        return smooth;
+    }
+    let cw = colebrook_and_slope(re, rr);
+    if cw.0 > smooth.0 { cw } else { smooth }
+}
+
+/// Darcy friction factor of the design's conservative law
+/// ([`FrictionLaw::ColebrookWhiteConservative`]) at Re > 0.
+///
+/// # Errors
+/// [`crate::PhysicsError`] when Re is not in (0, [`RE_MAX`]] or ε/D is out of
+/// range.
+pub fn design_friction_factor(reynolds: f64, relative_roughness: f64) -> PhysicsResult<f64> {
+    check::positive("Reynolds number", reynolds, "")?;
+    check::in_range("Reynolds number", reynolds, "", 0.0, RE_MAX)?;
+    check::in_range("relative roughness ε/D", relative_roughness, "", 0.0, RELATIVE_ROUGHNESS_MAX)?;
+    if reynolds <= LAMINAR_RE_MAX {
+        return Ok(64.0 / reynolds);
+    }
+    Ok(conservative_friction_and_slope(reynolds, relative_roughness).0)
 }
 
 /// Unchecked f(Re, ε/D) and df/dRe for Re > 0, all regimes.

@@ -538,6 +538,9 @@ pub struct TrimNeed {
     pub density_kg_m3: f64,
     /// Accepted flow deviation, fraction (±).
     pub tolerance_fraction: f64,
+    /// Δp the valve should take at design flow for its authority (the
+    /// authority limit times the head available), Pa; 0 = no preference.
+    pub authority_dp_pa: f64,
 }
 
 /// How well the chosen pair meets the need.
@@ -593,7 +596,9 @@ fn pair_kv(a: f64, b: f64) -> f64 {
 /// a pair close to the design flow, throttled by the valve rather than by
 /// the lockshield (which would cost the valve its authority). The two
 /// terms weigh equally — our choice, both being what a commissioning
-/// engineer trades off. When no pair is within the tolerance, the pair
+/// engineer trades off. Pairs whose valve takes at least
+/// [`TrimNeed::authority_dp_pa`] at design flow are preferred. When no pair
+/// is within the tolerance, the pair
 /// closest to the design flow, with [`TrimFit`] saying why.
 ///
 /// # Errors
@@ -667,6 +672,10 @@ pub fn choose_trim_with(
         });
     }
     let tol = need.tolerance_fraction.max(1e-9);
+    // Pairs within the tolerance whose valve keeps its authority come
+    // first; among them (or, if none does, among all within the
+    // tolerance) the least cost.
+    let mut best_with_authority: Option<(f64, usize, usize)> = None;
     let mut best_within: Option<(f64, usize, usize)> = None;
     let mut closest: Option<(f64, usize, usize)> = None;
     for li in 0..=l_last {
@@ -684,10 +693,14 @@ pub fn choose_trim_with(
                 if best_within.is_none_or(|(c, _, _)| cost < c) {
                     best_within = Some((cost, vi, li));
                 }
+                let valve_dp = dp_pa_from_kv(need.flow_m3_h, kv_v, need.density_kg_m3).unwrap_or(0.0);
+                if valve_dp >= need.authority_dp_pa && best_with_authority.is_none_or(|(c, _, _)| cost < c) {
+                    best_with_authority = Some((cost, vi, li));
+                }
             }
         }
     }
-    Ok(match (best_within, closest) {
+    Ok(match (best_with_authority.or(best_within), closest) {
         (Some((_, vi, li)), _) => make(vi, li, TrimFit::Within),
         (None, Some((_, vi, li))) => make(vi, li, TrimFit::Coarse),
         (None, None) => make(v_last, l_last, TrimFit::Coarse),

@@ -56,7 +56,12 @@ pub fn flat() -> Project {
 /// per flat feeding radiators and a bathroom floor loop.
 pub fn block() -> Project {
     let mut b = Builder::new("Rowan Court — four-storey block");
-    let mut settings = DesignSettings { supply_c: 55.0, return_c: 45.0, ..DesignSettings::default() };
+    let mut settings = DesignSettings {
+        supply_c: 55.0,
+        return_c: 45.0,
+        valve_family: "trv-demo-fine".to_owned(),
+        ..DesignSettings::default()
+    };
     settings.series.main = "steel-en10255-medium".to_owned();
     b.p.apply(Edit::SetSettings(Box::new(settings))).unwrap();
     let basement = b.level("Basement", -3.0);
@@ -103,6 +108,7 @@ pub fn office() -> Project {
         supply_c: 70.0,
         return_c: 50.0,
         return_layout: ReturnLayout::Reverse,
+        valve_family: "trv-demo-fine".to_owned(),
         ..DesignSettings::default()
     };
     b.p.apply(Edit::SetSettings(Box::new(settings))).unwrap();
@@ -133,6 +139,7 @@ fn main() {
         "flat-six-radiators.ron",
         "Demo (invented scenario): a single-storey flat with a wall-hung boiler in the\n\
          kitchen and six radiators to be sized, 70/55 °C, multilayer pipe to the rooms.\n\
+         Its valves have coarse presetting steps: the lockshields trim the flows.\n\
          Expected findings: none.",
     );
     write(
@@ -140,7 +147,8 @@ fn main() {
         "apartment-block-heat-pump.ron",
         "Demo (invented scenario): a four-storey block of flats over a basement plant\n\
          room. A heat pump at 55/45 °C feeds a steel riser; each flat has a header with\n\
-         three radiators (to be sized) and a bathroom floor loop.\n\
+         three radiators (to be sized) and a bathroom floor loop; the radiator valves\n\
+         have a fine (half-step) presetting.\n\
          Expected findings: none.",
     );
     write(

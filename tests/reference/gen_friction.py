@@ -63,6 +63,15 @@ def colebrook_grid():
     return [{"re": re_, "rr": rr, "f": Colebrook(re_, rr)} for re_ in res for rr in rrs]
 
 
+def transition_colebrook():
+    """Colebrook-White in the transition range 2000 < Re < 4000, where the
+    design takes the larger of its interpolation and Colebrook-White
+    (fluids.friction.Colebrook evaluated below its usual range on purpose)."""
+    res = [2100.0, 2500.0, 3000.0, 3500.0, 3900.0]
+    rrs = [0.0, 1e-4, 1e-3, 1e-2]
+    return [{"re": re_, "rr": rr, "f": Colebrook(re_, rr)} for re_ in res for rr in rrs]
+
+
 def pipe_cases():
     cases = [
         # series, size, water temperature °C, mass flow kg/s
@@ -147,6 +156,7 @@ def main():
         "iapws": iapws.__version__,
         "pressure_mpa": P_MPA,
         "colebrook": colebrook_grid(),
+        "transition_colebrook": transition_colebrook(),
         "pipes": pipe_cases(),
         "fittings": fittings(),
     }

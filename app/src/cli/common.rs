@@ -83,6 +83,22 @@ pub fn write_output(path: &Path, bytes: &[u8]) -> Result<(), ExitCode> {
     })
 }
 
+/// Stream text made by `write` to standard output; a failed write (a
+/// closed pipe, a full disk) is printed and gives exit code 1.
+pub fn print_text(
+    what: &str,
+    write: impl FnOnce(&mut IoLines<std::io::BufWriter<std::io::StdoutLock<'_>>>) -> std::fmt::Result,
+) -> Result<(), ExitCode> {
+    let mut out = IoLines { out: std::io::BufWriter::new(std::io::stdout().lock()), error: None };
+    let written = write(&mut out);
+    let flushed = std::io::Write::flush(&mut out.out);
+    if let Some(e) = out.error.or(flushed.err()).or_else(|| written.err().map(|_| std::io::Error::other("format"))) {
+        eprintln!("flowrise: cannot write the {what}: {e}");
+        return Err(ExitCode::FAILURE);
+    }
+    Ok(())
+}
+
 /// A [`std::fmt::Write`] sink writing to a byte stream, keeping the first
 /// I/O error (which `fmt::Error` cannot carry).
 pub struct IoLines<W: std::io::Write> {

@@ -8,7 +8,7 @@ use flowrise_core::design::{SolveOptions, Workspace, solve_project};
 use flowrise_core::output::{SolveJson, write_solve_text};
 use flowrise_core::project::Mode;
 
-use super::common::{EXIT_INVALID, IoLines, closed_emitters, load_or_exit, print_error_findings};
+use super::common::{EXIT_INVALID, closed_emitters, load_or_exit, print_error_findings, print_text};
 
 /// `flowrise solve`: a design with error findings exits 2, the errors on
 /// stderr after the output.
@@ -42,13 +42,8 @@ pub fn solve(file: &Path, json: bool, installed: bool, close: &[String]) -> Exit
         }
     } else {
         // Streamed line by line, like the JSON.
-        let mut out = IoLines { out: std::io::BufWriter::new(std::io::stdout().lock()), error: None };
-        let written = write_solve_text(&mut out, &project, &sol);
-        let flushed = std::io::Write::flush(&mut out.out);
-        if let Some(e) = out.error.or(flushed.err()).or_else(|| written.err().map(|_| std::io::Error::other("format")))
-        {
-            eprintln!("flowrise: cannot write the summary: {e}");
-            return ExitCode::FAILURE;
+        if let Err(code) = print_text("summary", |out| write_solve_text(out, &project, &sol)) {
+            return code;
         }
     }
     if sol.has_errors() {

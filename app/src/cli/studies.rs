@@ -4,10 +4,10 @@
 use std::path::Path;
 use std::process::ExitCode;
 
-use flowrise_core::project::{NodeId, Project};
-use flowrise_core::sweep::{self, SweepResult, SweepSpec};
+use flowrise_core::project::NodeId;
+use flowrise_core::sweep::{self, SweepSpec};
 
-use super::common::{EXIT_INVALID, closed_emitters, load_or_exit, refuse_output_over_input, write_output};
+use super::common::{EXIT_INVALID, closed_emitters, load_or_exit, print_text, refuse_output_over_input, write_output};
 
 /// Supply-temperature sweep.
 pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) -> ExitCode {
@@ -42,44 +42,9 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) 
         }
         return ExitCode::SUCCESS;
     }
-    print_sweep_text(&p, spec, &result);
-    ExitCode::SUCCESS
-}
-
-/// The sweep as text on stdout: the lowest supply temperature that covers
-/// every room, the first room short below it, and the upgrades for the
-/// target temperature.
-fn print_sweep_text(p: &Project, spec: &SweepSpec, result: &SweepResult) {
-    println!(
-        "{} — supply-temperature sweep {:.0} → {:.0} °C ({})",
-        p.name,
-        spec.from_c,
-        spec.to_c,
-        if spec.frozen_presettings { "presettings frozen" } else { "re-balanced" }
-    );
-    match (result.lowest_supply_c, &result.limiting_emitter) {
-        (Some(t), Some(e)) => println!("every room covered down to {t:.1} °C; the first room short below it: {e}"),
-        (Some(t), None) => println!("every room covered over the whole range, down to {t:.1} °C"),
-        (None, Some(e)) => println!("a room is short already at {:.1} °C: {e}", spec.from_c),
-        (None, None) => println!("no point of the sweep could be designed"),
-    }
-    if result.upgrades.is_empty() {
-        println!("no radiator upgrade needed at {:.1} °C", result.target_c);
-    } else {
-        println!(
-            "upgrades to cover every room at {:.1} °C supply (θr = θs − {:.0} K):",
-            result.target_c,
-            sweep::UPGRADE_DELTA_K
-        );
-        for u in &result.upgrades {
-            println!(
-                "  {:<6} {:<24} {:>7.0} W nominal now → {:>7.0} W needed",
-                u.id, u.name, u.current_nominal_w, u.needed_nominal_w
-            );
-        }
-    }
-    for id in &result.short_other {
-        println!("  {id}: short at the target but not a radiator — check it separately");
+    match print_text("sweep", |out| flowrise_core::output::write_sweep_text(out, &p, spec, &result)) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(code) => code,
     }
 }
 
@@ -136,17 +101,12 @@ pub fn run_part_load(
         }
         return ExitCode::SUCCESS;
     }
-    println!("{} — {} of {} emitter valves closed", p.name, closed.len(), p.emitters().len());
-    for c in &cases {
-        println!(
-            "{:<16} pump {:>7.0} l/h at {:>5.1} kPa · largest valve Δp {:>5.1} kPa",
-            c.control, c.pump_flow_l_h, c.pump_head_kpa, c.max_valve_dp_kpa
-        );
-        for w in &c.warnings {
-            println!("    warning: {w}");
-        }
+    match print_text("part-load summary", |out| {
+        flowrise_core::output::write_part_load_text(out, &p, closed.len(), &cases)
+    }) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(code) => code,
     }
-    ExitCode::SUCCESS
 }
 
 /// Write CSV text as an output file, or print the error and give the exit

@@ -9,6 +9,7 @@ use flowrise_core::emitters::{
     EmitterDetail, EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec, radiator,
 };
 use flowrise_core::pipes;
+use flowrise_core::project::limits as L;
 use flowrise_core::project::{Edit, NodeId, NodeKind, PipeClass, Project, ReturnLayout, Run, RunId, RunProps};
 use flowrise_core::pump::PumpControl;
 use flowrise_core::valves::{self, ValveKind};
@@ -109,10 +110,10 @@ fn set_kind(out: &mut Intents, id: NodeId, kind: NodeKind, field: &str) {
 
 fn position(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, out: &mut Intents) {
     let Some(n) = project.node(id) else { return };
-    if let Some(x) = fs.number(ui, "node.x", "x (east)", "m", n.pos.x_m, (-1e5, 1e5), 2) {
+    if let Some(x) = fs.number(ui, "node.x", "x (east)", "m", n.pos.x_m, L::PLAN_COORDINATE_M.scaled(1.0), 2) {
         out.edit_field(Edit::MoveNodes { ids: vec![id], dx_m: x - n.pos.x_m, dy_m: 0.0 }, "node.x");
     }
-    if let Some(y) = fs.number(ui, "node.y", "y (north)", "m", n.pos.y_m, (-1e5, 1e5), 2) {
+    if let Some(y) = fs.number(ui, "node.y", "y (north)", "m", n.pos.y_m, L::PLAN_COORDINATE_M.scaled(1.0), 2) {
         out.edit_field(Edit::MoveNodes { ids: vec![id], dx_m: 0.0, dy_m: y - n.pos.y_m }, "node.y");
     }
 }
@@ -131,7 +132,7 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                         "em.name",
                     );
                 }
-                if let Some(v) = fs.number(ui, "em.load", "Heat load", "W", e.load_w, (0.0, 1e6), 0) {
+                if let Some(v) = fs.number(ui, "em.load", "Heat load", "W", e.load_w, L::LOAD_W.scaled(1.0), 0) {
                     set_kind(
                         out,
                         id,
@@ -139,7 +140,7 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                         "em.load",
                     );
                 }
-                if let Some(v) = fs.number(ui, "em.room", "Room", "°C", e.room_c, (5.0, 30.0), 1) {
+                if let Some(v) = fs.number(ui, "em.room", "Room", "°C", e.room_c, L::ROOM_C.scaled(1.0), 1) {
                     set_kind(
                         out,
                         id,
@@ -224,10 +225,20 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                 if let Some(v) = fs.text(ui, "src.name", "Name", &s.name) {
                     set_kind(out, id, with(&|x| x.name.clone_from(&v)), "src.name");
                 }
-                if let Some(v) = fs.number(ui, "src.cap", "Capacity", "kW", s.capacity_w / 1000.0, (0.001, 1e5), 1) {
+                if let Some(v) = fs.number(
+                    ui,
+                    "src.cap",
+                    "Capacity",
+                    "kW",
+                    s.capacity_w / 1000.0,
+                    L::SOURCE_CAPACITY_W.scaled(1e-3),
+                    1,
+                ) {
                     set_kind(out, id, with(&|x| x.capacity_w = v * 1000.0), "src.cap");
                 }
-                if let Some(v) = fs.number(ui, "src.kv", "Source Kv", "m³/h", s.kv_m3_h, (0.01, 10_000.0), 2) {
+                if let Some(v) =
+                    fs.number(ui, "src.kv", "Source Kv", "m³/h", s.kv_m3_h, L::SOURCE_KV_M3_H.scaled(1.0), 2)
+                {
                     set_kind(out, id, with(&|x| x.kv_m3_h = v), "src.kv");
                 }
                 let label_id = ui.label("Pump control").id;
@@ -257,21 +268,34 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     set_kind(out, id, with(&|x| x.pump.control = control(pick, sp)), "src.control");
                 }
                 if cur != 0
-                    && let Some(v) = fs.number(ui, "src.sp", "Set-point", "kPa", sp, (1.0, 1000.0), 1)
+                    && let Some(v) =
+                        fs.number(ui, "src.sp", "Set-point", "kPa", sp, L::PUMP_SETPOINT_KPA.scaled(1.0), 1)
                 {
                     set_kind(out, id, with(&|x| x.pump.control = control(cur, v)), "src.sp");
                 }
                 for (i, (q, h)) in s.pump.curve_points.iter().enumerate() {
                     let kq = format!("src.q{i}");
-                    if let Some(v) =
-                        fs.number(ui, &kq, &format!("Curve point {} flow", i + 1), "m³/h", *q, (0.0, 1000.0), 2)
-                    {
+                    if let Some(v) = fs.number(
+                        ui,
+                        &kq,
+                        &format!("Curve point {} flow", i + 1),
+                        "m³/h",
+                        *q,
+                        L::PUMP_CURVE_FLOW_M3_H.scaled(1.0),
+                        2,
+                    ) {
                         set_kind(out, id, with(&|x| x.pump.curve_points[i].0 = v), &kq);
                     }
                     let kh = format!("src.h{i}");
-                    if let Some(v) =
-                        fs.number(ui, &kh, &format!("Curve point {} head", i + 1), "kPa", *h, (0.0, 2000.0), 1)
-                    {
+                    if let Some(v) = fs.number(
+                        ui,
+                        &kh,
+                        &format!("Curve point {} head", i + 1),
+                        "kPa",
+                        *h,
+                        L::PUMP_CURVE_HEAD_KPA.scaled(1.0),
+                        1,
+                    ) {
                         set_kind(out, id, with(&|x| x.pump.curve_points[i].1 = v), &kh);
                     }
                 }
@@ -282,7 +306,15 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     h2.name = v;
                     set_kind(out, id, NodeKind::Header(h2), "hd.name");
                 }
-                if let Some(v) = fs.number(ui, "hd.outlets", "Outlets", "pairs", f64::from(h.outlets), (1.0, 24.0), 0) {
+                if let Some(v) = fs.number(
+                    ui,
+                    "hd.outlets",
+                    "Outlets",
+                    "pairs",
+                    f64::from(h.outlets),
+                    L::HEADER_OUTLETS.scaled(1.0),
+                    0,
+                ) {
                     let mut h2 = h.clone();
                     h2.outlets = v.round() as u32;
                     set_kind(out, id, NodeKind::Header(h2), "hd.outlets");
@@ -346,7 +378,9 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
                     "rad.type",
                 );
             }
-            if let Some(v) = fs.number(ui, "rad.h", "Height", "mm", f64::from(r.height_mm), (100.0, 3000.0), 0) {
+            if let Some(v) =
+                fs.number(ui, "rad.h", "Height", "mm", f64::from(r.height_mm), L::RADIATOR_HEIGHT_MM.scaled(1.0), 0)
+            {
                 set_kind(
                     out,
                     id,
@@ -384,9 +418,15 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
                 );
             }
             if let RadiatorSizing::Existing { nominal_output_w, length_mm } = r.sizing {
-                if let Some(v) =
-                    fs.number(ui, "rad.nom", "Nominal output (75/65/20)", "W", nominal_output_w, (1.0, 1e5), 0)
-                {
+                if let Some(v) = fs.number(
+                    ui,
+                    "rad.nom",
+                    "Nominal output (75/65/20)",
+                    "W",
+                    nominal_output_w,
+                    L::RADIATOR_NOMINAL_W.scaled(1.0),
+                    0,
+                ) {
                     let sizing = RadiatorSizing::Existing { nominal_output_w: v, length_mm };
                     set_kind(
                         out,
@@ -395,7 +435,9 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
                         "rad.nom",
                     );
                 }
-                if let Some(v) = fs.number(ui, "rad.len", "Length", "mm", f64::from(length_mm), (100.0, 6000.0), 0) {
+                if let Some(v) =
+                    fs.number(ui, "rad.len", "Length", "mm", f64::from(length_mm), L::RADIATOR_LENGTH_MM.scaled(1.0), 0)
+                {
                     let sizing = RadiatorSizing::Existing { nominal_output_w, length_mm: v.round() as u32 };
                     set_kind(
                         out,
@@ -407,7 +449,8 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
             }
         }
         EmitterModel::FloorLoop(f) => {
-            if let Some(v) = fs.number(ui, "fl.area", "Heated area", "m²", f.area_m2, (0.5, 500.0), 1) {
+            if let Some(v) = fs.number(ui, "fl.area", "Heated area", "m²", f.area_m2, L::FLOOR_AREA_M2.scaled(1.0), 1)
+            {
                 set_kind(
                     out,
                     id,
@@ -415,7 +458,15 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
                     "fl.area",
                 );
             }
-            if let Some(v) = fs.number(ui, "fl.spacing", "Pipe spacing", "mm", f.spacing_m * 1000.0, (50.0, 400.0), 0) {
+            if let Some(v) = fs.number(
+                ui,
+                "fl.spacing",
+                "Pipe spacing",
+                "mm",
+                f.spacing_m * 1000.0,
+                L::FLOOR_SPACING_M.scaled(1000.0),
+                0,
+            ) {
                 set_kind(
                     out,
                     id,
@@ -423,9 +474,15 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
                     "fl.spacing",
                 );
             }
-            if let Some(v) =
-                fs.number(ui, "fl.cover", "Covering R", "m²K/W", f.covering_resistance_m2k_w, (0.0, 0.15), 3)
-            {
+            if let Some(v) = fs.number(
+                ui,
+                "fl.cover",
+                "Covering R",
+                "m²K/W",
+                f.covering_resistance_m2k_w,
+                L::FLOOR_COVERING_M2K_W.scaled(1.0),
+                3,
+            ) {
                 set_kind(
                     out,
                     id,
@@ -450,7 +507,9 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
             }
         }
         EmitterModel::Terminal(t) => {
-            if let Some(v) = fs.number(ui, "tm.nom", "Nominal output", "W", t.nominal_output_w, (1.0, 1e6), 0) {
+            if let Some(v) =
+                fs.number(ui, "tm.nom", "Nominal output", "W", t.nominal_output_w, L::TERMINAL_NOMINAL_W.scaled(1.0), 0)
+            {
                 set_kind(
                     out,
                     id,
@@ -458,7 +517,7 @@ fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs
                     "tm.nom",
                 );
             }
-            if let Some(v) = fs.number(ui, "tm.kv", "Coil Kv", "m³/h", t.kv_m3_h, (0.01, 1000.0), 2) {
+            if let Some(v) = fs.number(ui, "tm.kv", "Coil Kv", "m³/h", t.kv_m3_h, L::TERMINAL_KV_M3_H.scaled(1.0), 2) {
                 set_kind(
                     out,
                     id,
@@ -545,7 +604,7 @@ fn run_inputs(ui: &mut Ui, project: &Project, sol: &Solution, run: &Run, fs: &mu
             "Length override",
             "m",
             run.props.length_override_m,
-            (0.01, 10_000.0),
+            L::RUN_LENGTH_M.scaled(1.0),
             2,
         ) {
             set(out, RunProps { length_override_m: v, ..run.props.clone() }, "run.length");

@@ -55,7 +55,7 @@ pub use intents::{Intents, QueuedEdit, SelectNew, Selection, Status};
 pub use prefs::{PREFS_KEY, Prefs};
 pub use theme::ColourBy;
 
-/// The caution shown in the status line and the About window (DESIGN.md §5).
+/// The caution shown in the status line and the About window (the same words as the report and the README).
 pub const CAUTION: &str = "Design aid only — pressures, temperatures, materials and safety devices must follow local codes and licensed practice (EN 12828 or the local equivalent). Hot surfaces can burn.";
 
 /// Why the unsaved-changes prompt is open.

@@ -6,6 +6,7 @@
 use egui::{Grid, RichText, Ui};
 use flowrise_core::design::{Solution, freeze_edit};
 use flowrise_core::pipes;
+use flowrise_core::project::limits as L;
 use flowrise_core::project::{DesignSettings, Edit, Mode, PipeClass, Project, ReturnLayout};
 
 use super::fields::FieldState;
@@ -28,37 +29,86 @@ pub fn mode_edit(project: &Project, sol: &Solution, mode: Mode) -> Edit {
 pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState, out: &mut Intents) {
     let s = &project.settings;
     Grid::new("settings_fields").num_columns(3).spacing([8.0, 4.0]).show(ui, |ui| {
-        if let Some(v) = fs.number(ui, "set.supply", "Supply", "°C", s.supply_c, (20.0, 95.0), 1) {
+        if let Some(v) = fs.number(ui, "set.supply", "Supply", "°C", s.supply_c, L::SUPPLY_C.scaled(1.0), 1) {
             set(out, DesignSettings { supply_c: v, ..s.clone() }, "set.supply");
         }
-        if let Some(v) = fs.number(ui, "set.return", "Return", "°C", s.return_c, (10.0, 90.0), 1) {
+        if let Some(v) = fs.number(ui, "set.return", "Return", "°C", s.return_c, L::RETURN_C.scaled(1.0), 1) {
             set(out, DesignSettings { return_c: v, ..s.clone() }, "set.return");
         }
-        if let Some(v) = fs.number(ui, "set.room", "Default room", "°C", s.room_c, (5.0, 30.0), 1) {
+        if let Some(v) = fs.number(ui, "set.room", "Default room", "°C", s.room_c, L::ROOM_C.scaled(1.0), 1) {
             set(out, DesignSettings { room_c: v, ..s.clone() }, "set.room");
         }
         for class in PipeClass::ALL {
             let key = format!("set.v.{class:?}");
             let v0 = *s.velocity_limit_m_s.get(class);
-            if let Some(v) = fs.number(ui, &key, &format!("Velocity limit, {}", class.name()), "m/s", v0, (0.1, 3.0), 2)
-            {
+            if let Some(v) = fs.number(
+                ui,
+                &key,
+                &format!("Velocity limit, {}", class.name()),
+                "m/s",
+                v0,
+                L::VELOCITY_LIMIT_M_S.scaled(1.0),
+                2,
+            ) {
                 let mut s2 = s.clone();
                 *s2.velocity_limit_m_s.get_mut(class) = v;
                 set(out, s2, &key);
             }
         }
-        if let Some(v) = fs.number(ui, "set.grad", "Gradient limit", "Pa/m", s.gradient_limit_pa_m, (20.0, 1000.0), 0) {
+        if let Some(v) = fs.number(
+            ui,
+            "set.grad",
+            "Gradient limit",
+            "Pa/m",
+            s.gradient_limit_pa_m,
+            L::GRADIENT_LIMIT_PA_M.scaled(1.0),
+            0,
+        ) {
             set(out, DesignSettings { gradient_limit_pa_m: v, ..s.clone() }, "set.grad");
         }
-        if let Some(v) =
-            fs.number(ui, "set.margin", "Pump head margin", "%", s.head_margin_fraction * 100.0, (0.0, 100.0), 0)
-        {
+        if let Some(v) = fs.number(
+            ui,
+            "set.margin",
+            "Pump head margin",
+            "%",
+            s.head_margin_fraction * 100.0,
+            L::HEAD_MARGIN_FRACTION.scaled(100.0),
+            0,
+        ) {
             set(out, DesignSettings { head_margin_fraction: v / 100.0, ..s.clone() }, "set.margin");
         }
-        if let Some(v) =
-            fs.number(ui, "set.minvalve", "Min. valve Δp", "kPa", s.min_valve_dp_pa / 1000.0, (0.0, 50.0), 1)
-        {
+        if let Some(v) = fs.number(
+            ui,
+            "set.minvalve",
+            "Min. valve Δp",
+            "kPa",
+            s.min_valve_dp_pa / 1000.0,
+            L::MIN_VALVE_DP_PA.scaled(1e-3),
+            1,
+        ) {
             set(out, DesignSettings { min_valve_dp_pa: v * 1000.0, ..s.clone() }, "set.minvalve");
+        }
+        if let Some(v) = fs.number(
+            ui,
+            "set.tolerance",
+            "Flow tolerance (±)",
+            "%",
+            s.flow_tolerance_fraction * 100.0,
+            L::FLOW_TOLERANCE_FRACTION.scaled(100.0),
+            0,
+        ) {
+            set(out, DesignSettings { flow_tolerance_fraction: v / 100.0, ..s.clone() }, "set.tolerance");
+        }
+        if let Some(v) = fs.number(
+            ui,
+            "set.hotreturn",
+            "Hot-return margin",
+            "K",
+            s.hot_return_margin_k,
+            L::HOT_RETURN_MARGIN_K.scaled(1.0),
+            1,
+        ) {
+            set(out, DesignSettings { hot_return_margin_k: v, ..s.clone() }, "set.hotreturn");
         }
         let all_series = pipes::builtin_series().unwrap_or_default();
         for class in PipeClass::ALL {

@@ -368,6 +368,7 @@ impl Derivation<'_> {
             dp_own_rest_pa: own_rest,
             density_kg_m3: c.rho_mean,
             tolerance_fraction: s.flow_tolerance_fraction,
+            authority_dp_pa: valves::AUTHORITY_WARN_BELOW * c.available_pa,
         };
         let valve_step = |label: &str| family.settings.iter().position(|st| st.label == label);
         let lock_step = |label: &str| set.lockshield.and_then(|l| l.settings.iter().position(|st| st.label == label));
@@ -623,7 +624,10 @@ impl Derivation<'_> {
         let z_src = dn.elevation_m(source);
         let z_max = p.nodes().map(|n| dn.elevation_m(n.id)).fold(z_src, f64::max);
         let static_height = s.static_height_m.unwrap_or(z_max - z_src + 1.0);
-        let mut input = vessel::VesselInput::new(sol.water_volume_l, s.supply_c, static_height, s.safety_valve_bar);
+        // Sized for the highest flow temperature the source can reach, not
+        // the design supply: the water expands that far.
+        let max_flow_c = src.max_flow_temperature_c(s.supply_c);
+        let mut input = vessel::VesselInput::new(sol.water_volume_l, max_flow_c, static_height, s.safety_valve_bar);
         input.fill_temperature_c = s.fill_temperature_c;
         match vessel::size_expansion_vessel(&input) {
             Ok(v) => sol.vessel = Some(v),

@@ -99,6 +99,7 @@ impl Derivation<'_> {
                 dp_own_rest_pa: own,
                 density_kg_m3: rho_mean,
                 tolerance_fraction: s.flow_tolerance_fraction,
+                authority_dp_pa: valves::AUTHORITY_WARN_BELOW * self.available_pa,
             };
             let Ok(t) = valves::choose_trim(valve, lock, &need) else { continue };
             let same = valve.settings[t.valve_index].label == r.presetting

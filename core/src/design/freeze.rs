@@ -10,7 +10,7 @@ use super::results::{Side, Solution};
 
 /// The edit that freezes a solved design into the project and switches to
 /// installed mode: every run gets its supply pipe's size as a fixed size,
-/// every emitter its presetting, every radiator to size its chosen size
+/// every emitter its presetting and lockshield setting, every radiator to size its chosen size
 /// ([`RadiatorSizing::Chosen`], which keeps its design
 /// flow), a controlled pump its duty head as set-point.
 #[must_use]
@@ -32,6 +32,9 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> Edit {
         let mut frozen = em.clone();
         if !(e.presetting == "—" || e.presetting.is_empty()) {
             frozen.valves.presetting = Some(e.presetting.clone());
+            if !e.lockshield.is_empty() {
+                frozen.valves.lockshield_setting = Some(e.lockshield.clone());
+            }
         }
         if let (EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(d))) = (&mut frozen.model, &e.detail)
             && spec.sizing == RadiatorSizing::ToSize
@@ -80,6 +83,7 @@ pub fn thaw_edit(p: &Project) -> Edit {
             NodeKind::Emitter(em) => {
                 let mut thawed = em.clone();
                 thawed.valves.presetting = None;
+                thawed.valves.lockshield_setting = None;
                 if let EmitterModel::Radiator(spec) = &mut thawed.model
                     && matches!(spec.sizing, RadiatorSizing::Chosen { .. })
                 {

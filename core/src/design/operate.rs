@@ -11,7 +11,7 @@ use super::findings;
 use super::results::{LinkRole, Side, Solution};
 use super::state::Derivation;
 use super::{SolveOptions, Workspace};
-use crate::friction::{friction_gradient_pa_m, pipe_dp};
+use crate::friction::{FrictionLaw, friction_gradient_pa_m, pipe_dp};
 use crate::network::solver::{self, SolverWorkspace};
 use crate::network::{HydLink, HydraulicNetwork, LinkLaw};
 use crate::project::{Mode, NodeId, Project};
@@ -39,6 +39,15 @@ impl Derivation<'_> {
     pub(super) fn operate(&mut self, p: &Project, opts: &SolveOptions, ws: &mut Workspace, sol: &mut Solution) {
         if sol.pump.is_none() || sol.emitters.is_empty() {
             return;
+        }
+        // The design sized and balanced with the conservative friction law;
+        // the network operates on the continuous one (smooth for Newton).
+        for k in &mut self.net.links {
+            if let LinkLaw::Pipe(h) = &mut k.law
+                && h.friction_law == FrictionLaw::ColebrookWhiteConservative
+            {
+                h.friction_law = FrictionLaw::ColebrookWhite;
+            }
         }
         let same_topology = ws.last_roles == self.roles && ws.last_flows.len() == self.net.links.len();
         if !same_topology {

@@ -14,7 +14,7 @@ use super::results::Side;
 use super::state::Derivation;
 use super::topology::Dense;
 use crate::fittings;
-use crate::friction::{PipeHydraulics, friction_gradient_pa_m};
+use crate::friction::{FrictionLaw, PipeHydraulics, friction_gradient_pa_m};
 use crate::network::LinkLaw;
 use crate::pipes::{self, PipeSeries};
 use crate::project::{NodeKind, Project, RunId};
@@ -56,7 +56,9 @@ impl PartialEq for SizeInputs {
 }
 
 /// Smallest size of the series meeting the velocity and friction-gradient
-/// limits; (index, true) or (the largest, false).
+/// limits, the gradient from the design's conservative friction law
+/// ([`FrictionLaw::ColebrookWhiteConservative`]); (index, true) or (the
+/// largest, false).
 #[must_use]
 pub fn choose_size(inputs: &SizeInputs) -> (usize, bool) {
     let SizeInputs { series, mass_flow_kg_s: m, water, velocity_limit_m_s, gradient_limit_pa_m } = *inputs;
@@ -71,6 +73,7 @@ pub fn choose_size(inputs: &SizeInputs) -> (usize, bool) {
         ) else {
             continue;
         };
+        let h = PipeHydraulics { friction_law: FrictionLaw::ColebrookWhiteConservative, ..h };
         if h.velocity_m_s(m).abs() <= velocity_limit_m_s && friction_gradient_pa_m(&h, m) <= gradient_limit_pa_m {
             return (i, true);
         }
@@ -205,7 +208,10 @@ impl Derivation<'_> {
                 props.viscosity_pa_s,
             );
             match law {
-                Ok(h) => self.net.links[pd.link].law = LinkLaw::Pipe(h),
+                Ok(h) => {
+                    let h = PipeHydraulics { friction_law: FrictionLaw::ColebrookWhiteConservative, ..h };
+                    self.net.links[pd.link].law = LinkLaw::Pipe(h);
+                }
                 Err(e) => self.findings.push(findings::pipe_law_invalid(pd.run, &e)),
             }
         }

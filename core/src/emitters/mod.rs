@@ -355,17 +355,15 @@ pub enum BodyHydraulics {
 }
 
 impl BodyHydraulics {
-    /// Quadratic law from a flow coefficient Kv (m³/h at 1 bar):
-    /// Δp in bar = (Q in m³/h / Kv)² with Q = 3600·q_m/ρ, so
-    /// r = 1e5·(3600/(ρ·Kv))².
+    /// Quadratic law from a flow coefficient Kv (m³/h at 1 bar), with the
+    /// density factor of the Kv definition exactly as for the valves
+    /// (IEC 60534-1): Δp = 10⁵·(Q/Kv)²·ρ/ρ₀ with Q = 3600·q_m/ρ, ρ₀ =
+    /// 1000 kg/m³ ([`crate::valves::resistance_r_pa_s2_kg2`]).
     ///
     /// # Errors
-    /// [`PhysicsError`] for a non-positive Kv or density.
+    /// [`PhysicsError`] for a Kv or density out of range.
     pub fn from_kv(kv_m3_h: f64, density_kg_m3: f64) -> PhysicsResult<Self> {
-        check::positive("Kv", kv_m3_h, "m³/h")?;
-        check::positive("water density", density_kg_m3, "kg/m³")?;
-        let k = 3600.0 / (density_kg_m3 * kv_m3_h);
-        Ok(Self::Quadratic { r_pa_s2_kg2: 1e5 * k * k })
+        Ok(Self::Quadratic { r_pa_s2_kg2: crate::valves::resistance_r_pa_s2_kg2(kv_m3_h, density_kg_m3)? })
     }
 
     /// Pressure drop (Pa, sign follows the flow) and its derivative

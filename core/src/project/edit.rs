@@ -141,6 +141,9 @@ pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError>
             if let Some(q) = s.pump.design_flow_m3_h {
                 within(&limits::PUMP_DESIGN_FLOW_M3_H, q)?;
             }
+            if let Some(t) = s.max_flow_c {
+                within(&limits::SOURCE_MAX_FLOW_C, t)?;
+            }
             Ok(())
         }
         NodeKind::Emitter(e) => {

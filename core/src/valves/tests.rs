@@ -62,7 +62,7 @@ fn catalog_loads_and_is_marked_illustrative() {
     for f in all {
         assert!(f.note.contains("illustrative"), "{}", f.id);
     }
-    assert_eq!(families_of_kind(ValveKind::ThermostaticRadiator).unwrap().len(), 2);
+    assert_eq!(families_of_kind(ValveKind::ThermostaticRadiator).unwrap().len(), 3);
     assert_eq!(families_of_kind(ValveKind::Balancing).unwrap().len(), 4);
     assert!(matches!(valve_family("no-such-valve"), Err(PhysicsError::NotFound(_))));
 }
@@ -133,4 +133,80 @@ fn continuous_setting_is_log_linear_and_invertible() {
         let p = continuous_setting_for_kv(f, kv).unwrap();
         assert!(close(kv_at_continuous_setting(f, p).unwrap(), kv, 1e-12), "{kv}");
     }
+}
+
+fn family(id: &str) -> &'static ValveFamily {
+    valve_family(id).unwrap()
+}
+
+/// Two valves in series: 1/Kv² = 1/Kv₁² + 1/Kv₂² (the pressure drops add at
+/// one flow; Kv definition of IEC 60534-1). The trim's pair Kv and the
+/// flow ratio it predicts follow from it: a pair of exactly the needed Kv
+/// gives the design flow.
+#[test]
+fn the_trim_meets_the_tolerance_with_the_lockshield_open_when_it_can() {
+    let valve = family("trv-demo-fine");
+    let lock = family("lockshield-demo");
+    // Needed pair Kv 0.25 m³/h at 10 kPa: Q = 0.25·√0.1 = 0.0791 m³/h.
+    let need = TrimNeed {
+        flow_m3_h: 0.25 * 0.1_f64.sqrt(),
+        dp_pair_pa: 10_000.0,
+        dp_own_rest_pa: 2_000.0,
+        density_kg_m3: 1000.0,
+        tolerance_fraction: 0.10,
+        authority_dp_pa: 0.0,
+    };
+    let t = choose_trim(valve, lock, &need).unwrap();
+    assert_eq!(t.fit, TrimFit::Within);
+    assert!(t.flow_error_fraction.abs() <= 0.10, "{t:?}");
+    assert!((t.pair_kv_needed_m3_h - 0.25).abs() < 1e-12);
+    let pair = 1.0 / (1.0 / t.valve_kv_m3_h.powi(2) + 1.0 / t.lockshield_kv_m3_h.powi(2)).sqrt();
+    assert!((t.pair_kv_m3_h() - pair).abs() < 1e-15);
+    // The predicted error is the in-circuit flow ratio of that pair.
+    let ratio = flow_ratio_in_circuit(pair, 0.25, 10_000.0, 2_000.0).unwrap();
+    assert!((t.flow_error_fraction - (ratio - 1.0)).abs() < 1e-12);
+}
+
+/// A coarse valve whose two nearest steps miss the needed Kv by about ±20 %
+/// alone is brought within the tolerance by throttling the lockshield.
+#[test]
+fn a_coarse_valve_is_trimmed_by_the_lockshield() {
+    let valve = family("trv-demo-8");
+    let lock = family("lockshield-demo");
+    // Needed 0.245: between steps "4" (0.20) and "5" (0.30).
+    let need = TrimNeed {
+        flow_m3_h: 0.245 * 0.1_f64.sqrt(),
+        dp_pair_pa: 10_000.0,
+        dp_own_rest_pa: 0.0,
+        density_kg_m3: 1000.0,
+        tolerance_fraction: 0.05,
+        authority_dp_pa: 0.0,
+    };
+    let alone = choose_setting(valve, 0.245 / (1.0 - (0.245_f64 / 1.70).powi(2)).sqrt()).unwrap();
+    assert!(alone.flow_error_fraction_at_same_dp.abs() > 0.05, "{alone:?}");
+    let t = choose_trim(valve, lock, &need).unwrap();
+    assert_eq!(t.fit, TrimFit::Within, "{t:?}");
+    assert!(t.flow_error_fraction.abs() <= 0.05, "{t:?}");
+    assert!(t.lockshield_index < lock.settings.len() - 1, "the lockshield is throttled: {t:?}");
+}
+
+/// When no pair can, the closest is returned and the fit says why.
+#[test]
+fn a_need_outside_every_pair_is_named() {
+    let valve = family("trv-demo-8");
+    let lock = family("lockshield-demo");
+    let base = TrimNeed {
+        flow_m3_h: 0.0,
+        dp_pair_pa: 10_000.0,
+        dp_own_rest_pa: 0.0,
+        density_kg_m3: 1000.0,
+        tolerance_fraction: 0.10,
+        authority_dp_pa: 0.0,
+    };
+    let big = choose_trim(valve, lock, &TrimNeed { flow_m3_h: 5.0 * 0.1_f64.sqrt(), ..base }).unwrap();
+    assert_eq!(big.fit, TrimFit::AboveLargest);
+    assert!(big.flow_error_fraction < -0.5);
+    let small = choose_trim(valve, lock, &TrimNeed { flow_m3_h: 0.005 * 0.1_f64.sqrt(), ..base }).unwrap();
+    assert_eq!(small.fit, TrimFit::BelowSmallest);
+    assert!(small.flow_error_fraction > 0.5);
 }

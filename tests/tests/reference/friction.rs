@@ -48,6 +48,25 @@ fn colebrook_white_matches_fluids() {
     assert!(worst < 1e-9, "worst relative deviation {worst:e}");
 }
 
+/// Issue 15: in the transition range 2000 < Re < 4000 the design takes the
+/// larger of its interpolation and Colebrook–White, so it is never below
+/// Colebrook–White there (fluids 1.3.1, fluids.friction.Colebrook at Re
+/// 2100–3900, ε/D 0–1e-2), and never below the operating solve's law.
+#[test]
+fn the_design_friction_factor_is_not_below_colebrook_white_in_the_transition() {
+    let data = fixture();
+    let grid = data["transition_colebrook"].as_array().unwrap();
+    assert!(grid.iter().any(|c| (num(c, "re") - 3000.0).abs() < 1e-9), "Re 3000 is in the fixture");
+    for case in grid {
+        let (re, rr, f_cw) = (num(case, "re"), num(case, "rr"), num(case, "f"));
+        let design = flowrise_core::friction::design_friction_factor(re, rr).unwrap();
+        let operating = darcy_friction_factor(re, rr).unwrap();
+        assert!(design >= f_cw * (1.0 - 1e-9), "Re {re} ε/D {rr}: design {design} below Colebrook–White {f_cw}");
+        assert!(design >= operating, "Re {re} ε/D {rr}");
+        assert!(rel(design, f_cw.max(operating)) < 1e-9, "Re {re} ε/D {rr}: the larger of the two");
+    }
+}
+
 #[test]
 fn laminar_is_64_over_re() {
     // Hagen–Poiseuille (textbook, exact for fully developed laminar flow).

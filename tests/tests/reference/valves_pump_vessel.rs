@@ -69,6 +69,22 @@ fn kv_definition_one_bar_at_reference_density() {
     assert!(rel(valves::dp_pa_from_kv(0.5, 1.0, 1000.0).unwrap(), 25_000.0) < 1e-12);
 }
 
+/// Issue 15: an emitter body given by a Kv obeys the same IEC 60534-1 law,
+/// density factor included, as the valves: Δp = 10⁵·(Q/Kv)²·ρ/1000 (at
+/// 977 kg/m³ a body of Kv 1 at 1 m³/h takes 97.7 kPa, not 100 kPa).
+#[test]
+fn an_emitter_body_kv_takes_the_density_factor_of_iec_60534() {
+    use flowrise_core::emitters::BodyHydraulics;
+    for (kv, rho, q_m3_h) in [(1.0, 977.0, 1.0), (0.4, 988.0, 0.12), (2.5, 1000.0, 0.9)] {
+        let body = BodyHydraulics::from_kv(kv, rho).unwrap();
+        let m_kg_s = q_m3_h * rho / 3600.0;
+        let (dp, _) = body.dp_pa(m_kg_s);
+        let iec = 1.0e5 * (q_m3_h / kv) * (q_m3_h / kv) * rho / 1000.0;
+        assert!(rel(dp, iec) < 1e-12, "Kv {kv}, ρ {rho}: {dp} vs {iec}");
+        assert!(rel(dp, valves::dp_pa_from_kv(q_m3_h, kv, rho).unwrap()) < 1e-12);
+    }
+}
+
 #[test]
 fn kv_pressure_drop_matches_fluids() {
     let fx = fixture();
