@@ -309,10 +309,21 @@ pub fn write_sweep_text(
         spec.to_c,
         if spec.frozen_presettings { "presettings frozen" } else { "re-balanced" }
     );
+    out!(
+        s,
+        "a room counts as covered when it gets its load with a water drop of at least {:.1} K, inside the pipes' velocity \
+         and gradient limits and the pump's head",
+        result.min_drop_k
+    );
+    let why = match (result.limiting_constraint, &result.limiting_item) {
+        (Some(c), Some(item)) => format!(" (limit: {} — {item})", c.words()),
+        (Some(c), None) => format!(" (limit: {})", c.words()),
+        (None, _) => String::new(),
+    };
     match (result.lowest_supply_c, &result.limiting_emitter) {
-        (Some(t), Some(e)) => out!(s, "every room covered down to {t:.1} °C; the first room short below it: {e}"),
+        (Some(t), Some(e)) => out!(s, "every room covered down to {t:.1} °C; the first room short below it: {e}{why}"),
         (Some(t), None) => out!(s, "every room covered over the whole range, down to {t:.1} °C"),
-        (None, Some(e)) => out!(s, "a room is short already at {:.1} °C: {e}", spec.from_c),
+        (None, Some(e)) => out!(s, "a room is short already at {:.1} °C: {e}{why}", spec.from_c),
         (None, None) => out!(s, "no point of the sweep could be designed"),
     }
     if result.upgrades.is_empty() {
@@ -320,9 +331,9 @@ pub fn write_sweep_text(
     } else {
         out!(
             s,
-            "upgrades to cover every room at {:.1} °C supply (θr = θs − {:.0} K):",
+            "upgrades to cover every room at {:.1} °C supply (θr = θs − {:.1} K):",
             result.target_c,
-            crate::sweep::UPGRADE_DELTA_K
+            result.min_drop_k
         );
         for u in &result.upgrades {
             out!(

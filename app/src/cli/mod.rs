@@ -57,6 +57,9 @@ enum Command {
         /// Size upgrades for this supply temperature, °C (default: --to).
         #[arg(long)]
         target: Option<f64>,
+        /// Smallest water temperature drop an emitter may run at, K (5 K: heat pump, common practice).
+        #[arg(long, default_value_t = flowrise_core::sweep::UPGRADE_DELTA_K)]
+        min_drop: f64,
         /// Keep the design's presettings and pump set-point instead of re-balancing.
         #[arg(long)]
         frozen: bool,
@@ -143,13 +146,14 @@ pub fn main() -> ExitCode {
         Some(Command::Generate(args)) => perf::generate(&args),
         Some(Command::ExportNetwork(args)) => perf::export_network(&args),
         Some(Command::BenchSolve(args)) => perf::bench_solve(&args),
-        Some(Command::Sweep { file, from, to, step, target, frozen, json, csv }) => {
+        Some(Command::Sweep { file, from, to, step, target, min_drop, frozen, json, csv }) => {
             let spec = flowrise_core::sweep::SweepSpec {
                 from_c: from,
                 to_c: to,
                 step_k: step,
                 frozen_presettings: frozen,
                 target_c: target,
+                min_drop_k: min_drop,
             };
             studies::run_sweep(&file, &spec, json, csv.as_deref())
         }

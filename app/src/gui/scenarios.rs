@@ -29,7 +29,14 @@ pub struct ScenarioState {
 impl Default for ScenarioState {
     fn default() -> Self {
         Self {
-            spec: SweepSpec { from_c: 75.0, to_c: 35.0, step_k: 1.0, frozen_presettings: false, target_c: Some(45.0) },
+            spec: SweepSpec {
+                from_c: 75.0,
+                to_c: 35.0,
+                step_k: 1.0,
+                frozen_presettings: false,
+                target_c: Some(45.0),
+                min_drop_k: flowrise_core::sweep::UPGRADE_DELTA_K,
+            },
             sweep: None,
             closed_fraction: 0.5,
             seed: 1,

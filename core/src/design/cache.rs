@@ -344,7 +344,7 @@ mod tests {
             sizing: RadiatorSizing::Existing { nominal_output_w: 1500.0, length_mm: 1000 },
             exponent_n: None,
         };
-        (EmitterModel::Radiator(spec), DesignTemperatures { supply_c: 70.0, return_c: 55.0, room_c: 20.0 })
+        (EmitterModel::Radiator(spec), DesignTemperatures::new(70.0, 55.0, 20.0))
     }
 
     #[test]

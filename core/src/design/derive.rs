@@ -122,7 +122,10 @@ impl Derivation<'_> {
             let NodeKind::Emitter(em) = &node.kind else { continue };
             let z = dn.elevation_m(e);
             let (ns, nm, nr) = (self.add_node(z), self.add_node(z), self.add_node(z));
-            let temps = DesignTemperatures { supply_c: s.supply_c, return_c: s.return_c, room_c: em.room_c };
+            let temps = DesignTemperatures {
+                min_drop_k: s.min_water_drop_k,
+                ..DesignTemperatures::new(s.supply_c, s.return_c, em.room_c)
+            };
             let design = if em.load_w <= 0.0 {
                 self.findings.push(findings::zero_load(node));
                 None

@@ -223,13 +223,32 @@ pub trait Characteristic {
     /// [`PhysicsError`] for a non-finite or negative load, or the
     /// temperatures rejected by [`lmtd_k`].
     fn return_temp_for_load(&self, load_w: f64, supply_c: f64, room_c: f64) -> PhysicsResult<CheckOutcome> {
+        self.return_temp_for_load_min_drop(load_w, supply_c, room_c, MIN_WATER_DELTA_K)
+    }
+
+    /// [`Characteristic::return_temp_for_load`] with the flow capped where
+    /// the water cools by `min_drop_k` (K; e.g. 5 K for a heat pump, common
+    /// practice) instead of [`MIN_WATER_DELTA_K`]: a load the emitter could
+    /// only meet at a smaller drop is a shortfall at the cap.
+    ///
+    /// # Errors
+    /// As [`Characteristic::return_temp_for_load`]; a drop that is not
+    /// positive and finite too.
+    fn return_temp_for_load_min_drop(
+        &self,
+        load_w: f64,
+        supply_c: f64,
+        room_c: f64,
+        min_drop_k: f64,
+    ) -> PhysicsResult<CheckOutcome> {
         check::non_negative("heat load", load_w, "W")?;
+        check::positive("minimum water temperature drop", min_drop_k, "K")?;
         check_supply_room(supply_c, room_c)?;
         let a = supply_c - room_c;
         if load_w == 0.0 {
             return Ok(CheckOutcome::Meets { return_c: room_c, mass_flow_kg_s: 0.0, output_w: 0.0 });
         }
-        let delta_cap_k = MIN_WATER_DELTA_K.min(0.5 * a);
+        let delta_cap_k = min_drop_k.min(0.5 * a);
         let lmtd_cap_k = lmtd_unchecked(a, a - delta_cap_k);
         let lmtd_target_k = self.lmtd_for_output_k(load_w);
         if !lmtd_target_k.is_finite() || lmtd_target_k > lmtd_cap_k {
@@ -400,6 +419,18 @@ pub struct DesignTemperatures {
     pub return_c: f64,
     /// Room temperature, °C.
     pub room_c: f64,
+    /// Smallest water temperature drop an emitter that is checked (not
+    /// sized) may use, K: its flow cap ([`MIN_WATER_DELTA_K`] by default,
+    /// more for a heat pump's retrofit question).
+    pub min_drop_k: f64,
+}
+
+impl DesignTemperatures {
+    /// Supply, return and room temperatures, °C, with the default flow cap.
+    #[must_use]
+    pub const fn new(supply_c: f64, return_c: f64, room_c: f64) -> Self {
+        Self { supply_c, return_c, room_c, min_drop_k: MIN_WATER_DELTA_K }
+    }
 }
 
 /// A concrete emitter for the operating solve: known characteristic, body
@@ -545,7 +576,8 @@ impl EmitterModel {
             }
             Self::Terminal(spec) => {
                 let rating = spec.rating()?;
-                let outcome = rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?;
+                let outcome =
+                    rating.return_temp_for_load_min_drop(load_w, temps.supply_c, temps.room_c, temps.min_drop_k)?;
                 let mean_c = 0.5 * (temps.supply_c + outcome.return_c());
                 let density = water::density_kg_m3(mean_c.max(MIN_TEMPERATURE_C))?;
                 let installed = InstalledEmitter {

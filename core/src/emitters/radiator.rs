@@ -367,7 +367,8 @@ pub(super) fn design(spec: &RadiatorSpec, load_w: f64, temps: &DesignTemperature
     let (nominal_output_w, length_mm, fits_catalog, outcome) = match spec.sizing {
         RadiatorSizing::Existing { nominal_output_w, length_mm } => {
             let rating = RadiatorRating::new(nominal_output_w, exponent_n)?;
-            let outcome = rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?;
+            let outcome =
+                rating.return_temp_for_load_min_drop(load_w, temps.supply_c, temps.room_c, temps.min_drop_k)?;
             (nominal_output_w, length_mm, true, outcome)
         }
         RadiatorSizing::Chosen { nominal_output_w, length_mm } => {
@@ -377,7 +378,7 @@ pub(super) fn design(spec: &RadiatorSpec, load_w: f64, temps: &DesignTemperature
             let covers = nominal_output_w >= required * (1.0 - 1e-9);
             let outcome = match design_drop_outcome(load_w, temps)? {
                 Some(meets) if covers => meets,
-                _ => rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?,
+                _ => rating.return_temp_for_load_min_drop(load_w, temps.supply_c, temps.room_c, temps.min_drop_k)?,
             };
             (nominal_output_w, length_mm, true, outcome)
         }
@@ -397,7 +398,7 @@ pub(super) fn design(spec: &RadiatorSpec, load_w: f64, temps: &DesignTemperature
             let rating = RadiatorRating::new(nominal, exponent_n)?;
             let outcome = match design_drop_outcome(load_w, temps)? {
                 Some(meets) if fits => meets,
-                _ => rating.return_temp_for_load(load_w, temps.supply_c, temps.room_c)?,
+                _ => rating.return_temp_for_load_min_drop(load_w, temps.supply_c, temps.room_c, temps.min_drop_k)?,
             };
             (nominal, length_mm, fits, outcome)
         }
@@ -500,7 +501,7 @@ mod tests {
 
         let spec =
             RadiatorSpec { type_code: "22".into(), height_mm: 600, sizing: RadiatorSizing::ToSize, exponent_n: None };
-        let temps = DesignTemperatures { supply_c: 55.0, return_c: 45.0, room_c: 20.0 };
+        let temps = DesignTemperatures::new(55.0, 45.0, 20.0);
         let d = EmitterModel::Radiator(spec).design(1200.0, &temps).unwrap();
         let EmitterDetail::Radiator(r) = &d.detail else { panic!("radiator detail") };
         assert!(r.fits_catalog && r.nominal_output_w >= r.required_nominal_w);

@@ -59,7 +59,7 @@ fn model_round_trips_through_ron() {
 
 #[test]
 fn existing_radiator_design_checks_and_freezes() {
-    let temps = DesignTemperatures { supply_c: 45.0, return_c: 35.0, room_c: 20.0 };
+    let temps = DesignTemperatures::new(45.0, 35.0, 20.0);
     let existing = EmitterModel::Radiator(RadiatorSpec {
         type_code: "11".into(),
         height_mm: 600,

@@ -110,6 +110,8 @@ pub const SAFETY_VALVE_BAR: Limit = Limit::new("safety valve pressure", "bar", 1
 pub const FLOW_TOLERANCE_FRACTION: Limit = Limit::new("flow tolerance", "", 0.01, 0.5);
 /// Margin of a hot return above the design return, K.
 pub const HOT_RETURN_MARGIN_K: Limit = Limit::new("hot-return margin", "K", 0.5, 20.0);
+/// Smallest water temperature drop of a checked emitter, K.
+pub const MIN_WATER_DROP_K: Limit = Limit::new("minimum water temperature drop", "K", 0.5, 20.0);
 /// Highest flow temperature a source can deliver, °C.
 pub const SOURCE_MAX_FLOW_C: Limit = Limit::new("maximum flow temperature", "°C", 20.0, 110.0);
 

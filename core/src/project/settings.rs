@@ -134,6 +134,11 @@ pub struct DesignSettings {
     /// it is a finding, K (default 3 K: common practice; a hot return is
     /// an emitter oversupplied or throttled only by its valve).
     pub hot_return_margin_k: f64,
+    /// Smallest water temperature drop an existing (checked) emitter may
+    /// run at, K: its flow cap. Default 1 K ([`crate::emitters::MIN_WATER_DELTA_K`],
+    /// the practical cap of any emitter); the supply-temperature sweep sets
+    /// its own (5 K for a heat pump, common practice).
+    pub min_water_drop_k: f64,
 }
 
 impl Default for DesignSettings {
@@ -160,6 +165,7 @@ impl Default for DesignSettings {
             safety_valve_bar: 3.0,
             flow_tolerance_fraction: 0.10,
             hot_return_margin_k: 3.0,
+            min_water_drop_k: crate::emitters::MIN_WATER_DELTA_K,
         }
     }
 }
@@ -228,6 +234,9 @@ impl DesignSettings {
         }
         if !limits::FLOW_TOLERANCE_FRACTION.contains(self.flow_tolerance_fraction) {
             bad("flow tolerance", format!("±{} % is outside ±1 to ±50 %", self.flow_tolerance_fraction * 100.0));
+        }
+        if !limits::MIN_WATER_DROP_K.contains(self.min_water_drop_k) {
+            bad("minimum water temperature drop", outside(&limits::MIN_WATER_DROP_K, self.min_water_drop_k));
         }
         if !limits::HOT_RETURN_MARGIN_K.contains(self.hot_return_margin_k) {
             bad("hot-return margin", outside(&limits::HOT_RETURN_MARGIN_K, self.hot_return_margin_k));

@@ -129,7 +129,7 @@ fn design_flow_of_a_radiator_to_size_matches_iapws() {
         sizing: RadiatorSizing::ToSize,
         exponent_n: None,
     });
-    let temps = DesignTemperatures { supply_c: row.supply_c, return_c: row.return_c, room_c: 20.0 };
+    let temps = DesignTemperatures::new(row.supply_c, row.return_c, 20.0);
     let q = model.design_flow_kg_s(row.load_w, &temps).unwrap();
     assert!(rel(q, row.mass_flow_kg_s) < 1e-4, "{q} vs {}", row.mass_flow_kg_s);
 }
