@@ -177,3 +177,20 @@ fn cli_writes_through_a_symlinked_output() {
     assert!(std::fs::read_to_string(dir.join("parts-real.csv")).unwrap().starts_with("category,"));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Issue 15: `flowrise commissioning FILE -o schedule.csv` lists every
+/// emitter's valve and lockshield with setting, design flow and Δp.
+#[test]
+fn cli_writes_the_commissioning_schedule() {
+    let dir = scratch("commissioning");
+    let out = dir.join("schedule.csv");
+    let demo = &demo_paths()[1];
+    let run = flowrise().arg("commissioning").arg(demo).arg("-o").arg(&out).output().unwrap();
+    assert_eq!(run.status.code(), Some(0), "{}", String::from_utf8_lossy(&run.stderr));
+    let text = std::fs::read_to_string(&out).unwrap();
+    let p = flowrise_core::project::Project::load(demo).unwrap();
+    assert_eq!(text.lines().count(), 1 + 2 * p.emitters().len(), "{text}");
+    assert!(text.starts_with("level,item,name,device,family,setting,kv_m3_h,design_flow_l_h,dp_kpa"));
+    assert!(text.contains(",lockshield,") && text.contains(",valve,"));
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -9,6 +9,7 @@
 //! Nothing here depends on a GUI; everything the app shows can be computed
 //! from a project file.
 
+pub mod commissioning;
 pub mod csv_cell;
 pub mod design;
 pub mod emitters;

@@ -282,8 +282,8 @@ pub fn parts_list(p: &Project, sol: &Solution, opts: &PartsOptions) -> PhysicsRe
             .to_owned(),
         "Expansion vessel: the first common nominal size (8 … 300 l, common practice) not below the EN 12828 minimum."
             .to_owned(),
-        "The layout has no balancing valves (flowrise places none on branches); emitter valves are listed with their \
-         presetting, lockshields set fully open as designed."
+        "Emitter valves are listed with their presetting and lockshields with their setting, chosen together so each \
+         room gets its design flow; the commissioning schedule lists what to set and the Δp to expect."
             .to_owned(),
         "Insulation thickness follows the local energy code; lengths cover supply and return.".to_owned(),
         "Not included: pipe supports and clips, fixing material, air vents, drains, safety valve, strainers, controls."

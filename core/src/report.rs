@@ -106,6 +106,7 @@ pub fn report_html_with(p: &Project, sol: &Solution, parts: &PartsList, studies:
     pump_section(&mut h, sol);
     vessel_section(&mut h, sol);
     parts_section(&mut h, parts);
+    commissioning_section(&mut h, p, sol);
     studies_section(&mut h, p, studies);
     methods(&mut h, p, parts);
     cautions(&mut h);
@@ -243,13 +244,16 @@ fn emitter_kind(p: &Project, sol_detail: Option<&EmitterDetail>, id: crate::proj
 }
 
 fn emitters_table(h: &mut String, p: &Project, sol: &Solution) {
-    h.push_str(
+    w!(
+        h,
         "<section id=\"emitters\" class=\"page\"><h2>4 Emitters and circuits</h2><p class=\"muted\">Circuit Δp: source → emitter → source with the \
-         valve fully open. Valve Δp: what the valve absorbs at design flow. Authority: valve Δp / pump head available. \
-         Flow and output: operating solve. The index circuit is shaded.</p>\
+         valve fully open. Valve Δp: across the valve at its presetting at design flow; the lockshield is set with it \
+         (its last step is fully open). Authority: valve Δp / pump head available. Flow and output: operating solve, its \
+         deviation from design within ±{tol:.0} % unless a finding says otherwise. The index circuit is shaded.</p>\
          <table class=\"emitters\"><thead><tr><th>id</th><th>name</th><th>level</th><th>emitter</th><th class=\"n\">load<br>W</th>\
          <th class=\"n\">design<br>l/h</th><th class=\"n\">return<br>°C</th><th class=\"n\">circuit<br>Δp kPa</th><th class=\"n\">valve<br>Δp kPa</th>\
-         <th class=\"n\">pre-<br>set</th><th class=\"n\">Kv<br>m³/h</th><th class=\"n\">auth-<br>ority</th><th class=\"n\">flow<br>l/h</th><th class=\"n\">output<br>W</th></tr></thead><tbody>",
+         <th class=\"n\">pre-<br>set</th><th class=\"n\">Kv<br>m³/h</th><th class=\"n\">lock-<br>shield</th><th class=\"n\">auth-<br>ority</th><th class=\"n\">flow<br>l/h</th><th class=\"n\">dev.<br>%</th><th class=\"n\">output<br>W</th></tr></thead><tbody>",
+        tol = p.settings.flow_tolerance_fraction * 100.0,
     );
     for e in &sol.emitters {
         let class = if sol.index_emitter == Some(e.id) { " class=\"index\"" } else { "" };
@@ -257,7 +261,7 @@ fn emitters_table(h: &mut String, p: &Project, sol: &Solution) {
             h,
             "<tr data-emitter=\"{}\"{class}><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td class=\"n\">{:.0}</td><td class=\"n\">{:.1}</td>\
              <td class=\"n\">{:.1}</td><td class=\"n\">{:.2}</td><td class=\"n\">{:.2}</td><td class=\"n\">{}</td><td class=\"n\">{:.3}</td>\
-             <td class=\"n\">{:.2}</td><td class=\"n\">{:.1}</td><td class=\"n\">{:.0}</td></tr>",
+             <td class=\"n\">{}</td><td class=\"n\">{:.2}</td><td class=\"n\">{:.1}</td><td class=\"n\">{:+.1}</td><td class=\"n\">{:.0}</td></tr>",
             e.id,
             e.id,
             esc(&e.name),
@@ -270,8 +274,10 @@ fn emitters_table(h: &mut String, p: &Project, sol: &Solution) {
             e.valve_dp_pa / 1000.0,
             esc(&e.presetting),
             e.valve_kv_m3_h,
+            esc(&e.lockshield),
             e.authority,
             e.flow_l_h,
+            e.flow_deviation * 100.0,
             e.output_w
         );
     }
@@ -418,6 +424,36 @@ fn vessel_section(h: &mut String, sol: &Solution) {
     h.push_str("</ul></div></div></section>\n");
 }
 
+fn commissioning_section(h: &mut String, p: &Project, sol: &Solution) {
+    let lines = crate::commissioning::schedule(p, sol);
+    h.push_str(
+        "<section id=\"commissioning\" class=\"page\"><h2>10 Commissioning schedule</h2><p class=\"muted\">Per valve: the \
+         setting to set, the design flow through it and the Δp expected across it at that flow (IEC 60534 Kv law) — what \
+         the commissioning engineer measures. Written as CSV by <code>flowrise commissioning FILE -o schedule.csv</code>.</p>\
+         <table class=\"commissioning\"><thead><tr><th>level</th><th>item</th><th>name</th><th>device</th><th>family</th>\
+         <th class=\"n\">setting</th><th class=\"n\">Kv<br>m³/h</th><th class=\"n\">design<br>l/h</th><th class=\"n\">Δp<br>kPa</th></tr></thead><tbody>",
+    );
+    for l in &lines {
+        w!(
+            h,
+            "<tr data-valve=\"{}-{}\"><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td class=\"n\">{}</td>\
+             <td class=\"n\">{:.3}</td><td class=\"n\">{:.1}</td><td class=\"n\">{:.2}</td></tr>",
+            esc(&l.item),
+            l.device.label(),
+            esc(&l.level),
+            esc(&l.item),
+            esc(&l.name),
+            l.device.label(),
+            esc(&l.family),
+            esc(&l.setting),
+            l.kv_m3_h,
+            l.design_flow_l_h,
+            l.dp_kpa
+        );
+    }
+    h.push_str("</tbody></table></section>\n");
+}
+
 fn parts_section(h: &mut String, parts: &PartsList) {
     w!(
         h,
@@ -450,7 +486,7 @@ fn parts_section(h: &mut String, parts: &PartsList) {
 }
 
 fn methods(h: &mut String, p: &Project, parts: &PartsList) {
-    h.push_str("<section id=\"methods\"><h2>11 Assumptions, methods and sources</h2><dl class=\"methods\">");
+    h.push_str("<section id=\"methods\"><h2>12 Assumptions, methods and sources</h2><dl class=\"methods\">");
     let items: [(&str, String); 14] = [
         (
             "Water properties",
@@ -554,7 +590,7 @@ fn methods(h: &mut String, p: &Project, parts: &PartsList) {
 
 fn cautions(h: &mut String) {
     h.push_str(
-        "<section id=\"cautions\"><h2>12 Cautions</h2><ul>\
+        "<section id=\"cautions\"><h2>13 Cautions</h2><ul>\
          <li>The results are design aids. They support an engineer's design; they do not certify it.</li>\
          <li>Pressures, temperatures, safety devices (safety valve, expansion vessel, temperature limiters) and materials \
          must follow the local codes and licensed practice — EN 12828 in Europe or the local equivalent.</li>\
@@ -566,18 +602,30 @@ fn cautions(h: &mut String) {
     );
 }
 
-/// Section 10: the supply-temperature sweep and the part-load cases.
+/// Section 11: the supply-temperature sweep and the part-load cases.
 fn studies_section(h: &mut String, p: &Project, studies: Studies<'_>) {
-    h.push_str("<section id=\"studies\"><h2>10 Supply-temperature sweep and part load</h2>");
+    h.push_str("<section id=\"studies\"><h2>11 Supply-temperature sweep and part load</h2>");
     match studies.sweep {
         None => h.push_str("<p class=\"muted\">Sweep not included (run it with <code>flowrise report --studies</code> or from the window).</p>"),
         Some(r) => {
+            let why = match (r.limiting_constraint, &r.limiting_item) {
+                (Some(c), Some(item)) => format!(" (limit: {} — {})", c.words(), esc(item)),
+                (Some(c), None) => format!(" (limit: {})", c.words()),
+                (None, _) => String::new(),
+            };
             let verdict = match (r.lowest_supply_c, &r.limiting_emitter) {
-                (Some(t), Some(e)) => format!("Every room is covered down to {t:.1} °C supply; {} falls short first below it.", esc(e)),
+                (Some(t), Some(e)) => format!("Every room is covered down to {t:.1} °C supply; {} falls short first below it{why}.", esc(e)),
                 (Some(t), None) => format!("Every room is covered over the whole range, down to {t:.1} °C."),
-                (None, Some(e)) => format!("{} is short already at the top of the range.", esc(e)),
+                (None, Some(e)) => format!("{} is short already at the top of the range{why}.", esc(e)),
                 (None, None) => "No point of the sweep could be designed.".to_owned(),
             };
+            w!(
+                h,
+                "<p class=\"muted\">A room counts as covered when it gets its load with a water drop of at least {:.1} K \
+                 (common practice for a heat pump), every pipe inside its velocity and gradient limits and the pump giving the \
+                 head the index circuit needs.</p>",
+                r.min_drop_k
+            );
             w!(h, "<p class=\"sweep-verdict\">{verdict}</p>");
             w!(h, "<table class=\"sweep\"><thead><tr><th>supply °C</th>");
             let ids: Vec<&str> = r.points.first().map(|pt| pt.emitters.iter().map(|e| e.id.as_str()).collect()).unwrap_or_default();
@@ -603,7 +651,7 @@ fn studies_section(h: &mut String, p: &Project, studies: Studies<'_>) {
                      <table class=\"upgrades\"><thead><tr><th>emitter</th><th>nominal now W</th><th>needed W</th></tr></thead><tbody>",
                     r.target_c,
                     r.target_c,
-                    crate::sweep::UPGRADE_DELTA_K
+                    r.min_drop_k
                 );
                 for u in &r.upgrades {
                     w!(h, "<tr data-upgrade=\"{}\"><td>{} ({})</td><td>{:.0}</td><td>{:.0}</td></tr>", esc(&u.id), esc(&u.name), esc(&u.id), u.current_nominal_w, u.needed_nominal_w);

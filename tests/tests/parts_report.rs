@@ -425,6 +425,7 @@ fn assert_structure(d: &Demo, html: &str, what: &str) {
         "pump",
         "vessel",
         "parts",
+        "commissioning",
         "methods",
         "cautions",
     ] {

@@ -17,10 +17,13 @@ pub enum Export {
     Report,
     /// The design report with the sweep and part-load studies.
     ReportWithStudies,
+    /// The commissioning schedule (CSV).
+    Commissioning,
 }
 
-/// `flowrise parts` / `flowrise report`: solve, then write the parts CSV or
-/// the HTML report (stdout without `-o`). An invalid file or a design with
+/// `flowrise parts` / `flowrise report` / `flowrise commissioning`: solve,
+/// then write the parts CSV, the HTML report or the commissioning schedule
+/// CSV (stdout without `-o`). An invalid file or a design with
 /// errors writes nothing and exits 2 with the errors on stderr.
 pub fn export(file: &Path, output: Option<&Path>, what: Export) -> ExitCode {
     if let Some(out) = output
@@ -54,6 +57,16 @@ pub fn export(file: &Path, output: Option<&Path>, what: Export) -> ExitCode {
             }
         },
         Export::Report => flowrise_core::report::report_html(&project, &sol, &parts),
+        Export::Commissioning => {
+            let lines = flowrise_core::commissioning::schedule(&project, &sol);
+            match flowrise_core::commissioning::schedule_csv(&lines) {
+                Ok(t) => t,
+                Err(e) => {
+                    eprintln!("flowrise: {e}");
+                    return ExitCode::FAILURE;
+                }
+            }
+        }
         Export::ReportWithStudies => {
             use flowrise_core::sweep;
             let sweep_result =

@@ -112,6 +112,14 @@ enum Command {
         #[arg(short, long)]
         output: Option<PathBuf>,
     },
+    /// Write the commissioning schedule as CSV: per valve its setting, design flow and expected Δp (stdout without -o).
+    Commissioning {
+        /// Project file (.ron).
+        file: PathBuf,
+        /// Output file (.csv).
+        #[arg(short, long)]
+        output: Option<PathBuf>,
+    },
     /// Write the design report as one self-contained HTML file (stdout without -o).
     Report {
         /// Project file (.ron).
@@ -139,6 +147,9 @@ pub fn main() -> ExitCode {
     match cli.command {
         Some(Command::Solve { file, json, installed, close }) => solve::solve(&file, json, installed, &close),
         Some(Command::Parts { file, output }) => export::export(&file, output.as_deref(), export::Export::Parts),
+        Some(Command::Commissioning { file, output }) => {
+            export::export(&file, output.as_deref(), export::Export::Commissioning)
+        }
         Some(Command::Report { file, output, studies }) => {
             let what = if studies { export::Export::ReportWithStudies } else { export::Export::Report };
             export::export(&file, output.as_deref(), what)

@@ -290,22 +290,15 @@ pub(super) fn valve_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
             1.0,
             &serves,
         );
-        let (name, size, open) = valves::valve_family(&em.valves.lockshield_family).map_or_else(
-            |_| (em.valves.lockshield_family.clone(), String::new(), String::new()),
-            |f| {
-                let open = f
-                    .settings
-                    .last()
-                    .filter(|s| !s.label.eq_ignore_ascii_case("open"))
-                    .map_or_else(String::new, |s| format!(" (setting {})", s.label));
-                (f.name.clone(), format!("DN{}", f.connection_dn), open)
-            },
+        let (name, size) = valves::valve_family(&em.valves.lockshield_family).map_or_else(
+            |_| (em.valves.lockshield_family.clone(), String::new()),
+            |f| (f.name.clone(), format!("DN{}", f.connection_dn)),
         );
         acc.add(
             PartCategory::Valve,
             name,
             size,
-            format!("lockshield, fully open{open} as designed"),
+            format!("lockshield, setting {} (Kv {:.3} m³/h)", e.lockshield, e.lockshield_kv_m3_h),
             PartUnit::Piece,
             1.0,
             &serves,
