@@ -94,7 +94,7 @@ pub fn schedule(p: &Project, sol: &Solution) -> Vec<ScheduleLine> {
     // Emitters come in id order; a level's lines together, in the order
     // the levels are listed.
     let level_rank = |name: &str| p.levels.iter().position(|l| l.name == name).unwrap_or(usize::MAX);
-    out.sort_by(|a, b| level_rank(&a.level).cmp(&level_rank(&b.level)));
+    out.sort_by_key(|l| level_rank(&l.level));
     out
 }
 
