@@ -16,6 +16,7 @@ use egui_kittest::kittest::Queryable;
 use flowrise::gui::canvas::tools;
 use flowrise::gui::recovery::RecoveryConfig;
 use flowrise::gui::{FlowriseApp, Selection};
+use flowrise_core::design::FindingKind;
 use flowrise_core::project::{Edit, LevelId, NodeId, NodeKind, PlanPoint, Project};
 
 const APARTMENT: &str = include_str!("../../demo-projects/apartment-block-heat-pump.ron");
@@ -581,4 +582,60 @@ fn recovered_work_saves_to_its_own_file_from_any_folder() {
 
     std::env::set_current_dir(start_dir).unwrap();
     std::fs::remove_dir_all(&root).ok();
+}
+
+/// Issue 15: a value the window shows in warning colour always has a
+/// finding behind it, and the inspector shows the lockshield setting. On
+/// the flat demo (no findings) no emitter shows a shortfall even where its
+/// output lies a few watts under its load; raising a load in Installed mode
+/// makes that room's flow fall outside the tolerance: the inspector marks
+/// it, and the findings panel names it.
+#[test]
+fn a_warning_colour_always_has_a_finding_and_the_lockshield_is_shown() {
+    // The apartment block has rooms a few watts under their load, inside
+    // the flow tolerance: no finding, so no warning colour.
+    let mut h = harness(demo(APARTMENT));
+    let sol = h.state().solution().clone();
+    assert!(sol.emitters.iter().any(|e| e.output_w + 1.0 < e.load_w), "a room a little under its load");
+    for e in &sol.emitters {
+        h.state_mut().select(Selection::Node(e.id));
+        h.run();
+        let flagged = sol.has_finding(flowrise_core::design::ItemRef::Node(e.id), &FindingKind::OUTPUT_SHORT);
+        assert_eq!(h.query_by_label("Shortfall").is_some(), flagged, "{}", e.id);
+    }
+    let mut h = harness(demo(FLAT));
+    let sol = h.state().solution().clone();
+    for e in &sol.emitters {
+        h.state_mut().select(Selection::Node(e.id));
+        h.run();
+        let flagged = sol.has_finding(flowrise_core::design::ItemRef::Node(e.id), &FindingKind::OUTPUT_SHORT);
+        assert_eq!(h.query_by_label("Shortfall").is_some(), flagged, "{}", e.id);
+        assert!(
+            h.query_all_by_label_contains(&format!("{}  (Kv", e.lockshield)).next().is_some(),
+            "{}: lockshield setting {} shown",
+            e.id,
+            e.lockshield
+        );
+        assert!(h.query_by_label_contains("outside the tolerance").is_none(), "{}", e.id);
+    }
+    // Installed, then a room's load raised by half: its flow is now short.
+    h.get_by_label("Installed").click();
+    h.run();
+    let id = first_radiator(h.state().project());
+    h.state_mut().select(Selection::Node(id));
+    h.run();
+    let load = h.state().solution().emitter(id).unwrap().load_w;
+    type_into(&mut h, "Heat load", &format!("{:.0}", load * 1.5));
+    let sol = h.state().solution().clone();
+    let item = flowrise_core::design::ItemRef::Node(id);
+    assert!(sol.has_finding(item, &[FindingKind::FlowOutOfTolerance]), "{:?}", sol.findings);
+    assert!(h.query_by_label_contains("outside the tolerance").is_some(), "the inspector marks the flow");
+    let finding = sol.findings.iter().find(|f| f.item == item && f.kind == FindingKind::FlowOutOfTolerance).unwrap();
+    h.state_mut().select(Selection::None);
+    h.run();
+    assert!(
+        h.query_all_by_label_contains(&finding.message[..40]).next().is_some(),
+        "the findings panel lists it: {}",
+        finding.message
+    );
 }

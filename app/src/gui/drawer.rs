@@ -5,7 +5,7 @@ use std::collections::BTreeMap;
 
 use egui::{Grid, RichText, ScrollArea, Ui};
 use egui_plot::{Legend, Line, Plot, Points};
-use flowrise_core::design::{ItemRef, LinkRole, Side, Solution};
+use flowrise_core::design::{FindingKind, ItemRef, LinkRole, Side, Solution};
 use flowrise_core::project::Project;
 
 use super::findings_view::findings_list;
@@ -282,15 +282,19 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
                 cell_label(ui, format!("{:.0}", p.flow_l_h));
             }
             6 => {
+                // Coloured only with a finding behind it.
                 let v = RichText::new(format!("{:.2}", p.velocity_m_s));
-                cell_label(ui, if p.velocity_m_s > p.velocity_limit_m_s { v.color(theme::ERROR) } else { v });
+                let over = p.velocity_m_s > p.velocity_limit_m_s
+                    && sol.has_finding(ItemRef::Run(p.run), &FindingKind::VELOCITY);
+                cell_label(ui, if over { v.color(theme::ERROR) } else { v });
             }
             7 => {
                 cell_label(ui, format!("{:.1}", p.velocity_limit_m_s));
             }
             8 => {
                 let g = RichText::new(format!("{:.0}", p.gradient_pa_m));
-                cell_label(ui, if p.gradient_pa_m > limit { g.color(theme::WARNING) } else { g });
+                let over = p.gradient_pa_m > limit && sol.has_finding(ItemRef::Run(p.run), &FindingKind::GRADIENT);
+                cell_label(ui, if over { g.color(theme::WARNING) } else { g });
             }
             _ => {
                 cell_label(ui, format!("{:.2}", p.dp_pa / 1000.0));
@@ -300,7 +304,7 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
 }
 
 fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
-    const COLUMNS: [(&str, f32); 10] = [
+    const COLUMNS: [(&str, f32); 11] = [
         ("Emitter", 150.0),
         ("Level", 95.0),
         ("Load W", 60.0),
@@ -309,6 +313,7 @@ fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
         ("Flow l/h", 62.0),
         ("Return °C", 70.0),
         ("Presetting", 72.0),
+        ("Lockshield", 72.0),
         ("Authority", 66.0),
         ("Circuit kPa", 76.0),
     ];
@@ -332,24 +337,34 @@ fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
                 cell_label(ui, format!("{:.0}", e.load_w));
             }
             3 => {
+                // Every warning colour here has a finding behind it.
                 let o = RichText::new(format!("{:.0}", e.output_w));
-                cell_label(ui, if e.output_w + 1.0 < e.load_w && !e.closed { o.color(theme::ERROR) } else { o });
+                let short = sol.has_finding(ItemRef::Node(e.id), &FindingKind::OUTPUT_SHORT);
+                cell_label(ui, if short { o.color(theme::ERROR) } else { o });
             }
             4 => {
                 cell_label(ui, format!("{:.1}", e.design_flow_l_h));
             }
             5 => {
-                cell_label(ui, format!("{:.1}", e.flow_l_h));
+                let f = RichText::new(format!("{:.1} ({:+.0} %)", e.flow_l_h, e.flow_deviation * 100.0));
+                let off = sol.has_finding(ItemRef::Node(e.id), &[FindingKind::FlowOutOfTolerance]);
+                cell_label(ui, if off { f.color(theme::ERROR) } else { f });
             }
             6 => {
-                cell_label(ui, format!("{:.1}", e.return_c));
+                let t = RichText::new(format!("{:.1}", e.return_c));
+                let hot = sol.has_finding(ItemRef::Node(e.id), &[FindingKind::HotReturn]);
+                cell_label(ui, if hot { t.color(theme::WARNING) } else { t });
             }
             7 => {
                 cell_label(ui, e.presetting.as_str());
             }
             8 => {
+                cell_label(ui, e.lockshield.as_str());
+            }
+            9 => {
                 let a = RichText::new(format!("{:.2}", e.authority));
-                cell_label(ui, if e.authority < 0.3 { a.color(theme::WARNING) } else { a });
+                let low = sol.has_finding(ItemRef::Node(e.id), &[FindingKind::LowAuthority]);
+                cell_label(ui, if low { a.color(theme::WARNING) } else { a });
             }
             _ => {
                 cell_label(ui, format!("{:.1}", e.circuit_dp_open_pa / 1000.0));

@@ -3,7 +3,7 @@
 //! selected it shows the design settings.
 
 use egui::{Grid, RichText, ScrollArea, Ui};
-use flowrise_core::design::{Side, Solution};
+use flowrise_core::design::{FindingKind, ItemRef, Side, Solution};
 use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{
     EmitterDetail, EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec, radiator,
@@ -198,6 +198,22 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     e2.valves.valve_family = family;
                     e2.valves.presetting = None;
                     set_kind(out, id, NodeKind::Emitter(e2), "em.valve");
+                }
+                if let Some(ls) = &e.valves.lockshield_setting {
+                    ui.label("Lockshield (fixed)");
+                    ui.horizontal(|ui| {
+                        ui.label(ls);
+                        if ui
+                            .small_button("Clear")
+                            .on_hover_text("Let the design choose the lockshield setting again")
+                            .clicked()
+                        {
+                            let mut e2 = e.clone();
+                            e2.valves.lockshield_setting = None;
+                            set_kind(out, id, NodeKind::Emitter(e2), "em.lock");
+                        }
+                    });
+                    ui.end_row();
                 }
                 if let Some(ps) = &e.valves.presetting {
                     ui.label("Presetting (fixed)");
@@ -542,19 +558,42 @@ fn node_results(ui: &mut Ui, project: &Project, sol: &Solution, id: NodeId) {
     Grid::new("node_results").num_columns(2).striped(true).show(ui, |ui| {
         if let Some(r) = sol.emitter(id) {
             row(ui, "Design flow", format!("{:.1} l/h", r.design_flow_l_h));
-            row(ui, "Operating flow", format!("{:.1} l/h ({:+.1} %)", r.flow_l_h, r.flow_deviation * 100.0));
-            row(ui, "Return (operating)", format!("{:.1} °C", r.return_c));
+            // A value in warning colour always has a finding behind it.
+            let flagged = |kinds: &[FindingKind]| sol.has_finding(ItemRef::Node(id), kinds);
+            let flow = format!("{:.1} l/h ({:+.1} %)", r.flow_l_h, r.flow_deviation * 100.0);
+            if flagged(&[FindingKind::FlowOutOfTolerance]) {
+                ui.label("Operating flow");
+                ui.label(RichText::new(format!("{flow} — outside the tolerance")).color(theme::ERROR));
+                ui.end_row();
+            } else {
+                row(ui, "Operating flow", flow);
+            }
+            let ret = format!("{:.1} °C", r.return_c);
+            if flagged(&[FindingKind::HotReturn]) {
+                ui.label("Return (operating)");
+                ui.label(RichText::new(format!("{ret} — hot")).color(theme::WARNING));
+                ui.end_row();
+            } else {
+                row(ui, "Return (operating)", ret);
+            }
             row(ui, "Output", format!("{:.0} W of {:.0} W", r.output_w, r.load_w));
             let short = (r.load_w - r.output_w).max(0.0);
-            if short > 1.0 && !r.closed {
+            if short > 1.0 && !r.closed && flagged(&FindingKind::OUTPUT_SHORT) {
                 ui.label(RichText::new("Shortfall").color(theme::ERROR));
                 ui.label(RichText::new(format!("{short:.0} W")).color(theme::ERROR));
                 ui.end_row();
             }
             row(ui, "Presetting", format!("{}  (Kv {:.3})", r.presetting, r.valve_kv_m3_h));
+            row(ui, "Lockshield", format!("{}  (Kv {:.3})", r.lockshield, r.lockshield_kv_m3_h));
             row(ui, "Kv needed", format!("{:.3} m³/h", r.kv_needed_m3_h));
             row(ui, "Valve Δp", format!("{:.1} kPa", r.valve_dp_pa / 1000.0));
-            row(ui, "Authority", format!("{:.2}", r.authority));
+            if flagged(&[FindingKind::LowAuthority]) {
+                ui.label("Authority");
+                ui.label(RichText::new(format!("{:.2} — low", r.authority)).color(theme::WARNING));
+                ui.end_row();
+            } else {
+                row(ui, "Authority", format!("{:.2}", r.authority));
+            }
             row(ui, "Circuit Δp (valve open)", format!("{:.1} kPa", r.circuit_dp_open_pa / 1000.0));
             match &r.detail {
                 Some(EmitterDetail::Radiator(d)) => {

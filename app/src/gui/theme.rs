@@ -1,7 +1,7 @@
 //! Colours of the flowrise look and the colour scale of the canvas.
 
 use egui::{Color32, Stroke};
-use flowrise_core::design::{PipeResult, Solution};
+use flowrise_core::design::{FindingKind, PipeResult, Solution};
 use flowrise_core::project::RunId;
 use serde::{Deserialize, Serialize};
 
@@ -73,6 +73,17 @@ impl ColourBy {
             Self::VelocityMargin => ("v / v limit", "1 = at the limit"),
             Self::Gradient => ("R / R limit", "1 = at the limit"),
             Self::FlowDeviation => ("|flow / design − 1|", "1 = 30 % off"),
+        }
+    }
+
+    /// Findings that stand behind a run drawn over the limit in this mode
+    /// (a flow deviation has its findings on the emitters: never dashed).
+    #[must_use]
+    pub fn finding_kinds(self) -> &'static [FindingKind] {
+        match self {
+            Self::VelocityMargin => &FindingKind::VELOCITY,
+            Self::Gradient => &FindingKind::GRADIENT,
+            Self::FlowDeviation => &[],
         }
     }
 

@@ -74,6 +74,9 @@ pub enum FindingKind {
     SizeLimitsExceeded,
     /// A pipe's hydraulic data are not physical.
     PipeLawInvalid,
+    /// A pipe held at a fixed size is over the pressure-gradient limit at
+    /// its design flow.
+    GradientOverLimit,
     // ---- emitters
     /// An emitter delivers less than its load at the design temperatures.
     EmitterShortfall,
@@ -130,8 +133,16 @@ pub enum FindingKind {
 }
 
 impl FindingKind {
+    /// Kinds that say a room gets less than its load (what an output shown
+    /// in warning colour stands for).
+    pub const OUTPUT_SHORT: [Self; 3] = [Self::FlowOutOfTolerance, Self::RoomShort, Self::EmitterShortfall];
+    /// Kinds that say a pipe is over its velocity limit.
+    pub const VELOCITY: [Self; 2] = [Self::VelocityOverLimit, Self::SizeLimitsExceeded];
+    /// Kinds that say a pipe is over the gradient limit.
+    pub const GRADIENT: [Self; 2] = [Self::GradientOverLimit, Self::SizeLimitsExceeded];
+
     /// Every kind, in declaration order.
-    pub const ALL: [Self; 45] = [
+    pub const ALL: [Self; 46] = [
         Self::NoSource,
         Self::SourceUnconnected,
         Self::LoopClosed,
@@ -153,6 +164,7 @@ impl FindingKind {
         Self::FixedSizeUnknown,
         Self::SizeLimitsExceeded,
         Self::PipeLawInvalid,
+        Self::GradientOverLimit,
         Self::EmitterShortfall,
         Self::FloorSurfaceLimit,
         Self::FloorLoopPressureDrop,
@@ -206,30 +218,31 @@ impl FindingKind {
             Self::FixedSizeUnknown => 18,
             Self::SizeLimitsExceeded => 19,
             Self::PipeLawInvalid => 20,
-            Self::EmitterShortfall => 21,
-            Self::FloorSurfaceLimit => 22,
-            Self::FloorLoopPressureDrop => 23,
-            Self::FloorLoopLength => 24,
-            Self::RadiatorBeyondCatalog => 25,
-            Self::NoDesignFlow => 26,
-            Self::PumpTooWeak => 27,
-            Self::PresettingUnknown => 28,
-            Self::ValveCannotDeliver => 29,
-            Self::KvAboveLargest => 30,
-            Self::KvBelowSmallest => 31,
-            Self::TrimOutOfReach => 32,
-            Self::LockshieldSettingUnknown => 33,
-            Self::PresettingFailed => 34,
-            Self::LowAuthority => 35,
-            Self::SourceCapacity => 36,
-            Self::VesselNotSized => 37,
-            Self::NetworkInvalid => 38,
-            Self::NotConverged => 39,
-            Self::FlowOutOfTolerance => 40,
-            Self::HotReturn => 41,
-            Self::RoomShort => 42,
-            Self::PumpOnMaxCurve => 43,
-            Self::VelocityOverLimit => 44,
+            Self::GradientOverLimit => 21,
+            Self::EmitterShortfall => 22,
+            Self::FloorSurfaceLimit => 23,
+            Self::FloorLoopPressureDrop => 24,
+            Self::FloorLoopLength => 25,
+            Self::RadiatorBeyondCatalog => 26,
+            Self::NoDesignFlow => 27,
+            Self::PumpTooWeak => 28,
+            Self::PresettingUnknown => 29,
+            Self::ValveCannotDeliver => 30,
+            Self::KvAboveLargest => 31,
+            Self::KvBelowSmallest => 32,
+            Self::TrimOutOfReach => 33,
+            Self::LockshieldSettingUnknown => 34,
+            Self::PresettingFailed => 35,
+            Self::LowAuthority => 36,
+            Self::SourceCapacity => 37,
+            Self::VesselNotSized => 38,
+            Self::NetworkInvalid => 39,
+            Self::NotConverged => 40,
+            Self::FlowOutOfTolerance => 41,
+            Self::HotReturn => 42,
+            Self::RoomShort => 43,
+            Self::PumpOnMaxCurve => 44,
+            Self::VelocityOverLimit => 45,
         }
     }
 
@@ -486,6 +499,17 @@ pub(crate) fn size_limits_exceeded_text(
 
 pub(crate) fn size_limits_exceeded(run: RunId, message: Arc<str>) -> Finding {
     Finding::warning(FindingKind::SizeLimitsExceeded, ItemRef::Run(run), message)
+}
+
+pub(crate) fn gradient_over_limit(run: RunId, side: &str, size: &str, gradient: f64, limit: f64) -> Finding {
+    Finding::warning(
+        FindingKind::GradientOverLimit,
+        ItemRef::Run(run),
+        format!(
+            "run {run} {side}: its fixed size {size} gives {gradient:.0} Pa/m at the design flow, above the {limit:.0} Pa/m \
+             limit (common practice) — clear the fixed size or choose a larger one"
+        ),
+    )
 }
 
 pub(crate) fn pipe_law_invalid(run: RunId, error: &dyn fmt::Display) -> Finding {
@@ -773,12 +797,19 @@ pub(crate) fn pump_on_max_curve(source: NodeId, flow_m3_h: f64, curve_kpa: f64, 
     )
 }
 
-pub(crate) fn velocity_over_limit(run: RunId, velocity: f64, size: &str, class: PipeClass, limit: f64) -> Finding {
+pub(crate) fn velocity_over_limit(
+    run: RunId,
+    side: &str,
+    velocity: f64,
+    size: &str,
+    class: PipeClass,
+    limit: f64,
+) -> Finding {
     Finding::warning(
         FindingKind::VelocityOverLimit,
         ItemRef::Run(run),
         format!(
-            "run {run}: {velocity:.2} m/s in {size} exceeds the {} limit {limit:.2} m/s — use a larger size or clear its \
+            "run {run}{side}: {velocity:.2} m/s in {size} exceeds the {} limit {limit:.2} m/s — use a larger size or clear its \
              fixed size",
             class.name(),
         ),

@@ -139,6 +139,10 @@ pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> So
     let mut all = findings;
     all.sort_by(|a, b| a.severity.cmp(&b.severity).then(a.item.cmp(&b.item)));
     all.dedup();
+    let mut keys: Vec<(ItemRef, FindingKind)> = all.iter().map(|f| (f.item, f.kind)).collect();
+    keys.sort_unstable();
+    keys.dedup();
+    sol.finding_keys = keys;
     sol.findings = all;
     sol
 }

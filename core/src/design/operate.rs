@@ -174,10 +174,12 @@ impl Derivation<'_> {
             }
         }
         // Velocity over limit on the real flows.
+        // Both sides: a return over its limit is as noisy as a supply.
         for pr in &sol.pipes {
-            if pr.side == Side::Supply && pr.velocity_m_s > pr.velocity_limit_m_s * 1.0001 {
+            if pr.velocity_m_s > pr.velocity_limit_m_s * 1.0001 {
                 self.findings.push(findings::velocity_over_limit(
                     pr.run,
+                    if pr.side == Side::Supply { "" } else { " return" },
                     pr.velocity_m_s,
                     pr.size,
                     pr.class,

@@ -265,6 +265,8 @@ pub struct Solution {
     /// The layout's supply tree: run orientation, classes, reverse-return
     /// chains (what the derivation worked from).
     pub topology: Topology,
+    /// (item, kind) of every finding, sorted: [`Solution::has_finding`].
+    pub finding_keys: Vec<(super::ItemRef, super::FindingKind)>,
 }
 
 impl Solution {
@@ -272,6 +274,14 @@ impl Solution {
     #[must_use]
     pub fn has_errors(&self) -> bool {
         self.findings.iter().any(|f| f.severity == Severity::Error)
+    }
+
+    /// True when a finding of one of `kinds` concerns `item`: what a value
+    /// shown in warning colour must have behind it (the window colours a
+    /// value only when this says so).
+    #[must_use]
+    pub fn has_finding(&self, item: super::ItemRef, kinds: &[super::FindingKind]) -> bool {
+        kinds.iter().any(|&k| self.finding_keys.binary_search(&(item, k)).is_ok())
     }
 
     /// Results of emitter `id`.

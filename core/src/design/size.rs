@@ -81,6 +81,23 @@ pub fn choose_size(inputs: &SizeInputs) -> (usize, bool) {
     (series.sizes.len().saturating_sub(1), false)
 }
 
+/// Friction gradient of size `ix` of the series at the inputs' flow with
+/// the design's law, Pa/m.
+fn design_gradient_pa_m(inputs: &SizeInputs, ix: usize) -> Option<f64> {
+    let size = inputs.series.sizes.get(ix)?;
+    let h = PipeHydraulics::new(
+        1.0,
+        size.inner_diameter_m(),
+        inputs.series.roughness_m,
+        0.0,
+        inputs.water.density_kg_m3,
+        inputs.water.viscosity_pa_s,
+    )
+    .ok()?;
+    let h = PipeHydraulics { friction_law: FrictionLaw::ColebrookWhiteConservative, ..h };
+    Some(friction_gradient_pa_m(&h, inputs.mass_flow_kg_s))
+}
+
 impl Derivation<'_> {
     /// The size stage (see the module docs).
     pub(super) fn size(&mut self, p: &Project, dn: &Dense<'_>, ws: &mut Workspace) {
@@ -126,6 +143,20 @@ impl Derivation<'_> {
             });
             let size = if let Some(label) = fixed {
                 if let Some(ix) = series.sizes.iter().position(|z| z.label == label) {
+                    // A fixed size the sizing would not have chosen: say so
+                    // when it is over the gradient limit at the design flow.
+                    if let Some(g) = design_gradient_pa_m(&inputs, ix)
+                        && g > inputs.gradient_limit_pa_m * 1.0001
+                    {
+                        let side = if side == Side::Supply { "supply" } else { "return" };
+                        self.findings.push(findings::gradient_over_limit(
+                            run,
+                            side,
+                            &label,
+                            g,
+                            inputs.gradient_limit_pa_m,
+                        ));
+                    }
                     ix
                 } else {
                     self.findings.push(findings::fixed_size_unknown(run, &label, &series.name));

@@ -4,7 +4,7 @@
 use std::collections::BTreeSet;
 
 use egui::{Align2, Color32, CornerRadius, FontId, Painter, Pos2, Rect, Shape, Stroke, StrokeKind, Vec2, pos2, vec2};
-use flowrise_core::design::{ItemRef, Severity, Side, Solution};
+use flowrise_core::design::{FindingKind, ItemRef, Severity, Side, Solution};
 use flowrise_core::emitters::EmitterModel;
 use flowrise_core::project::{LevelId, Node, NodeKind, Project};
 
@@ -160,6 +160,8 @@ pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
         let Some(pts) = run_polyline(s.project, run, s.level, s.view) else { continue };
         let value = s.colour_by.run_value(s.sol, run.id, limit);
         let (stroke, over) = theme::run_stroke(value, s.view.px_per_m);
+        // Drawn as over the limit only with a finding behind it.
+        let over = over && s.sol.has_finding(ItemRef::Run(run.id), s.colour_by.finding_kinds());
         let selected = s.selection == Selection::Run(run.id);
         let hovered = matches!(s.hover, Some(Hit::Run(r, _)) if r == run.id);
         if selected || hovered {
@@ -320,7 +322,10 @@ fn node_label(s: &PlanScene<'_>, n: &Node, at: Pos2, must: bool, labels: &mut La
             let mut text = format!("{}  {:.0} W", e.name, e.load_w);
             if let Some(r) = s.sol.emitter(n.id) {
                 text.push_str(&format!("  ·  preset {}", r.presetting));
-                if r.output_w + 1.0 < r.load_w && !r.closed {
+                if r.output_w + 1.0 < r.load_w
+                    && !r.closed
+                    && s.sol.has_finding(ItemRef::Node(n.id), &FindingKind::OUTPUT_SHORT)
+                {
                     text.push_str(&format!("  ·  short {:.0} W", r.load_w - r.output_w));
                 }
             }
