@@ -493,3 +493,48 @@ fn a_set_point_above_the_pump_curve_gives_the_fixed_speed_result() {
         assert_eq!(says, c.control != "fixed speed", "{}: {:?}", c.control, c.warnings);
     }
 }
+
+/// Issue 15: every emitter whose operating flow is outside the flow
+/// tolerance has a finding saying so (demo projects and generated
+/// buildings: direct, reverse return, headers); on the demo projects,
+/// trimmed with presetting and lockshield, none is outside.
+#[test]
+fn every_flow_outside_the_tolerance_has_a_finding() {
+    use flowrise_core::design::{FindingKind, ItemRef};
+    use flowrise_core::generate::{BuildingSpec, generate_building};
+    let mut cases: Vec<(String, Project, bool)> =
+        demo_paths().into_iter().map(|p| (p.display().to_string(), Project::load(&p).unwrap(), true)).collect();
+    for spec in [
+        BuildingSpec::new(3, 20),
+        BuildingSpec { reverse_return: true, ..BuildingSpec::new(3, 20) },
+        BuildingSpec { headers: true, ..BuildingSpec::new(3, 12) },
+    ] {
+        cases.push((format!("{spec:?}"), generate_building(&spec).unwrap(), false));
+    }
+    for (name, p, demo) in cases {
+        for installed in [false, true] {
+            let mut q = p.clone();
+            let sol = solve(&q);
+            if installed {
+                q.apply(design::freeze_edit(&p, &sol)).unwrap();
+            }
+            let sol = solve(&q);
+            let tol = q.settings.flow_tolerance_fraction;
+            for e in sol.emitters.iter().filter(|e| !e.closed && e.design_flow_kg_s > 0.0) {
+                let out = e.flow_deviation.abs() > tol;
+                assert_eq!(!e.flow_within_tolerance, out, "{name}: {}", e.id);
+                if out {
+                    assert!(
+                        sol.has_finding(ItemRef::Node(e.id), &[FindingKind::FlowOutOfTolerance]),
+                        "{name} installed={installed}: {} is {:+.1} % off with no finding",
+                        e.id,
+                        e.flow_deviation * 100.0
+                    );
+                }
+                if demo {
+                    assert!(!out, "{name} installed={installed}: {} is {:+.1} % off", e.id, e.flow_deviation * 100.0);
+                }
+            }
+        }
+    }
+}

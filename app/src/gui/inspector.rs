@@ -92,8 +92,15 @@ fn totals(ui: &mut Ui, sol: &Solution) {
             );
         }
         if let Some(v) = &sol.vessel {
+            let chosen = flowrise_core::parts::vessel_nominal_size_l(v.nominal_volume_l)
+                .map_or_else(|| "several vessels".to_owned(), |n| format!("{n:.0} l"));
+            row(ui, "Expansion vessel", format!("{chosen} (minimum {:.1} l, EN 12828)", v.nominal_volume_l));
             row(ui, "Expansion volume", format!("{:.1} l", v.expansion_volume_l));
-            row(ui, "Vessel pre-charge", format!("{:.2} bar", v.precharge_pressure_bar));
+            row(
+                ui,
+                "Vessel pre-charge",
+                format!("{:.2} bar (sized at {:.0} °C)", v.precharge_pressure_bar, v.input.max_temperature_c),
+            );
         }
     });
 }

@@ -56,6 +56,9 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
         ui.label("upgrades for");
         ui.add(egui::DragValue::new(&mut target).range(20.0..=95.0).suffix(" °C").speed(0.5));
         st.spec.target_c = Some(target);
+        ui.label("min. water drop");
+        ui.add(egui::DragValue::new(&mut st.spec.min_drop_k).range(0.5..=20.0).suffix(" K").speed(0.1))
+            .on_hover_text("The smallest cooling of the water an emitter may run at (5 K: heat pump, common practice)");
         ui.checkbox(&mut st.spec.frozen_presettings, "presettings frozen");
         if ui
             .button("Run sweep")
@@ -85,13 +88,27 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
             return;
         }
     };
+    let why = match (r.limiting_constraint, &r.limiting_item) {
+        (Some(c), Some(item)) => format!(" (limit: {} — {item})", c.words()),
+        (Some(c), None) => format!(" (limit: {})", c.words()),
+        (None, _) => String::new(),
+    };
     let verdict = match (r.lowest_supply_c, &r.limiting_emitter) {
-        (Some(t), Some(e)) => format!("Every room covered down to {t:.0} °C; {e} falls short first below it."),
-        (Some(t), None) => format!("Every room covered over the whole range, down to {t:.0} °C."),
-        (None, Some(e)) => format!("{e} is short already at the top of the range."),
+        (Some(t), Some(e)) => format!("Every room covered down to {t:.1} °C; {e} falls short first below it{why}."),
+        (Some(t), None) => format!("Every room covered over the whole range, down to {t:.1} °C."),
+        (None, Some(e)) => format!("{e} is short already at the top of the range{why}."),
         (None, None) => "No point of the sweep could be designed.".to_owned(),
     };
     ui.label(RichText::new(verdict).strong());
+    ui.label(
+        RichText::new(format!(
+            "Covered: the load delivered with a water drop of at least {:.1} K, pipes inside their velocity and gradient \
+             limits, the pump giving the head needed.",
+            r.min_drop_k
+        ))
+        .small()
+        .weak(),
+    );
     ui.columns(2, |cols| {
         fraction_plot(&mut cols[0], project, r);
         upgrades_table(&mut cols[1], r);
