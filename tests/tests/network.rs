@@ -538,3 +538,39 @@ fn every_flow_outside_the_tolerance_has_a_finding() {
         }
     }
 }
+
+/// Issue 15: an oversized existing radiator on a 55/45 °C design, its
+/// valve fixed wide open, returns water far above the design return: a
+/// finding names it with the fix. Its valve authority text never reads as
+/// the limit it is below.
+#[test]
+fn a_hot_return_is_a_finding() {
+    use flowrise_core::design::{FindingKind, ItemRef};
+    let mut b = Builder::new("Oversized");
+    let g = LevelId(0);
+    let mut s = b.p.settings.clone();
+    s.supply_c = 55.0;
+    s.return_c = 45.0;
+    // Installed: the pump holds its stored 20 kPa, far more than the one
+    // small circuit needs.
+    s.mode = Mode::Installed;
+    b.p.apply(Edit::SetSettings(Box::new(s))).unwrap();
+    let src = b.source(g, 0.0, 0.0, 10_000.0, SMALL_PUMP, PumpControl::ConstantDp { setpoint_kpa: 20.0 });
+    let r = b.existing_radiator(g, 5.0, 0.0, "Lounge", 600.0, 20.0, 3000.0, 2000);
+    b.run(src, r);
+    let mut p = b.p;
+    let Some(NodeKind::Emitter(mut em)) = p.node(r).map(|n| n.kind.clone()) else { panic!() };
+    em.valves.presetting = Some("N".to_owned());
+    em.valves.lockshield_setting = Some("open".to_owned());
+    p.apply(Edit::SetNodeKind { id: r, kind: NodeKind::Emitter(em) }).unwrap();
+    let sol = solve(&p);
+    let e = sol.emitter(r).unwrap();
+    assert!(e.return_c > 48.0, "the oversupplied radiator returns hot: {} °C", e.return_c);
+    assert!(sol.has_finding(ItemRef::Node(r), &[FindingKind::HotReturn]), "{:#?}", sol.findings);
+    let f = sol.findings.iter().find(|f| f.kind == FindingKind::HotReturn).unwrap();
+    assert!(f.message.contains("return-temperature limiter"), "{}", f.message);
+    // Authorities below the limit are printed below it, never equal.
+    for f in sol.findings.iter().filter(|f| f.kind == FindingKind::LowAuthority) {
+        assert!(!f.message.contains("0.30 is below 0.30"), "{}", f.message);
+    }
+}
