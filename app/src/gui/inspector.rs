@@ -6,7 +6,7 @@ use egui::{Grid, RichText, ScrollArea, Ui};
 use flowrise_core::design::{FindingKind, ItemRef, Side, Solution};
 use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{
-    EmitterDetail, EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec, radiator,
+    EmitterDetail, EmitterKind, EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec, radiator,
 };
 use flowrise_core::pipes;
 use flowrise_core::project::limits as L;
@@ -156,29 +156,23 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                     );
                 }
                 let label_id = ui.label("Emitter").id;
-                let kinds = ["Radiator", "Floor loop", "Terminal"];
-                let cur = match e.model {
-                    EmitterModel::Radiator(_) => 0,
-                    EmitterModel::FloorLoop(_) => 1,
-                    EmitterModel::Terminal(_) => 2,
-                };
+                let cur = e.model.kind();
                 let mut pick = cur;
                 egui::ComboBox::from_id_salt("em.model")
-                    .selected_text(kinds[cur])
+                    .selected_text(cur.name())
                     .show_ui(ui, |ui| {
-                        for (i, k) in kinds.iter().enumerate() {
-                            ui.selectable_value(&mut pick, i, *k);
+                        for k in EmitterKind::ALL {
+                            ui.selectable_value(&mut pick, k, k.name());
                         }
                     })
                     .response
                     .labelled_by(label_id);
                 ui.end_row();
                 if pick != cur {
-                    let model = default_model(pick);
                     set_kind(
                         out,
                         id,
-                        NodeKind::Emitter(flowrise_core::project::Emitter { model, ..e.clone() }),
+                        NodeKind::Emitter(flowrise_core::project::Emitter { model: pick.default_model(), ..e.clone() }),
                         "em.model",
                     );
                 }
@@ -351,27 +345,6 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
         }
         position(ui, project, id, fs, out);
     });
-}
-
-fn default_model(kind: usize) -> EmitterModel {
-    match kind {
-        1 => EmitterModel::FloorLoop(FloorLoopSpec::typical(12.0, FloorZone::Occupied)),
-        2 => EmitterModel::Terminal(TerminalSpec {
-            nominal_output_w: 2000.0,
-            nominal_supply_c: 70.0,
-            nominal_return_c: 60.0,
-            nominal_room_c: 20.0,
-            exponent_n: 1.0,
-            kv_m3_h: 2.5,
-            water_content_l: 1.5,
-        }),
-        _ => EmitterModel::Radiator(RadiatorSpec {
-            type_code: "22".to_owned(),
-            height_mm: 600,
-            sizing: RadiatorSizing::ToSize,
-            exponent_n: None,
-        }),
-    }
 }
 
 fn model_inputs(ui: &mut Ui, id: NodeId, e: &flowrise_core::project::Emitter, fs: &mut FieldState, out: &mut Intents) {

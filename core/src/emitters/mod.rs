@@ -398,6 +398,58 @@ impl BodyHydraulics {
     }
 }
 
+/// The kinds of emitter, for choosing one (each [`EmitterModel`] variant
+/// has exactly one).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EmitterKind {
+    /// A panel radiator.
+    Radiator,
+    /// A floor-heating loop.
+    FloorLoop,
+    /// A fixed-Kv terminal.
+    Terminal,
+}
+
+impl EmitterKind {
+    /// Every kind, in the order the window lists them.
+    pub const ALL: [Self; 3] = [Self::Radiator, Self::FloorLoop, Self::Terminal];
+
+    /// Name for people.
+    #[must_use]
+    pub fn name(self) -> &'static str {
+        match self {
+            Self::Radiator => "Radiator",
+            Self::FloorLoop => "Floor loop",
+            Self::Terminal => "Terminal",
+        }
+    }
+
+    /// A new emitter of this kind with typical data (demo values: a 600 mm
+    /// type-22 radiator to size, a 12 m² occupied-zone loop, a 2 kW
+    /// terminal rated at 70/60/20 °C) for the user to adjust.
+    #[must_use]
+    pub fn default_model(self) -> EmitterModel {
+        match self {
+            Self::Radiator => EmitterModel::Radiator(RadiatorSpec {
+                type_code: "22".to_owned(),
+                height_mm: 600,
+                sizing: RadiatorSizing::ToSize,
+                exponent_n: None,
+            }),
+            Self::FloorLoop => EmitterModel::FloorLoop(FloorLoopSpec::typical(12.0, floor::FloorZone::Occupied)),
+            Self::Terminal => EmitterModel::Terminal(TerminalSpec {
+                nominal_output_w: 2000.0,
+                nominal_supply_c: 70.0,
+                nominal_return_c: 60.0,
+                nominal_room_c: 20.0,
+                exponent_n: 1.0,
+                kv_m3_h: 2.5,
+                water_content_l: 1.5,
+            }),
+        }
+    }
+}
+
 /// What a project stores for one emitter.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub enum EmitterModel {
@@ -525,6 +577,16 @@ pub struct EmitterDesign {
 }
 
 impl EmitterModel {
+    /// Its kind.
+    #[must_use]
+    pub fn kind(&self) -> EmitterKind {
+        match self {
+            Self::Radiator(_) => EmitterKind::Radiator,
+            Self::FloorLoop(_) => EmitterKind::FloorLoop,
+            Self::Terminal(_) => EmitterKind::Terminal,
+        }
+    }
+
     /// Check the stored data without designing: catalog entries exist,
     /// outputs, exponents, areas and resistances are in range.
     ///
