@@ -113,7 +113,7 @@ impl Derivation<'_> {
             r.valve_kv_m3_h = t.valve_kv_m3_h;
             r.lockshield_kv_m3_h = t.lockshield_kv_m3_h;
             r.presetting_flow_error = t.flow_error_fraction;
-            r.kv_needed_m3_h = super::balance::valve_kv_needed(t.pair_kv_needed_m3_h, t.lockshield_kv_m3_h);
+            r.kv_needed_m3_h = super::trim::valve_kv_needed(t.pair_kv_needed_m3_h, t.lockshield_kv_m3_h);
             let r_pair = valves::resistance_r_pa_s2_kg2(t.valve_kv_m3_h, rho_mean).unwrap_or(0.0)
                 + valves::resistance_r_pa_s2_kg2(t.lockshield_kv_m3_h, rho_mean).unwrap_or(0.0);
             self.net.links[e.valves_link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r_pair };

@@ -37,6 +37,7 @@ mod results;
 mod size;
 mod state;
 pub mod topology;
+mod trim;
 
 use std::collections::BTreeSet;
 use std::time::Instant;
