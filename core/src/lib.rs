@@ -10,6 +10,7 @@
 //! from a project file.
 
 pub mod commissioning;
+pub mod controllers;
 pub mod csv_cell;
 pub mod design;
 pub mod emitters;

@@ -89,6 +89,12 @@ impl Derivation<'_> {
         }
         self.available_pa = available;
 
+        // Balancing devices: each makes its branch a zone whose emitters
+        // balance against what the device leaves them.
+        let src_dp =
+            solver::link_dp(&self.net.links[self.source_link].law, self.total_design_kg_s).map_or(0.0, |x| x.0);
+        let zones = self.balance_devices(s, &p_node, &c.rest_pa, &c.open_valve_pa, available, src_dp, sol);
+
         // Presettings, in id order (the order of `Solution::emitters`):
         // sort the indices, not the (large) results.
         let emitters = std::mem::take(&mut self.emitters);
@@ -140,10 +146,15 @@ impl Derivation<'_> {
             let mut lock_kv = e.lockshield_kv;
             r.lockshield = e.lockshield.and_then(|l| l.settings.last()).map_or_else(String::new, |st| st.label.clone());
             if let (Some(family), true) = (e.valve, m > 0.0) {
+                // In a zone: the zone's Δp, the rest from its entry.
+                let (zone_available, rest) = match zones.of_emitter.get(i).copied().flatten() {
+                    Some(d) => (zones.available_pa[d], zones.rest_in(d, c.rest_pa[i], src_dp, &p_node, &self.devices)),
+                    None => (available, c.rest_pa[i]),
+                };
                 let inputs = CircuitInputs {
-                    available_pa: available,
-                    rest_pa: c.rest_pa[i],
-                    own_rest_pa: self.own_rest_pa(e, ws, lockshield_r[i]).min(c.rest_pa[i]),
+                    available_pa: zone_available,
+                    rest_pa: rest,
+                    own_rest_pa: self.own_rest_pa(e, ws, lockshield_r[i]).min(rest),
                     lock_open_pa: lockshield_r[i] * m * m,
                     rho_mean,
                     q_m3_h,
@@ -220,6 +231,13 @@ impl Derivation<'_> {
         if pending.len() != self.pipes.len() || !pending.is_sorted() {
             pending.clear();
             pending.extend(self.pipes.iter().map(|pd| (self.topo.run_position(pd.run).unwrap_or(usize::MAX), pd.link)));
+            pending.sort_unstable();
+        }
+        // Balancing devices: resolved with the links of their run.
+        for d in &self.devices {
+            pending.push((self.topo.run_position(d.run).unwrap_or(usize::MAX), d.link));
+        }
+        if !self.devices.is_empty() {
             pending.sort_unstable();
         }
         let flows = &self.design_flows;
@@ -420,6 +438,9 @@ impl Derivation<'_> {
                 Side::Supply => into[k.to] = pd.link,
                 Side::Return => out_of[k.from] = pd.link,
             }
+        }
+        for d in &self.devices {
+            out_of[d.inlet] = d.link;
         }
         let mut supply = Vec::new();
         let mut n = e.s;

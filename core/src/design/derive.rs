@@ -14,7 +14,7 @@
 use super::Workspace;
 use super::findings;
 use super::results::{LinkRole, Side};
-use super::state::{Derivation, EmitterData, FamilyMemo, NONE, NewPipe};
+use super::state::{Derivation, DeviceData, EmitterData, FamilyMemo, NONE, NewPipe};
 use super::topology::{self, Dense};
 use crate::emitters::{BodyHydraulics, DesignTemperatures};
 use crate::friction::PipeHydraulics;
@@ -257,8 +257,42 @@ impl Derivation<'_> {
                 density_kg_m3: supply_rho,
             };
             self.add_pipe(supply);
-            if !in_chain.get(topo_map.1.ix(tr.run.0)).copied().unwrap_or(false) {
-                self.add_pipe(NewPipe { side: Side::Return, from: rd, to: ru, density_kg_m3: return_rho, ..supply });
+            let chained = in_chain.get(topo_map.1.ix(tr.run.0)).copied().unwrap_or(false);
+            if !chained {
+                // A balancing device sits on the return at the run's upstream
+                // end: the return pipe ends at its inlet X, the device joins X
+                // to the upstream node's return.
+                let device = run.props.device.as_ref().filter(|_| self.device_allowed(dn, tr));
+                let to = match device {
+                    Some(_) => self.add_node(dn.elevation_m(tr.up)),
+                    None => ru,
+                };
+                self.add_pipe(NewPipe { side: Side::Return, from: rd, to, density_kg_m3: return_rho, ..supply });
+                if let Some(device) = device {
+                    let link = self.add_link(
+                        to,
+                        ru,
+                        return_rho,
+                        LinkLaw::Quadratic { r_pa_s2_kg2: 0.0 },
+                        LinkRole::Device(tr.run),
+                    );
+                    self.devices.push(DeviceData {
+                        run: tr.run,
+                        down: tr.down,
+                        device: device.clone(),
+                        link,
+                        inlet: to,
+                        entry_supply: su,
+                        entry_return: ru,
+                        valve: None,
+                        controller: None,
+                        setpoint_pa: 0.0,
+                        flow_kg_s: 0.0,
+                        result: NONE,
+                    });
+                }
+            } else if run.props.device.is_some() {
+                self.findings.push(findings::device_in_reverse_chain(tr.run));
             }
         }
         let chains = self.topo.reverse_chains.clone();
@@ -312,6 +346,27 @@ impl Derivation<'_> {
                 });
             }
         }
+    }
+
+    /// Whether the device of tree run `tr` can be derived: not inside the
+    /// branch of another device (one level of branch devices; a finding
+    /// otherwise).
+    fn device_allowed(&mut self, dn: &Dense<'_>, tr: &super::topology::TreeRun) -> bool {
+        let mut at = tr.up;
+        let mut guard = 0;
+        while let Some(r) = self.topo.parent_run_of(at) {
+            if dn.run(r).is_some_and(|run| run.props.device.is_some()) {
+                self.findings.push(findings::nested_device(tr.run, r));
+                return false;
+            }
+            let Some(parent) = self.topo.tree_run(r) else { break };
+            at = parent.up;
+            guard += 1;
+            if guard > self.topo.runs.len() {
+                break;
+            }
+        }
+        true
     }
 
     /// Puts `pipes` in (run id, side) order — the order of the results. Run

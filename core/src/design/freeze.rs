@@ -3,10 +3,10 @@
 //! switch is one undo step.
 
 use crate::emitters::{EmitterDetail, EmitterModel, RadiatorSizing};
-use crate::project::{DesignSettings, Edit, Mode, NodeKind, Project, RunProps};
+use crate::project::{BranchDevice, DesignSettings, Edit, Mode, NodeKind, Project, RunProps};
 use crate::pump::PumpControl;
 
-use super::results::{Side, Solution};
+use super::results::{DeviceResult, Side, Solution};
 
 /// The edit that freezes a solved design into the project and switches to
 /// installed mode: every run gets its supply pipe's size as a fixed size,
@@ -20,7 +20,12 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> Edit {
         if let Some(pr) = sol.run_pipes(run.id).find(|x| x.side == Side::Supply) {
             let ret = sol.run_pipes(run.id).find(|x| x.side == Side::Return).map(|x| x.size.to_owned());
             let fixed_return_size = ret.filter(|r| *r != pr.size);
-            let props = RunProps { fixed_size: Some(pr.size.to_owned()), fixed_return_size, ..run.props.clone() };
+            let device = match (&run.props.device, sol.devices.iter().find(|d| d.run == run.id)) {
+                (Some(d), Some(res)) => Some(frozen_device(d, res)),
+                (d, _) => d.clone(),
+            };
+            let props =
+                RunProps { fixed_size: Some(pr.size.to_owned()), fixed_return_size, device, ..run.props.clone() };
             if props != run.props {
                 edits.push(Edit::SetRunProps { id: run.id, props });
             }
@@ -73,8 +78,12 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> Edit {
 pub fn thaw_edit(p: &Project) -> Edit {
     let mut edits = Vec::new();
     for run in p.runs() {
-        if run.props.fixed_size.is_some() || run.props.fixed_return_size.is_some() {
-            let props = RunProps { fixed_size: None, fixed_return_size: None, ..run.props.clone() };
+        let device = run.props.device.clone().map(|d| match d {
+            BranchDevice::BalancingValve { family, .. } => BranchDevice::BalancingValve { family, setting: None },
+            BranchDevice::DpController { family, .. } => BranchDevice::DpController { family, setpoint_kpa: None },
+        });
+        let props = RunProps { fixed_size: None, fixed_return_size: None, device, ..run.props.clone() };
+        if props != run.props {
             edits.push(Edit::SetRunProps { id: run.id, props });
         }
     }
@@ -104,4 +113,27 @@ pub fn thaw_edit(p: &Project) -> Edit {
     let settings = DesignSettings { mode: Mode::DesignFollowsLayout, ..p.settings.clone() };
     edits.push(Edit::SetSettings(Box::new(settings)));
     Edit::Batch(edits)
+}
+
+/// A device with the model and the setting (or set-point) the design chose.
+fn frozen_device(d: &BranchDevice, res: &DeviceResult) -> BranchDevice {
+    match d {
+        BranchDevice::BalancingValve { family, setting } => BranchDevice::BalancingValve {
+            family: family.clone().or_else(|| family_id_of(&res.family, false)),
+            setting: setting.clone().or_else(|| (!res.setting.is_empty()).then(|| res.setting.clone())),
+        },
+        BranchDevice::DpController { family, setpoint_kpa } => BranchDevice::DpController {
+            family: family.clone().or_else(|| family_id_of(&res.family, true)),
+            setpoint_kpa: setpoint_kpa.or_else(|| res.setting.trim_end_matches(" kPa").parse().ok()),
+        },
+    }
+}
+
+/// The catalog id of a model by its display name.
+fn family_id_of(name: &str, controller: bool) -> Option<String> {
+    if controller {
+        crate::controllers::dp_controllers().ok()?.iter().find(|f| f.name == name).map(|f| f.id.clone())
+    } else {
+        crate::valves::valve_families().ok()?.iter().find(|f| f.name == name).map(|f| f.id.clone())
+    }
 }

@@ -30,6 +30,7 @@ mod balance;
 mod cache;
 mod commission;
 mod derive;
+mod devices;
 pub mod findings;
 mod freeze;
 mod operate;
@@ -43,9 +44,12 @@ use std::collections::BTreeSet;
 use std::time::Instant;
 
 pub use derive::{BEND_45_MIN_DEG, BEND_90_MIN_DEG, RISER_BENDS_PER_VERTICAL_RUN, bend_count, bends_in_run};
+pub use devices::{HELD_DP_TOLERANCE_PA, MAX_REGULATION_ROUNDS};
 pub use findings::{Finding, FindingKind, ItemRef, Severity};
 pub use freeze::{freeze_edit, thaw_edit};
-pub use results::{EmitterResult, LinkRole, PipeResult, PumpResult, Side, Solution, StageTimings};
+pub use results::{
+    DeviceResult, DeviceState, EmitterResult, LinkRole, PipeResult, PumpResult, Side, Solution, StageTimings,
+};
 pub use size::{HEADER_OUTLET_ZETA, SizeInputs, choose_size};
 
 use crate::network::solver::{SolveSettings, SolverWorkspace};

@@ -66,7 +66,7 @@ impl Derivation<'_> {
         };
         let initial: &[f64] = if same_topology { &ws.last_flows } else { &self.design_flows };
         let report = solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(initial));
-        let report = match report {
+        let mut report = match report {
             Ok(r) => {
                 sol.timings.solver_ms = r.timings.total_us / 1000.0;
                 r
@@ -77,6 +77,28 @@ impl Derivation<'_> {
                 return;
             }
         };
+        // Δp controllers: their states and openings in an outer loop around
+        // the Newton solve (design/devices.rs).
+        let mut rounds = 0;
+        while report.converged && !self.regulate(&report.flows_kg_s, &report.pressures_pa) {
+            rounds += 1;
+            if rounds > super::devices::MAX_REGULATION_ROUNDS {
+                self.findings.push(findings::regulation_not_settled(rounds - 1));
+                break;
+            }
+            let start = report.flows_kg_s.clone();
+            match solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(&start)) {
+                Ok(r) => {
+                    sol.timings.solver_ms += r.timings.total_us / 1000.0;
+                    report = r;
+                }
+                Err(e) => {
+                    ws.solver = Some(solver_ws);
+                    self.findings.push(findings::network_invalid(&e));
+                    return;
+                }
+            }
+        }
         sol.iterations = report.iterations;
         sol.converged = report.converged;
         if !report.converged {
@@ -103,6 +125,10 @@ impl Derivation<'_> {
         ws.solver = Some(solver_ws);
         self.pipes_filled = true;
         sol.link_flows_kg_s = flows;
+        if !self.devices.is_empty() {
+            let (f, pr) = (sol.link_flows_kg_s.clone(), sol.node_pressures_pa.clone());
+            self.device_results(&p.settings, &f, &pr, sol);
+        }
         let flows = &sol.link_flows_kg_s;
 
         // Emitter outputs at the real flows.

@@ -40,6 +40,8 @@ pub enum LinkRole {
     Source(NodeId),
     /// The circulation pump.
     Pump(NodeId),
+    /// The balancing device on a run.
+    Device(RunId),
 }
 
 impl LinkRole {
@@ -54,6 +56,7 @@ impl LinkRole {
             Self::EmitterBody(n) => format!("emitter {n}"),
             Self::Source(n) => format!("heat source {n}"),
             Self::Pump(n) => format!("pump of {n}"),
+            Self::Device(r) => format!("device on run {r}"),
         }
     }
 }
@@ -210,6 +213,56 @@ pub struct PumpResult {
     pub on_max_curve: bool,
 }
 
+/// What a balancing device is doing in the operating solve.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum DeviceState {
+    /// A static valve at its setting.
+    Fixed,
+    /// A controller throttling to hold its Δp.
+    Regulating,
+    /// A controller fully open at Kvs: the pump does not give the branch its
+    /// set-point.
+    Saturated,
+    /// A controller shut: its branch draws no flow.
+    Closed,
+}
+
+/// Results of one balancing device (see [`crate::project::BranchDevice`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DeviceResult {
+    /// The run it sits on.
+    pub run: RunId,
+    /// The branch's first node (downstream end of the run).
+    pub branch: NodeId,
+    /// "balancing valve" or "Δp controller".
+    pub kind: &'static str,
+    /// Catalog name of the model.
+    pub family: String,
+    /// Setting (balancing valve) or set-point in kPa (controller), as text.
+    pub setting: String,
+    /// Kv at the setting (valve) or Kvs (controller), m³/h.
+    pub kv_m3_h: f64,
+    /// Design flow through it, l/h.
+    pub design_flow_l_h: f64,
+    /// Δp across it at design flow, Pa.
+    pub design_dp_pa: f64,
+    /// Δp the branch needs at its entry at design flow (its own index
+    /// circuit), Pa: what a controller holds.
+    pub branch_dp_pa: f64,
+    /// Operating flow through it, l/h.
+    pub flow_l_h: f64,
+    /// Operating Δp across it, Pa.
+    pub dp_pa: f64,
+    /// Operating Δp across the branch (supply at its entry to the device's
+    /// inlet), Pa.
+    pub held_dp_pa: f64,
+    /// Operating state.
+    pub state: DeviceState,
+    /// Operating flow / design flow − 1.
+    pub flow_deviation: f64,
+}
+
 /// Timing of the stages, ms.
 #[derive(Debug, Clone, Copy, PartialEq, Default, serde::Serialize)]
 pub struct StageTimings {
@@ -234,6 +287,8 @@ pub struct Solution {
     pub pipes: Vec<PipeResult>,
     /// Emitters in id order.
     pub emitters: Vec<EmitterResult>,
+    /// Balancing devices, in run id order.
+    pub devices: Vec<DeviceResult>,
     /// Pump duty.
     pub pump: Option<PumpResult>,
     /// Index emitter.

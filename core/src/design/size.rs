@@ -107,6 +107,7 @@ impl Derivation<'_> {
         self.total_design_kg_s = emitter_flows.iter().map(|x| x.2).sum();
         self.choose_sizes(p, dn, ws, sp, rp);
         self.local_losses(dn, ws, sp, rp);
+        self.size_devices();
     }
 
     /// Size every pipe (a run's fixed size where it has one).
@@ -298,7 +299,14 @@ impl Derivation<'_> {
     fn compute_tree_orders(&self) -> Option<(Vec<usize>, Vec<usize>)> {
         let n_nodes = self.net.nodes.len();
         let supply_links: Vec<usize> = self.pipes.iter().filter(|p| p.side == Side::Supply).map(|p| p.link).collect();
-        let return_links: Vec<usize> = self.pipes.iter().filter(|p| p.side == Side::Return).map(|p| p.link).collect();
+        // Balancing devices sit on the return tree like pipes.
+        let return_links: Vec<usize> = self
+            .pipes
+            .iter()
+            .filter(|p| p.side == Side::Return)
+            .map(|p| p.link)
+            .chain(self.devices.iter().map(|d| d.link))
+            .collect();
         let depth = |links: &[usize], root: usize, towards_root: bool| -> Vec<usize> {
             // Links by their node nearer the root (CSR, in `links` order).
             let near_of = |l: usize| {

@@ -83,6 +83,35 @@ impl PipeData {
     }
 }
 
+/// A balancing device of the derived network (see
+/// [`crate::project::BranchDevice`]).
+#[derive(Debug, Clone)]
+pub(super) struct DeviceData {
+    /// The run it sits on.
+    pub(super) run: RunId,
+    /// The run's downstream layout node (the branch's first node).
+    pub(super) down: NodeId,
+    /// What the project says.
+    pub(super) device: crate::project::BranchDevice,
+    /// Its link (inlet → the upstream node's return).
+    pub(super) link: usize,
+    /// Its inlet node: the branch's return end.
+    pub(super) inlet: usize,
+    /// The upstream node's supply and return nodes (the branch's entry).
+    pub(super) entry_supply: usize,
+    pub(super) entry_return: usize,
+    /// The balancing valve family used (sized or given).
+    pub(super) valve: Option<&'static crate::valves::ValveFamily>,
+    /// The controller model used (sized or given).
+    pub(super) controller: Option<&'static crate::controllers::DpControllerFamily>,
+    /// Controller set-point (at fully open, see [`crate::controllers`]), Pa.
+    pub(super) setpoint_pa: f64,
+    /// Design mass flow through the device, kg/s.
+    pub(super) flow_kg_s: f64,
+    /// Index into `Solution::devices`.
+    pub(super) result: usize,
+}
+
 /// What one pipe to add joins and how it was drawn.
 #[derive(Debug, Clone, Copy)]
 pub(super) struct NewPipe {
@@ -107,6 +136,7 @@ pub(super) struct Derivation<'f> {
     pub(super) roles: Vec<LinkRole>,
     pub(super) emitters: Vec<EmitterData>,
     pub(super) pipes: Vec<PipeData>,
+    pub(super) devices: Vec<DeviceData>,
     pub(super) source: Option<NodeId>,
     pub(super) source_link: usize,
     pub(super) pump_link: usize,
@@ -147,6 +177,7 @@ impl<'f> Derivation<'f> {
             roles: Vec::new(),
             emitters: Vec::new(),
             pipes: Vec::new(),
+            devices: Vec::new(),
             source: None,
             source_link: 0,
             pump_link: 0,

@@ -245,6 +245,47 @@ pub struct RunProps {
     pub fixed_return_size: Option<String>,
     /// Return layout from this run downstream; `None` = inherited.
     pub return_layout: Option<ReturnLayout>,
+    /// A device on the run's return, at its upstream end, balancing the
+    /// branch the run feeds.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub device: Option<BranchDevice>,
+}
+
+/// A device that balances the branch a run feeds. It sits on the run's
+/// return at the run's upstream end (where the branch leaves the main).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub enum BranchDevice {
+    /// A static balancing valve with handwheel settings. The design chooses
+    /// its setting so that the branch takes what its own index circuit needs
+    /// and no more.
+    BalancingValve {
+        /// Valve family (`assets/valves`, kind Balancing); `None` = the design
+        /// picks the smallest that passes the branch's design flow.
+        family: Option<String>,
+        /// Setting installed; `None` = chosen by the design.
+        setting: Option<String>,
+    },
+    /// A differential-pressure controller holding the Δp across the branch
+    /// (branch supply to branch return at the run's upstream end).
+    DpController {
+        /// Controller model (`assets/controllers`); `None` = the design picks
+        /// the smallest that passes the branch's design flow.
+        family: Option<String>,
+        /// Set-point, kPa; `None` = chosen by the design (the branch's own
+        /// index circuit with the minimum valve Δp).
+        setpoint_kpa: Option<f64>,
+    },
+}
+
+impl BranchDevice {
+    /// Words for people.
+    #[must_use]
+    pub fn name(&self) -> &'static str {
+        match self {
+            Self::BalancingValve { .. } => "balancing valve",
+            Self::DpController { .. } => "Δp controller",
+        }
+    }
 }
 
 /// A drawn run: one line standing for a supply + return pair.

@@ -93,6 +93,106 @@ pub(crate) fn reverse_return_fork(at: NodeId, label: &str) -> Finding {
     )
 }
 
+pub(crate) fn device_in_reverse_chain(run: RunId) -> Finding {
+    Finding::warning(
+        FindingKind::DeviceInReverseChain,
+        ItemRef::Run(run),
+        format!(
+            "run {run}: a balancing device on a reverse-return chain has no branch return of its own and is left out — \
+             put it on the run feeding the chain"
+        ),
+    )
+}
+
+pub(crate) fn nested_device(run: RunId, outer: RunId) -> Finding {
+    Finding::warning(
+        FindingKind::NestedDevice,
+        ItemRef::Run(run),
+        format!(
+            "run {run}: its balancing device lies in the branch of the device on run {outer} and is left out (one level \
+             of branch devices) — remove one of them"
+        ),
+    )
+}
+
+pub(crate) fn device_model_unknown(run: RunId, what: &str) -> Finding {
+    Finding::error(
+        FindingKind::DeviceModelUnknown,
+        ItemRef::Run(run),
+        format!("run {run}: the {what}'s model is not in the catalog — pick one, or leave it to the design"),
+    )
+}
+
+pub(crate) fn presetting_unknown_on_run(run: RunId, label: &str, family: &str) -> Finding {
+    Finding::error(
+        FindingKind::DeviceSettingUnknown,
+        ItemRef::Run(run),
+        format!("run {run}: balancing-valve setting {label} is not a step of {family} — pick one of its steps"),
+    )
+}
+
+pub(crate) fn setpoint_out_of_range(run: RunId, family: &str, sp_pa: f64, lo_pa: f64, hi_pa: f64) -> Finding {
+    Finding::warning(
+        FindingKind::SetpointOutOfRange,
+        ItemRef::Run(run),
+        format!(
+            "run {run}: the Δp controller's set-point {:.1} kPa is outside the {:.0}–{:.0} kPa of {family}; it is set \
+             to the nearest end — choose a model with a suitable range",
+            sp_pa / 1000.0,
+            lo_pa / 1000.0,
+            hi_pa / 1000.0
+        ),
+    )
+}
+
+pub(crate) fn controller_saturated(run: RunId, family: &str, target_pa: f64, held_pa: f64) -> Finding {
+    Finding::warning(
+        FindingKind::ControllerSaturated,
+        ItemRef::Run(run),
+        format!(
+            "run {run}: the Δp controller ({family}) is fully open and holds only {:.1} kPa of its {:.1} kPa, {:.1} kPa \
+             short — its branch gets less than its design flows; raise the pump head or choose a controller with a \
+             larger Kvs",
+            held_pa / 1000.0,
+            target_pa / 1000.0,
+            (target_pa - held_pa) / 1000.0
+        ),
+    )
+}
+
+pub(crate) fn regulation_not_settled(rounds: usize) -> Finding {
+    Finding::warning(
+        FindingKind::RegulationNotSettled,
+        ItemRef::Project,
+        format!(
+            "the Δp controllers did not settle in {rounds} rounds — their branches' flows are approximate; check for \
+             controllers whose branches are nearly closed"
+        ),
+    )
+}
+
+pub(crate) fn device_flow_out_of_tolerance(
+    run: RunId,
+    kind: &str,
+    flow_l_h: f64,
+    design_l_h: f64,
+    deviation: f64,
+    tolerance: f64,
+    installed: bool,
+) -> Finding {
+    let fix = if installed { "re-set it" } else { "its steps cannot come closer: choose a valve with finer steps" };
+    Finding::warning(
+        FindingKind::FlowOutOfTolerance,
+        ItemRef::Run(run),
+        format!(
+            "run {run}: the {kind} passes {flow_l_h:.0} l/h, {:+.0} % of its design flow {design_l_h:.0} l/h, outside the \
+             ±{:.0} % tolerance — {fix}",
+            deviation * 100.0,
+            tolerance * 100.0
+        ),
+    )
+}
+
 // ---------------------------------------------------------------------------
 // Inputs
 // ---------------------------------------------------------------------------

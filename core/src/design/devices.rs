@@ -1,0 +1,355 @@
+//! Balancing devices on runs ([`crate::project::BranchDevice`]): each one
+//! makes the branch its run feeds a *zone* whose emitters are balanced
+//! against the zone's own pressure difference instead of the pump's.
+//!
+//! - **Size** (with the size stage): a device without a given model gets
+//!   the smallest of its catalog that passes the branch's design flow, and
+//!   its link the law of the device fully open, so the design pressures and
+//!   the index circuit include it.
+//! - **Balance**: the zone needs `zone_need` at its entry (its own index
+//!   circuit with the index valve at the minimum valve Δp). A static
+//!   balancing valve takes the rest of what the pump leaves at the entry, to
+//!   the nearest step of its handwheel; its emitters balance against what
+//!   remains. A Δp controller's set-point is chosen so that it holds
+//!   `zone_need` at its design opening; its emitters balance against that.
+//! - **Operate**: a controller is a controlled element, its state decided in
+//!   an outer loop around the Newton solve ([`MAX_REGULATION_ROUNDS`]
+//!   rounds): *regulating* — its resistance is set so that the branch's Δp
+//!   equals what it holds at its opening (its proportional law), estimated
+//!   from the last solve with the outside pressure difference and the
+//!   branch's quadratic law, then solved again; *saturated* — fully open at
+//!   Kvs when the pump leaves less than that (a finding names the missing
+//!   Δp); *closed* — when its branch draws nothing. The states are checked
+//!   for consistency when the loop ends.
+
+use super::findings;
+use super::results::{DeviceResult, DeviceState, Solution};
+use super::state::{Derivation, DeviceData};
+use crate::controllers;
+use crate::network::LinkLaw;
+use crate::project::{BranchDevice, DesignSettings, Mode};
+use crate::valves::{self, ValveFamily, ValveKind};
+
+/// Most regulation rounds (solves) of the controllers' outer loop.
+pub const MAX_REGULATION_ROUNDS: usize = 40;
+
+/// A controller's held Δp is met when within this of its target, Pa (or
+/// 1e-4 of the target, whichever is larger).
+pub const HELD_DP_TOLERANCE_PA: f64 = 1.0;
+
+/// Below this flow a controller's branch draws nothing, kg/s.
+const CLOSED_FLOW_KG_S: f64 = 1e-7;
+
+/// The zone of each device: what the balance stage needs.
+#[derive(Debug, Clone, Default)]
+pub(super) struct Zones {
+    /// Device of each emitter (index into `Derivation::devices`), by index
+    /// into `Derivation::emitters`.
+    pub(super) of_emitter: Vec<Option<usize>>,
+    /// Δp available to the emitters of each zone at design, Pa.
+    pub(super) available_pa: Vec<f64>,
+}
+
+impl Zones {
+    /// The rest of a circuit (all but its valve) inside zone `d`: from the
+    /// zone's entry supply to the device's inlet, given its whole rest
+    /// `rest_pa` from the pump outlet to the suction.
+    pub(super) fn rest_in(&self, d: usize, rest_pa: f64, src_dp: f64, p_node: &[f64], devices: &[DeviceData]) -> f64 {
+        let dev = &devices[d];
+        rest_pa - src_dp + p_node[dev.entry_supply] - p_node[dev.inlet]
+    }
+}
+
+/// The smallest balancing valve family whose fully open Kv passes
+/// `flow_m3_h` with at most [`controllers::SIZING_DP_AT_KVS_PA`], else the
+/// largest.
+fn size_balancing_valve(flow_m3_h: f64, density_kg_m3: f64) -> Option<&'static ValveFamily> {
+    let mut all = valves::families_of_kind(ValveKind::Balancing).ok()?;
+    all.sort_by(|a, b| a.kvs_fully_open.total_cmp(&b.kvs_fully_open));
+    all.iter()
+        .copied()
+        .find(|f| {
+            valves::dp_pa_from_kv(flow_m3_h, f.kvs_fully_open, density_kg_m3)
+                .is_ok_and(|dp| dp <= controllers::SIZING_DP_AT_KVS_PA)
+        })
+        .or_else(|| all.last().copied())
+}
+
+fn r_of(kv: f64, rho: f64) -> f64 {
+    valves::resistance_r_pa_s2_kg2(kv, rho).unwrap_or(0.0)
+}
+
+impl Derivation<'_> {
+    /// Size every device and give its link the law fully open.
+    pub(super) fn size_devices(&mut self) {
+        let Some(rp) = self.return_props else { return };
+        let rho = rp.density_kg_m3;
+        for i in 0..self.devices.len() {
+            let m = self.design_flows.get(self.devices[i].link).copied().unwrap_or(0.0).abs();
+            let q_m3_h = m / rho * 3600.0;
+            self.devices[i].flow_kg_s = m;
+            let run = self.devices[i].run;
+            let law_kv = match self.devices[i].device.clone() {
+                BranchDevice::BalancingValve { family, .. } => {
+                    let f = match family {
+                        Some(id) => valves::valve_family(&id).ok(),
+                        None => size_balancing_valve(q_m3_h, rho),
+                    };
+                    if f.is_none() {
+                        self.findings.push(findings::device_model_unknown(run, "balancing valve"));
+                    }
+                    self.devices[i].valve = f;
+                    f.map(|f| f.kvs_fully_open)
+                }
+                BranchDevice::DpController { family, .. } => {
+                    let f = match family {
+                        Some(id) => controllers::dp_controller(&id).ok(),
+                        None => controllers::size_dp_controller(q_m3_h, rho).ok(),
+                    };
+                    if f.is_none() {
+                        self.findings.push(findings::device_model_unknown(run, "Δp controller"));
+                    }
+                    self.devices[i].controller = f;
+                    f.map(|f| f.kvs_m3_h)
+                }
+            };
+            let r = law_kv.map_or(0.0, |kv| r_of(kv, rho));
+            let link = self.devices[i].link;
+            self.net.links[link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r };
+        }
+    }
+
+    /// The zones of the devices and what each leaves its emitters at design
+    /// flow; the devices' settings, set-points and operating laws; their
+    /// design results in `sol.devices`.
+    ///
+    /// `p_node`: design pressures; `rest_pa`, `open_valve_pa`: each
+    /// emitter's circuit Δp without its valve and of its valve fully open
+    /// (design flow, whole circuit); `available`: the pump's head at design
+    /// flow; `src_dp`: the source's Δp at design flow.
+    #[allow(clippy::too_many_arguments)] // reason: the design pressures and circuits the zones are made from
+    pub(super) fn balance_devices(
+        &mut self,
+        s: &DesignSettings,
+        p_node: &[f64],
+        rest_pa: &[f64],
+        open_valve_pa: &[f64],
+        available: f64,
+        src_dp: f64,
+        sol: &mut Solution,
+    ) -> Zones {
+        let mut zones =
+            Zones { of_emitter: vec![None; self.emitters.len()], available_pa: vec![0.0; self.devices.len()] };
+        if self.devices.is_empty() {
+            return zones;
+        }
+        let Some(rp) = self.return_props else { return zones };
+        let rho = rp.density_kg_m3;
+        // Emitters of each zone (their nodes downstream of the device's run).
+        let slot_of: std::collections::HashMap<crate::project::NodeId, usize> =
+            self.emitters.iter().enumerate().map(|(i, e)| (e.id, i)).collect();
+        let mut order: Vec<usize> = (0..self.devices.len()).collect();
+        order.sort_by_key(|&d| self.devices[d].run);
+        for d in order {
+            let dev = self.devices[d].clone();
+            for n in self.topo.subtree(dev.down) {
+                if let Some(&i) = slot_of.get(&n) {
+                    zones.of_emitter[i] = Some(d);
+                }
+            }
+            // The zone's own index circuit: the most its circuits need at
+            // its entry, the valve taking at least its minimum.
+            let need = (0..self.emitters.len())
+                .filter(|&i| zones.of_emitter[i] == Some(d) && self.emitters[i].flow_kg_s > 0.0)
+                .map(|i| {
+                    zones.rest_in(d, rest_pa[i], src_dp, p_node, &self.devices)
+                        + open_valve_pa[i].max(s.min_valve_dp_pa)
+                })
+                .fold(0.0_f64, f64::max);
+            let outside = src_dp - p_node[dev.entry_supply] + p_node[dev.entry_return];
+            let entry = available - outside;
+            let m = dev.flow_kg_s;
+            let q_m3_h = m / rho * 3600.0;
+            let mut result = DeviceResult {
+                run: dev.run,
+                branch: dev.down,
+                kind: dev.device.name(),
+                family: String::new(),
+                setting: String::new(),
+                kv_m3_h: 0.0,
+                design_flow_l_h: q_m3_h * 1000.0,
+                design_dp_pa: 0.0,
+                branch_dp_pa: need,
+                flow_l_h: 0.0,
+                dp_pa: 0.0,
+                held_dp_pa: 0.0,
+                state: DeviceState::Fixed,
+                flow_deviation: 0.0,
+            };
+            let link = dev.link;
+            match (&dev.device, dev.valve, dev.controller) {
+                (BranchDevice::BalancingValve { setting, .. }, Some(f), _) => {
+                    result.family.clone_from(&f.name);
+                    let chosen = match setting {
+                        Some(label) => f.settings.iter().find(|st| st.label == *label).or_else(|| {
+                            self.findings.push(findings::presetting_unknown_on_run(dev.run, label, &f.name));
+                            f.settings.last()
+                        }),
+                        None if m > 0.0 && entry - need > 0.0 => {
+                            let kv = valves::kv_needed(q_m3_h, entry - need, rho).unwrap_or(f.kvs_fully_open);
+                            valves::choose_setting(f, kv).ok().and_then(|c| f.settings.get(c.index))
+                        }
+                        None => f.settings.last(),
+                    };
+                    if let Some(st) = chosen {
+                        result.setting.clone_from(&st.label);
+                        result.kv_m3_h = st.kv_m3_h;
+                        let r = r_of(st.kv_m3_h, rho);
+                        result.design_dp_pa = r * m * m;
+                        self.net.links[link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r };
+                    }
+                    zones.available_pa[d] = entry - result.design_dp_pa;
+                }
+                (BranchDevice::DpController { setpoint_kpa, .. }, _, Some(f)) => {
+                    result.family.clone_from(&f.name);
+                    result.kv_m3_h = f.kvs_m3_h;
+                    // Design opening: the controller takes what the pump
+                    // leaves above the branch's need (at least its Kvs drop).
+                    let dp_dev = (entry - need).max(r_of(f.kvs_m3_h, rho) * m * m);
+                    let kv_design = if dp_dev > 0.0 && m > 0.0 {
+                        valves::kv_needed(q_m3_h, dp_dev, rho).unwrap_or(f.kvs_m3_h).min(f.kvs_m3_h)
+                    } else {
+                        f.kvs_m3_h
+                    };
+                    let sp_pa = match (setpoint_kpa, s.mode) {
+                        (Some(kpa), _) => kpa * 1000.0,
+                        (None, Mode::DesignFollowsLayout | Mode::Installed) => {
+                            // Held at the design opening = the branch's need.
+                            need - f.proportional_band_kpa * 1000.0 * (1.0 - kv_design / f.kvs_m3_h)
+                        }
+                    };
+                    let lo = f.setpoint_min_kpa * 1000.0;
+                    let hi = f.setpoint_max_kpa * 1000.0;
+                    if !(lo..=hi).contains(&sp_pa) {
+                        self.findings.push(findings::setpoint_out_of_range(dev.run, &f.name, sp_pa, lo, hi));
+                    }
+                    let sp_pa = sp_pa.clamp(lo, hi);
+                    self.devices[d].setpoint_pa = sp_pa;
+                    result.setting = format!("{:.1} kPa", sp_pa / 1000.0);
+                    result.design_dp_pa = dp_dev;
+                    result.branch_dp_pa = f.held_dp_pa(sp_pa, kv_design);
+                    result.state = DeviceState::Regulating;
+                    let r = if m > 0.0 { (dp_dev / (m * m)).max(r_of(f.kvs_m3_h, rho)) } else { r_of(f.kvs_m3_h, rho) };
+                    self.net.links[link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r };
+                    zones.available_pa[d] = result.branch_dp_pa;
+                }
+                _ => zones.available_pa[d] = entry,
+            }
+            self.devices[d].result = sol.devices.len();
+            sol.devices.push(result);
+        }
+        zones
+    }
+
+    /// One round of the controllers' outer loop after a solve: the new
+    /// resistance of every regulating controller whose branch Δp is off what
+    /// it holds. Returns true when every controller is consistent (nothing
+    /// changed).
+    pub(super) fn regulate(&mut self, flows: &[f64], pressures: &[f64]) -> bool {
+        let Some(rp) = self.return_props else { return true };
+        let rho = rp.density_kg_m3;
+        let mut settled = true;
+        for dev in &self.devices {
+            let Some(f) = dev.controller else { continue };
+            let (Some(&m), Some(&p_s), Some(&p_x), Some(&p_r)) = (
+                flows.get(dev.link),
+                pressures.get(dev.entry_supply),
+                pressures.get(dev.inlet),
+                pressures.get(dev.entry_return),
+            ) else {
+                continue;
+            };
+            let LinkLaw::Quadratic { r_pa_s2_kg2: r } = self.net.links[dev.link].law else { continue };
+            if m.abs() < CLOSED_FLOW_KG_S {
+                continue;
+            }
+            let r_kvs = r_of(f.kvs_m3_h, rho);
+            let branch = p_s - p_x; // what the branch gets
+            let outside = p_s - p_r; // branch + device
+            let kv = kv_of(r, rho);
+            let target = f.held_dp_pa(dev.setpoint_pa, kv);
+            let tol = HELD_DP_TOLERANCE_PA.max(1e-4 * target);
+            let at_kvs = r <= r_kvs * (1.0 + 1e-9);
+            if (branch - target).abs() <= tol || (at_kvs && branch < target) {
+                continue;
+            }
+            // The branch's flow follows √Δp; the device takes the rest of
+            // the outside difference at that flow.
+            let m_new = m * (target.max(1.0) / branch.max(1.0)).sqrt();
+            let dp_dev = outside - target;
+            let r_new = if dp_dev > 0.0 { (dp_dev / (m_new * m_new)).max(r_kvs) } else { r_kvs };
+            if (r_new - r).abs() > 1e-12 * r.max(1.0) {
+                self.net.links[dev.link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r_new };
+                settled = false;
+            }
+        }
+        settled
+    }
+
+    /// The devices' operating results, their states and findings.
+    pub(super) fn device_results(&mut self, s: &DesignSettings, flows: &[f64], pressures: &[f64], sol: &mut Solution) {
+        let Some(rp) = self.return_props else { return };
+        let rho = rp.density_kg_m3;
+        let installed = s.mode == Mode::Installed;
+        for dev in &self.devices {
+            let Some(res) = sol.devices.get_mut(dev.result) else { continue };
+            let m = flows.get(dev.link).copied().unwrap_or(0.0);
+            let p = |n: usize| pressures.get(n).copied().unwrap_or(0.0);
+            res.flow_l_h = m / rho * 3.6e6;
+            res.dp_pa = p(dev.inlet) - p(dev.entry_return);
+            res.held_dp_pa = p(dev.entry_supply) - p(dev.inlet);
+            res.flow_deviation = if dev.flow_kg_s > 0.0 { m / dev.flow_kg_s - 1.0 } else { 0.0 };
+            if let Some(f) = dev.controller {
+                let r = match self.net.links[dev.link].law {
+                    LinkLaw::Quadratic { r_pa_s2_kg2 } => r_pa_s2_kg2,
+                    LinkLaw::Pipe(_) | LinkLaw::Pump { .. } => 0.0,
+                };
+                let target = f.held_dp_pa(dev.setpoint_pa, kv_of(r, rho));
+                res.state = if m.abs() < CLOSED_FLOW_KG_S {
+                    DeviceState::Closed
+                } else if r <= r_of(f.kvs_m3_h, rho) * (1.0 + 1e-9)
+                    && res.held_dp_pa < target - HELD_DP_TOLERANCE_PA.max(1e-4 * target)
+                {
+                    DeviceState::Saturated
+                } else {
+                    DeviceState::Regulating
+                };
+                if res.state == DeviceState::Saturated {
+                    self.findings.push(findings::controller_saturated(dev.run, &f.name, target, res.held_dp_pa));
+                }
+            } else if m.abs() > CLOSED_FLOW_KG_S
+                && dev.flow_kg_s > 0.0
+                && res.flow_deviation.abs() > s.flow_tolerance_fraction
+            {
+                self.findings.push(findings::device_flow_out_of_tolerance(
+                    dev.run,
+                    res.kind,
+                    res.flow_l_h,
+                    res.design_flow_l_h,
+                    res.flow_deviation,
+                    s.flow_tolerance_fraction,
+                    installed,
+                ));
+            }
+        }
+    }
+}
+
+/// Effective Kv of a quadratic resistance, m³/h (inverse of
+/// [`valves::resistance_r_pa_s2_kg2`]).
+fn kv_of(r_pa_s2_kg2: f64, rho: f64) -> f64 {
+    if r_pa_s2_kg2 <= 0.0 {
+        return f64::INFINITY;
+    }
+    (valves::PA_PER_BAR * 3600.0 * 3600.0 / (valves::RHO_REF_KG_M3 * rho * r_pa_s2_kg2)).sqrt()
+}

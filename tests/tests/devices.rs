@@ -1,0 +1,171 @@
+//! Acceptance tests of the balancing devices on runs (issue 17): a branch
+//! behind a differential-pressure controller, a saturated controller, a
+//! static balancing valve.
+
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // reason: test code
+
+use flowrise_core::design::{
+    DeviceState, FindingKind, ItemRef, Solution, SolveOptions, Workspace, freeze_edit, solve_project,
+};
+use flowrise_core::network::solver::{self, SolveSettings, SolverWorkspace};
+use flowrise_core::network::{LinkLaw, solver::link_dp};
+use flowrise_core::project::{BranchDevice, Edit, LevelId, Mode, NodeKind, Project, RunId, RunProps};
+use flowrise_core::pump::PumpControl;
+use flowrise_tests::builder::Builder;
+
+/// A source, a main to a junction, a branch (with the device on its first
+/// run) of four radiators, and two radiators off the main near the source.
+fn branch_project(device: BranchDevice) -> (Project, RunId) {
+    let mut b = Builder::new("Branch behind a device");
+    let g = LevelId(0);
+    // A strong pump (invented curve): 80 kPa at shut-off.
+    let src = b.source(
+        g,
+        0.0,
+        0.0,
+        30_000.0,
+        [(0.3, 80.0), (1.5, 70.0), (3.0, 40.0)],
+        PumpControl::ConstantDp { setpoint_kpa: 30.0 },
+    );
+    let j = b.junction(g, 6.0, 0.0);
+    b.run(src, j);
+    for (k, x) in [4.0, 8.0].into_iter().enumerate() {
+        let r = b.radiator(g, x, 3.0, &format!("Near {k}"), 1200.0, 20.0);
+        b.run(j, r);
+    }
+    let bj = b.junction(g, 10.0, 0.0);
+    let branch = b.run(j, bj);
+    let mut prev = bj;
+    for k in 0..4 {
+        let x = 14.0 + 4.0 * f64::from(k);
+        let jk = b.junction(g, x, 0.0);
+        b.run(prev, jk);
+        let r = b.radiator(g, x, 3.0, &format!("Room {k}"), 1000.0 + 100.0 * f64::from(k), 20.0);
+        b.run(jk, r);
+        prev = jk;
+    }
+    b.p.apply(Edit::SetRunProps { id: branch, props: RunProps { device: Some(device), ..RunProps::default() } })
+        .unwrap();
+    (b.p, branch)
+}
+
+fn solve(p: &Project) -> Solution {
+    solve_project(p, &SolveOptions::default(), &mut Workspace::default())
+}
+
+fn controller() -> BranchDevice {
+    BranchDevice::DpController { family: None, setpoint_kpa: None }
+}
+
+/// Set the pump of an installed project to hold `kpa`.
+fn with_pump_head(p: &Project, kpa: f64) -> Project {
+    let mut q = p.clone();
+    let src = q.sources()[0];
+    let Some(NodeKind::Source(mut s)) = q.node(src).map(|n| n.kind.clone()) else { panic!() };
+    s.pump.control = PumpControl::ConstantDp { setpoint_kpa: kpa };
+    q.apply(Edit::SetNodeKind { id: src, kind: NodeKind::Source(s) }).unwrap();
+    q
+}
+
+#[test]
+fn the_design_sets_a_controller_and_the_branch_is_balanced_against_it() {
+    let (p, run) = branch_project(controller());
+    let sol = solve(&p);
+    assert!(!sol.has_errors(), "{:#?}", sol.findings);
+    assert_eq!(sol.devices.len(), 1);
+    let d = &sol.devices[0];
+    assert_eq!(d.run, run);
+    assert_eq!(d.state, DeviceState::Regulating, "{d:?}");
+    // The branch's emitters got within the tolerance of their design flows.
+    for e in &sol.emitters {
+        assert!(e.flow_within_tolerance, "{}: {:+.1} %", e.id, e.flow_deviation * 100.0);
+    }
+    // It holds about what its branch needs (within its proportional band).
+    assert!((d.held_dp_pa - d.branch_dp_pa).abs() < 2_500.0, "{d:?}");
+    assert!(!sol.findings.iter().any(|f| f.kind == FindingKind::ControllerSaturated));
+}
+
+/// Issue 17 acceptance: with the pump head ±30 % around a set-point with
+/// reserve (1.5 × the design duty: at the duty itself the index branch's
+/// controller is already fully open, as designed), the branch behind the
+/// controller keeps its Δp within the controller's proportional band.
+#[test]
+fn a_controlled_branch_keeps_its_dp_while_the_pump_head_varies() {
+    let (p, _) = branch_project(controller());
+    let sol = solve(&p);
+    let mut installed = p.clone();
+    installed.apply(freeze_edit(&p, &sol)).unwrap();
+    assert_eq!(installed.settings.mode, Mode::Installed);
+    let base = solve(&installed);
+    let d = base.devices[0].clone();
+    let BranchDevice::DpController { setpoint_kpa: Some(sp_kpa), family: Some(fam) } =
+        installed.runs().find(|r| r.id == d.run).unwrap().props.device.clone().unwrap()
+    else {
+        panic!("frozen with its set-point and model")
+    };
+    let f = flowrise_core::controllers::dp_controller(&fam).unwrap();
+    let head = 1.5 * base.pump.as_ref().unwrap().duty_head_pa / 1000.0;
+    for factor in [0.7, 0.85, 1.0, 1.15, 1.3] {
+        let q = with_pump_head(&installed, head * factor);
+        let s = solve(&q);
+        let dev = &s.devices[0];
+        assert_eq!(dev.state, DeviceState::Regulating, "×{factor}: {dev:?}");
+        let lo = sp_kpa * 1000.0 - 1.0;
+        let hi = sp_kpa * 1000.0 + f.proportional_band_kpa * 1000.0 + 1.0;
+        assert!(
+            (lo..=hi).contains(&dev.held_dp_pa),
+            "×{factor}: branch Δp {:.0} Pa outside the band {lo:.0}..{hi:.0} Pa",
+            dev.held_dp_pa
+        );
+    }
+}
+
+/// Issue 17 acceptance: a controller the pump cannot serve saturates
+/// fully open: the finding names it and the missing Δp, and the flows are
+/// exactly those of the same network with a fixed valve of the
+/// controller's Kvs in its place (same solver, same network).
+#[test]
+fn a_saturated_controller_is_a_fixed_valve_at_kvs_with_a_finding() {
+    let (p, run) = branch_project(controller());
+    let sol = solve(&p);
+    let mut installed = p.clone();
+    installed.apply(freeze_edit(&p, &sol)).unwrap();
+    let weak = with_pump_head(&installed, 4.0);
+    let s = solve(&weak);
+    let dev = &s.devices[0];
+    assert_eq!(dev.state, DeviceState::Saturated, "{dev:?}");
+    let finding = s.findings.iter().find(|f| f.kind == FindingKind::ControllerSaturated).expect("a finding");
+    assert_eq!(finding.item, ItemRef::Run(run));
+    assert!(finding.message.contains("short"), "{}", finding.message);
+    // The same network with the device link at the controller's Kvs.
+    let mut net = s.network.clone();
+    let k = s.roles.iter().position(|r| *r == flowrise_core::design::LinkRole::Device(run)).unwrap();
+    let rho = net.links[k].density_kg_m3;
+    let r_kvs = flowrise_core::valves::resistance_r_pa_s2_kg2(dev.kv_m3_h, rho).unwrap();
+    net.links[k].law = LinkLaw::Quadratic { r_pa_s2_kg2: r_kvs };
+    let mut ws = SolverWorkspace::new(&net).unwrap();
+    let fixed = solver::solve(&net, &SolveSettings::default(), &mut ws, None).unwrap();
+    assert!(fixed.converged);
+    for (a, b) in s.link_flows_kg_s.iter().zip(&fixed.flows_kg_s) {
+        assert!((a - b).abs() <= 1e-6 * b.abs().max(1e-3), "{a} vs {b}");
+    }
+    // And the device's own Δp is its Kvs drop at that flow.
+    let m = s.link_flows_kg_s[k];
+    assert!((link_dp(&net.links[k].law, m).unwrap().0 - dev.dp_pa).abs() < 1.0);
+}
+
+#[test]
+fn a_balancing_valve_takes_the_excess_of_its_branch() {
+    let (p, run) = branch_project(BranchDevice::BalancingValve { family: None, setting: None });
+    let sol = solve(&p);
+    assert!(!sol.has_errors(), "{:#?}", sol.findings);
+    let d = &sol.devices[0];
+    assert_eq!(d.run, run);
+    assert!(!d.setting.is_empty() && d.design_dp_pa > 0.0, "{d:?}");
+    for e in &sol.emitters {
+        assert!(e.flow_within_tolerance, "{}: {:+.1} %", e.id, e.flow_deviation * 100.0);
+    }
+    // Old files (no device field) still load; the device round-trips.
+    let text = p.to_ron().unwrap();
+    assert_eq!(Project::from_ron(&text).unwrap(), p);
+}
