@@ -21,6 +21,11 @@ pub enum Device {
     Valve,
     /// An emitter's lockshield (return).
     Lockshield,
+    /// A balancing valve on a branch.
+    BalancingValve,
+    /// A differential-pressure controller on a branch (its setting is the
+    /// set-point; its Δp the one it holds across the branch).
+    DpController,
 }
 
 impl Device {
@@ -30,6 +35,8 @@ impl Device {
         match self {
             Self::Valve => "valve",
             Self::Lockshield => "lockshield",
+            Self::BalancingValve => "balancing valve",
+            Self::DpController => "Δp controller",
         }
     }
 }
@@ -89,6 +96,23 @@ pub fn schedule(p: &Project, sol: &Solution) -> Vec<ScheduleLine> {
             kv_m3_h: e.lockshield_kv_m3_h,
             design_flow_l_h: e.design_flow_l_h,
             dp_kpa: e.lockshield_dp_pa / 1000.0,
+        });
+    }
+    for d in &sol.devices {
+        let level = p.node(d.branch).and_then(|n| p.level(n.level)).map_or_else(String::new, |l| l.name.clone());
+        let controller = d.kind == "Δp controller";
+        out.push(ScheduleLine {
+            level,
+            item: d.run.to_string(),
+            name: format!("branch from {}", d.branch),
+            device: if controller { Device::DpController } else { Device::BalancingValve },
+            family: d.family.clone(),
+            setting: d.setting.clone(),
+            kv_m3_h: d.kv_m3_h,
+            design_flow_l_h: d.design_flow_l_h,
+            // A controller: the Δp it holds across its branch; a valve: the
+            // Δp across it.
+            dp_kpa: if controller { d.branch_dp_pa } else { d.design_dp_pa } / 1000.0,
         });
     }
     // Emitters come in id order; a level's lines together, in the order

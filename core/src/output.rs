@@ -4,7 +4,7 @@
 
 use serde_json::{Value, json};
 
-use crate::design::{EmitterResult, Finding, PipeResult, Severity, Side, Solution};
+use crate::design::{DeviceResult, EmitterResult, Finding, PipeResult, Severity, Side, Solution};
 use crate::project::Project;
 
 /// Write one formatted line to a [`std::fmt::Write`] sink, stopping the
@@ -108,6 +108,7 @@ fn head_json(p: &Project, sol: &Solution) -> Value {
         "project": p.name,
         "mode": match p.settings.mode { crate::project::Mode::DesignFollowsLayout => "design", crate::project::Mode::Installed => "installed" },
         "totals": totals,
+        "devices": sol.devices.iter().map(device_json).collect::<Vec<_>>(),
     });
     if let Value::Object(m) = &mut doc {
         for key in STREAMED {
@@ -115,6 +116,24 @@ fn head_json(p: &Project, sol: &Solution) -> Value {
         }
     }
     doc
+}
+
+fn device_json(d: &DeviceResult) -> Value {
+    json!({
+        "run": d.run.to_string(),
+        "branch": d.branch.to_string(),
+        "kind": d.kind,
+        "model": d.family,
+        "setting": d.setting,
+        "kv_m3_h": round(d.kv_m3_h, 4),
+        "design_flow_l_h": round(d.design_flow_l_h, 2),
+        "design_dp_kpa": round(d.design_dp_pa / 1000.0, 3),
+        "branch_dp_kpa": round(d.branch_dp_pa / 1000.0, 3),
+        "flow_l_h": round(d.flow_l_h, 2),
+        "dp_kpa": round(d.dp_pa / 1000.0, 3),
+        "held_dp_kpa": round(d.held_dp_pa / 1000.0, 3),
+        "state": d.state,
+    })
 }
 
 fn emitter_json(e: &EmitterResult) -> Value {

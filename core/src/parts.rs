@@ -30,7 +30,9 @@ use std::collections::{BTreeMap, BTreeSet};
 use thiserror::Error;
 
 mod lines;
-use lines::{emitter_lines, fitting_lines, header_lines, insulation_lines, pipe_lines, plant_lines, valve_lines};
+use lines::{
+    device_lines, emitter_lines, fitting_lines, header_lines, insulation_lines, pipe_lines, plant_lines, valve_lines,
+};
 
 use crate::csv_cell;
 use crate::design::{Side, Solution};
@@ -91,7 +93,7 @@ pub enum PartCategory {
     Fitting,
     /// Radiators, floor loops, terminals.
     Emitter,
-    /// Emitter valves and lockshields.
+    /// Emitter valves, lockshields and balancing devices on runs.
     Valve,
     /// Distributor + collector pairs.
     Header,
@@ -262,6 +264,7 @@ pub fn parts_list(p: &Project, sol: &Solution, opts: &PartsOptions) -> PhysicsRe
     fitting_lines(p, sol, &mut acc)?;
     emitter_lines(p, sol, &mut acc);
     valve_lines(p, sol, &mut acc);
+    device_lines(sol, &mut acc);
     header_lines(p, sol, &mut acc);
     plant_lines(p, sol, &mut acc);
     insulation_lines(sol, opts, &mut acc)?;

@@ -25,7 +25,7 @@ macro_rules! w {
 mod studies;
 pub mod svg;
 
-use crate::design::{Severity, Side, Solution};
+use crate::design::{FindingKind, ItemRef, Severity, Side, Solution};
 use crate::emitters::{EmitterDetail, EmitterModel};
 use crate::parts::{PartsList, vessel_nominal_size_l};
 use crate::pipes;
@@ -103,6 +103,7 @@ pub fn report_html_with(p: &Project, sol: &Solution, parts: &PartsList, studies:
     drawings(&mut h, p, sol);
     emitters_table(&mut h, p, sol);
     pipes_table(&mut h, sol);
+    devices_table(&mut h, sol);
     findings_table(&mut h, sol);
     pump_section(&mut h, sol);
     vessel_section(&mut h, sol);
@@ -323,6 +324,39 @@ fn pipes_table(h: &mut String, sol: &Solution) {
             x.gradient_pa_m,
             x.zeta,
             x.dp_pa / 1000.0
+        );
+    }
+    h.push_str("</tbody></table></section>\n");
+}
+
+fn devices_table(h: &mut String, sol: &Solution) {
+    if sol.devices.is_empty() {
+        return;
+    }
+    h.push_str(
+        "<section id=\"devices\"><h3>Balancing devices on runs</h3><p class=\"muted\">A device makes its branch a zone: \
+         the emitters behind it are balanced against the Δp it leaves them. A Δp controller holds the branch Δp (supply at \
+         the branch entry to its own inlet) at its set-point within its proportional band.</p><table><thead><tr><th>run</th>\
+         <th>device</th><th>model</th><th>setting</th><th class=\"n\">Kv m³/h</th><th class=\"n\">design l/h</th>\
+         <th class=\"n\">flow l/h</th><th class=\"n\">Δp kPa</th><th class=\"n\">branch Δp kPa</th><th>state</th></tr></thead><tbody>",
+    );
+    for d in &sol.devices {
+        let flag = if sol.has_finding(ItemRef::Run(d.run), &FindingKind::DEVICE) { " class=\"over\"" } else { "" };
+        w!(
+            h,
+            "<tr data-run=\"{}\"{flag}><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td class=\"n\">{:.2}</td><td class=\"n\">{:.0}</td>\
+             <td class=\"n\">{:.0}</td><td class=\"n\">{:.1}</td><td class=\"n\">{:.1}</td><td>{}</td></tr>",
+            d.run,
+            d.run,
+            esc(d.kind),
+            esc(&d.family),
+            esc(&d.setting),
+            d.kv_m3_h,
+            d.design_flow_l_h,
+            d.flow_l_h,
+            d.dp_pa / 1000.0,
+            d.held_dp_pa / 1000.0,
+            d.state.label()
         );
     }
     h.push_str("</tbody></table></section>\n");

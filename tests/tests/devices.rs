@@ -9,6 +9,7 @@ use flowrise_core::design::{
 };
 use flowrise_core::network::solver::{self, SolveSettings, SolverWorkspace};
 use flowrise_core::network::{LinkLaw, solver::link_dp};
+use flowrise_core::parts::PartCategory;
 use flowrise_core::project::{BranchDevice, Edit, LevelId, Mode, NodeKind, Project, RunId, RunProps};
 use flowrise_core::pump::PumpControl;
 use flowrise_tests::builder::Builder;
@@ -168,4 +169,28 @@ fn a_balancing_valve_takes_the_excess_of_its_branch() {
     // Old files (no device field) still load; the device round-trips.
     let text = p.to_ron().unwrap();
     assert_eq!(Project::from_ron(&text).unwrap(), p);
+}
+
+#[test]
+fn a_device_reaches_the_parts_list_the_report_the_schedule_and_the_json() {
+    let (p, run) = branch_project(controller());
+    let sol = solve(&p);
+    let d = &sol.devices[0];
+    let parts = flowrise_core::parts::parts_list(&p, &sol, &flowrise_core::parts::PartsOptions::default()).unwrap();
+    let line = parts
+        .lines
+        .iter()
+        .find(|l| l.category == PartCategory::Valve && l.serves.contains(&run.to_string()))
+        .unwrap_or_else(|| panic!("no parts line serves {run}: {:#?}", parts.lines));
+    assert_eq!(line.item, d.family);
+    assert!(line.note.contains(&d.setting), "{}", line.note);
+    let html = flowrise_core::report::report_html(&p, &sol, &parts);
+    assert!(html.contains("id=\"devices\"") && html.contains(&d.setting));
+    let sched = flowrise_core::commissioning::schedule(&p, &sol);
+    assert!(sched.iter().any(|l| l.item == run.to_string() && l.setting == d.setting), "{sched:#?}");
+    let json = flowrise_core::output::solve_json(&p, &sol);
+    let dev = &json["devices"][0];
+    assert_eq!(dev["run"], run.to_string());
+    assert_eq!(dev["state"], "regulating");
+    assert!((dev["flow_l_h"].as_f64().unwrap() - d.flow_l_h).abs() < 0.1, "{dev}");
 }

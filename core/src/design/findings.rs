@@ -154,6 +154,15 @@ impl FindingKind {
     pub const VELOCITY: [Self; 2] = [Self::VelocityOverLimit, Self::SizeLimitsExceeded];
     /// Kinds that say a pipe is over the gradient limit.
     pub const GRADIENT: [Self; 2] = [Self::GradientOverLimit, Self::SizeLimitsExceeded];
+    /// Kinds that say a balancing device on a run does not do its job.
+    pub const DEVICE: [Self; 6] = [
+        Self::FlowOutOfTolerance,
+        Self::ControllerSaturated,
+        Self::RegulationNotSettled,
+        Self::SetpointOutOfRange,
+        Self::DeviceModelUnknown,
+        Self::DeviceSettingUnknown,
+    ];
 
     /// Every kind, in declaration order.
     pub const ALL: [Self; 53] = [

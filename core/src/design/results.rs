@@ -228,6 +228,19 @@ pub enum DeviceState {
     Closed,
 }
 
+impl DeviceState {
+    /// Word used in tables.
+    #[must_use]
+    pub const fn label(self) -> &'static str {
+        match self {
+            Self::Fixed => "fixed",
+            Self::Regulating => "regulating",
+            Self::Saturated => "saturated",
+            Self::Closed => "closed",
+        }
+    }
+}
+
 /// Results of one balancing device (see [`crate::project::BranchDevice`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct DeviceResult {

@@ -400,3 +400,32 @@ pub(super) fn insulation_lines(sol: &Solution, opts: &PartsOptions, acc: &mut Ac
     }
     Ok(())
 }
+
+/// Balancing devices on runs: a static balancing valve with its setting, a
+/// Δp controller with its set-point (and the impulse line it needs).
+pub(super) fn device_lines(sol: &Solution, acc: &mut Acc) {
+    for d in &sol.devices {
+        if d.family.is_empty() {
+            continue; // unknown model: its finding says why
+        }
+        let controller = d.kind == "Δp controller";
+        let dn = if controller {
+            crate::controllers::dp_controllers()
+                .ok()
+                .and_then(|fs| fs.iter().find(|f| f.name == d.family))
+                .map(|f| f.connection_dn)
+        } else {
+            valves::valve_families().ok().and_then(|fs| fs.iter().find(|f| f.name == d.family)).map(|f| f.connection_dn)
+        };
+        let size = dn.map_or_else(String::new, |dn| format!("DN{dn}"));
+        let note = if controller {
+            format!(
+                "{}: set-point {} (Kvs {:.2} m³/h), impulse line to the branch supply",
+                d.kind, d.setting, d.kv_m3_h
+            )
+        } else {
+            format!("{}: setting {} (Kv {:.2} m³/h)", d.kind, d.setting, d.kv_m3_h)
+        };
+        acc.add(PartCategory::Valve, d.family.clone(), size, note, PartUnit::Piece, 1.0, &[d.run.to_string()]);
+    }
+}

@@ -7,7 +7,9 @@
 use thiserror::Error;
 
 use super::limits::{self, Limit};
-use super::{DesignSettings, Level, LevelId, Node, NodeId, NodeKind, PlanPoint, Project, Run, RunId, RunProps};
+use super::{
+    BranchDevice, DesignSettings, Level, LevelId, Node, NodeId, NodeKind, PlanPoint, Project, Run, RunId, RunProps,
+};
 use crate::emitters::{EmitterModel, RadiatorSizing};
 use crate::pump::PumpControl;
 
@@ -193,6 +195,31 @@ pub fn validate_run_props(id: RunId, props: &RunProps) -> Result<(), EditError> 
         && size.trim().is_empty()
     {
         return Err(invalid(format!("run {id}"), "fixed size is empty — pick a size or clear it"));
+    }
+    match &props.device {
+        None | Some(BranchDevice::BalancingValve { family: None, .. }) => {}
+        Some(BranchDevice::BalancingValve { family: Some(f), .. }) => {
+            let ok = crate::valves::valve_family(f).is_ok_and(|v| v.kind == crate::valves::ValveKind::Balancing);
+            if !ok {
+                return Err(invalid(
+                    format!("run {id}"),
+                    format!("balancing valve \"{f}\" is not a balancing valve of the catalog — pick one"),
+                ));
+            }
+        }
+        Some(BranchDevice::DpController { family, setpoint_kpa }) => {
+            if let Some(f) = family
+                && crate::controllers::dp_controller(f).is_err()
+            {
+                return Err(invalid(
+                    format!("run {id}"),
+                    format!("Δp controller \"{f}\" is not in the catalog — pick one"),
+                ));
+            }
+            if let Some(sp) = setpoint_kpa {
+                limits::DP_CONTROLLER_SETPOINT_KPA.check(*sp).map_err(|m| invalid(format!("run {id}"), m))?;
+            }
+        }
     }
     Ok(())
 }
