@@ -48,13 +48,7 @@ fn bench(c: &mut Criterion) {
     c.bench_function("frame, results cached (apartment block)", |b| b.iter(|| frame(&ctx, &mut app)));
 
     // A generated 1,000-emitter building (10 floors × 100).
-    let spec = flowrise_core::generate::BuildingSpec {
-        floors: 10,
-        per_floor: 100,
-        reverse_return: false,
-        headers: false,
-        seed: 1,
-    };
+    let spec = flowrise_core::generate::BuildingSpec::new(10, 100);
     let Ok(big) = flowrise_core::generate::generate_building(&spec) else { return };
     let mut app = FlowriseApp::new(big.clone(), None);
     app.set_background_solve(false);

@@ -163,8 +163,10 @@ mod tests {
         let p = generate_building(&BuildingSpec::new(2, 6)).unwrap();
         let sol = solve_project(&p, &SolveOptions::default(), &mut Workspace::default());
         let lines = schedule(&p, &sol);
-        assert_eq!(lines.len(), 2 * sol.emitters.len());
-        for l in &lines {
+        // Valve and lockshield per emitter, one line per branch controller.
+        assert_eq!(lines.len(), 2 * sol.emitters.len() + sol.devices.len());
+        assert!(!sol.devices.is_empty());
+        for l in lines.iter().filter(|l| matches!(l.device, Device::Valve | Device::Lockshield)) {
             let e = sol.emitters.iter().find(|e| e.id.to_string() == l.item).unwrap();
             // Δp = 10⁵·(Q/Kv)²·ρ/1000 (IEC 60534-1) at the design flow.
             let q = e.design_flow_l_h / 1000.0;

@@ -20,7 +20,11 @@
 //! - optionally ([`BuildingSpec::headers`]) one header per level at the head
 //!   of the corridor with up to [`LOOPS_PER_HEADER`] floor loops;
 //! - optionally ([`BuildingSpec::reverse_return`]) every radiator branch as
-//!   a reverse-return chain (the level mains stay direct).
+//!   a reverse-return chain (the level mains stay direct);
+//! - by default ([`BuildingSpec::dp_controllers`]) a differential-pressure
+//!   controller on each floor branch (the first run of every radiator branch
+//!   and the run to each header), its model and set-point chosen by the
+//!   design.
 //!
 //! Loads are drawn uniformly from 300–2500 W (floor loops 300–1200 W) in
 //! 10 W steps and room temperatures from 18–24 °C in 0.5 K steps, with the
@@ -46,8 +50,8 @@ use crate::emitters::{EmitterModel, FloorLoopSpec, FloorZone, RadiatorSizing, Ra
 use crate::error::{PhysicsError, PhysicsResult, check};
 use crate::project::file::{FORMAT_TAG, FORMAT_VERSION, ProjectFile};
 use crate::project::{
-    DesignSettings, Emitter, EmitterValves, Header, HeatSource, Level, LevelId, Node, NodeId, NodeKind, PipeClass,
-    PlanPoint, Project, PumpSpec, ReturnLayout, Run, RunId, RunProps,
+    BranchDevice, DesignSettings, Emitter, EmitterValves, Header, HeatSource, Level, LevelId, Node, NodeId, NodeKind,
+    PipeClass, PlanPoint, Project, PumpSpec, ReturnLayout, Run, RunId, RunProps,
 };
 use crate::pump::PumpControl;
 
@@ -90,15 +94,20 @@ pub struct BuildingSpec {
     pub reverse_return: bool,
     /// One header with floor loops per level (counted in `per_floor`).
     pub headers: bool,
+    /// A differential-pressure controller (design-chosen model and set-point)
+    /// on each floor branch: the first run of every radiator branch and the
+    /// run to each header, as multi-storey two-pipe networks are built.
+    pub dp_controllers: bool,
     /// Seed of the load and room-temperature draws.
     pub seed: u64,
 }
 
 impl BuildingSpec {
-    /// A spec with direct return, no headers and seed 1.
+    /// A spec with direct return, no headers, a Δp controller per floor
+    /// branch and seed 1.
     #[must_use]
     pub const fn new(floors: u32, per_floor: u32) -> Self {
-        Self { floors, per_floor, reverse_return: false, headers: false, seed: 1 }
+        Self { floors, per_floor, reverse_return: false, headers: false, dp_controllers: true, seed: 1 }
     }
 
     /// Total number of emitters.
@@ -255,6 +264,9 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
         d.node(0, core_x(middle) + 2.0, PLANT_MAIN_Y_M - 3.0, source_kind(0.0, placeholder_curve, 50.0))
     };
     let main = RunProps { class: Some(PipeClass::Main), ..RunProps::default() };
+    // The first run of each floor branch carries its Δp controller.
+    let controller = spec.dp_controllers.then_some(BranchDevice::DpController { family: None, setpoint_kpa: None });
+    let branch = RunProps { device: controller, ..RunProps::default() };
     // What each core's next riser junction hangs from: first the source or
     // a junction of the plant-level mains (which run from the middle core
     // both ways), then the core's junction on the level below.
@@ -296,7 +308,7 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
                 let loops = left.min(LOOPS_PER_HEADER);
                 let header =
                     d.node(f, 1.5, -2.0, NodeKind::Header(Header { name: format!("Header {f}"), outlets: loops }));
-                d.run(riser, header, RunProps::default());
+                d.run(riser, header, branch.clone());
                 for j in 0..loops {
                     let load = draw_load(&mut rng, 300, 1200);
                     let room = draw_room(&mut rng);
@@ -326,10 +338,10 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
                 for i in 1..=n {
                     let y = side * BRANCH_SPACING_M * f64::from(i);
                     let tee = d.node(f, x, y, NodeKind::Junction);
-                    let props = if i == 1 && spec.reverse_return {
-                        RunProps { return_layout: Some(ReturnLayout::Reverse), ..RunProps::default() }
-                    } else {
-                        RunProps::default()
+                    let props = match (i, spec.reverse_return) {
+                        (1, true) => RunProps { return_layout: Some(ReturnLayout::Reverse), ..branch.clone() },
+                        (1, false) => branch.clone(),
+                        _ => RunProps::default(),
                     };
                     d.run(prev, tee, props);
                     prev = tee;
@@ -354,11 +366,12 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
         n.kind = source_kind(total_load_w, placeholder_curve, 50.0);
     }
     let name = format!(
-        "Generated building: {} floors × {} emitters{}{} (seed {})",
+        "Generated building: {} floors × {} emitters{}{}{} (seed {})",
         spec.floors,
         spec.per_floor,
         if spec.reverse_return { ", reverse return" } else { "" },
         if spec.headers { ", headers" } else { "" },
+        if spec.dp_controllers { ", Δp controller per branch" } else { "" },
         spec.seed
     );
     let file = ProjectFile {

@@ -382,17 +382,28 @@ pub fn write_part_load_text(
     cases: &[crate::sweep::PartLoadCase],
 ) -> std::fmt::Result {
     out!(s, "{} — {} of {} emitter valves closed", p.name, closed, p.emitters().len());
+    let compare = cases.iter().any(|c| c.branch_controllers);
     for c in cases {
+        let with = match (compare, c.branch_controllers) {
+            (false, _) => "",
+            (true, true) => "with branch Δp controllers    ",
+            (true, false) => "without branch Δp controllers ",
+        };
         out!(
             s,
-            "{:<16} pump {:>7.0} l/h at {:>5.1} kPa · largest valve Δp {:>5.1} kPa",
+            "{with}{:<16} pump {:>7.0} l/h at {:>5.1} kPa · largest valve Δp {:>5.1} kPa · worst over-supply {:>+4.0} %",
             c.control,
             c.pump_flow_l_h,
             c.pump_head_kpa,
-            c.max_valve_dp_kpa
+            c.max_valve_dp_kpa,
+            c.worst_over_supply() * 100.0
         );
-        for w in &c.warnings {
+        const SHOWN: usize = 5;
+        for w in c.warnings.iter().take(SHOWN) {
             out!(s, "    warning: {w}");
+        }
+        if c.warnings.len() > SHOWN {
+            out!(s, "    … and {} more warnings (--json or --csv list every emitter)", c.warnings.len() - SHOWN);
         }
     }
     Ok(())

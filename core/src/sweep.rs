@@ -28,7 +28,7 @@ use serde::Serialize;
 
 use crate::design::{self, FindingKind, ItemRef, Side, Solution, SolveOptions, Workspace, solve_project};
 use crate::emitters::{EmitterDetail, EmitterModel, RadiatorSizing, radiator};
-use crate::project::{Edit, Mode, NodeId, NodeKind, Project};
+use crate::project::{BranchDevice, Edit, Mode, NodeId, NodeKind, Project, RunProps};
 use crate::pump::PumpControl;
 
 /// Δp across an open radiator valve above which flow noise is likely, Pa
@@ -475,6 +475,9 @@ fn upgrades_at(existing: &Project, target_c: f64, min_drop_k: f64) -> (Vec<Upgra
 pub struct PartLoadCase {
     /// "fixed speed", "constant Δp", "proportional Δp".
     pub control: String,
+    /// The network has its branch Δp controllers (false for a project that
+    /// has none, and for the comparison case with them taken out).
+    pub branch_controllers: bool,
     /// Pump operating flow, l/h.
     pub pump_flow_l_h: f64,
     /// Pump operating head, kPa.
@@ -486,6 +489,15 @@ pub struct PartLoadCase {
     pub max_valve_dp_kpa: f64,
     /// Findings of this case (noise risk, non-convergence).
     pub warnings: Vec<String>,
+}
+
+impl PartLoadCase {
+    /// The worst over-supply of an open emitter (flow / design − 1; 0 when
+    /// none is over its design flow).
+    #[must_use]
+    pub fn worst_over_supply(&self) -> f64 {
+        self.emitters.iter().map(|e| e.over_supply).fold(0.0_f64, f64::max)
+    }
 }
 
 /// An open emitter in a part-load case.
@@ -523,11 +535,36 @@ pub fn random_closed_set(p: &Project, fraction: f64, seed: u64) -> BTreeSet<Node
 }
 
 /// Solve the installed network (sizes and presettings frozen at the
-/// design) with `closed` valves shut, once per pump control mode.
+/// design) with `closed` valves shut, once per pump control mode. When the
+/// project has branch Δp controllers, the same scenario follows for the
+/// same building designed without them (every other device kept), so the
+/// two can be compared.
 ///
 /// # Errors
 /// [`SweepError`] when the project does not design.
 pub fn part_load(p: &Project, closed: &BTreeSet<NodeId>) -> Result<Vec<PartLoadCase>, SweepError> {
+    let controlled = p.runs().any(|r| matches!(r.props.device, Some(BranchDevice::DpController { .. })));
+    let mut out = part_load_cases(p, closed, controlled)?;
+    if controlled {
+        let mut without = p.clone();
+        let ids: Vec<_> = p
+            .runs()
+            .filter(|r| matches!(r.props.device, Some(BranchDevice::DpController { .. })))
+            .map(|r| (r.id, RunProps { device: None, ..r.props.clone() }))
+            .collect();
+        for (id, props) in ids {
+            without.apply(Edit::SetRunProps { id, props }).map_err(|e| SweepError(e.to_string()))?;
+        }
+        out.extend(part_load_cases(&without, closed, false)?);
+    }
+    Ok(out)
+}
+
+fn part_load_cases(
+    p: &Project,
+    closed: &BTreeSet<NodeId>,
+    branch_controllers: bool,
+) -> Result<Vec<PartLoadCase>, SweepError> {
     let base = solve_project(p, &SolveOptions::default(), &mut Workspace::default());
     if base.has_errors() {
         return Err(SweepError("the project does not design — fix its errors first".to_owned()));
@@ -591,6 +628,7 @@ pub fn part_load(p: &Project, closed: &BTreeSet<NodeId>) -> Result<Vec<PartLoadC
         let pump = sol.pump.as_ref();
         out.push(PartLoadCase {
             control: name.to_owned(),
+            branch_controllers,
             pump_flow_l_h: pump.map_or(0.0, |x| x.operating_flow_m3_h * 1000.0),
             pump_head_kpa: pump.map_or(0.0, |x| x.operating_head_pa / 1000.0),
             emitters,
@@ -645,6 +683,7 @@ pub fn part_load_csv(cases: &[PartLoadCase]) -> Result<String, csv::Error> {
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record([
         "pump_control",
+        "branch_controllers",
         "emitter",
         "flow_l_h",
         "over_supply_fraction",
@@ -656,6 +695,7 @@ pub fn part_load_csv(cases: &[PartLoadCase]) -> Result<String, csv::Error> {
         for e in &c.emitters {
             w.write_record([
                 crate::csv_cell::neutralise(&c.control).into_owned(),
+                if c.branch_controllers { "with" } else { "without" }.to_owned(),
                 crate::csv_cell::neutralise(&e.id).into_owned(),
                 format!("{:.3}", e.flow_l_h),
                 format!("{:.6}", e.over_supply),

@@ -637,6 +637,7 @@ fn generated_projects_round_trip_exactly() {
             per_floor: 1 + rng.below(25) as u32,
             reverse_return: seed % 2 == 1,
             headers: seed % 3 == 2,
+            dp_controllers: seed % 4 != 3,
             seed,
         };
         projects.push(generate_building(&spec).unwrap());

@@ -27,6 +27,9 @@ pub struct GenerateArgs {
     /// One header with floor loops per floor.
     #[arg(long)]
     headers: bool,
+    /// Leave out the differential-pressure controller on each floor branch.
+    #[arg(long)]
+    no_dp_controllers: bool,
     /// Seed of the loads and room temperatures.
     #[arg(long, default_value_t = 1)]
     seed: u64,
@@ -91,6 +94,7 @@ pub fn generate(a: &GenerateArgs) -> ExitCode {
         per_floor: a.per_floor,
         reverse_return: a.reverse_return,
         headers: a.headers,
+        dp_controllers: !a.no_dp_controllers,
         seed: a.seed,
     };
     let project = match generate_building(&spec) {

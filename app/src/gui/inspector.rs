@@ -2,6 +2,8 @@
 //! then its computed results, then the findings list. When nothing is
 //! selected it shows the design settings.
 
+mod device;
+
 use egui::{Grid, RichText, ScrollArea, Ui};
 use flowrise_core::design::{FindingKind, ItemRef, Side, Solution};
 use flowrise_core::emitters::floor::FloorZone;
@@ -60,8 +62,10 @@ pub fn show(
                         RichText::new(format!("{} – {}", label_of(project, run.a), label_of(project, run.b))).weak(),
                     );
                     run_inputs(ui, project, sol, run, fs, out);
+                    device::inputs(ui, run, fs, out);
                     ui.separator();
                     run_results(ui, sol, id);
+                    device::results(ui, sol, run);
                 }
                 None => {
                     ui.label("The selected run is gone.");

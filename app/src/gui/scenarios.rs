@@ -199,25 +199,50 @@ pub fn part_load_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
             return;
         }
     };
-    Grid::new("part_load_table").striped(true).num_columns(5).show(ui, |ui| {
+    // With branch controllers the same scenario follows without them.
+    let compare = cases.iter().any(|c| c.branch_controllers);
+    Grid::new("part_load_table").striped(true).num_columns(6).show(ui, |ui| {
+        if compare {
+            ui.label(RichText::new("Branch Δp controllers").strong());
+        }
         for h in ["Pump control", "Pump flow l/h", "Pump head kPa", "Largest valve Δp kPa", "Largest over-supply %"] {
             ui.label(RichText::new(h).strong());
         }
         ui.end_row();
         for c in cases {
+            if compare {
+                ui.label(if c.branch_controllers { "with" } else { "without" });
+            }
             ui.label(&c.control);
             ui.label(format!("{:.0}", c.pump_flow_l_h));
             ui.label(format!("{:.1}", c.pump_head_kpa));
             let dp = RichText::new(format!("{:.1}", c.max_valve_dp_kpa));
             ui.label(if c.max_valve_dp_kpa * 1000.0 > sweep::NOISE_DP_PA { dp.color(theme::WARNING) } else { dp });
-            let over = c.emitters.iter().map(|e| e.over_supply).fold(0.0_f64, f64::max);
-            ui.label(format!("{:+.0}", over * 100.0));
+            ui.label(format!("{:+.0}", c.worst_over_supply() * 100.0));
             ui.end_row();
         }
     });
+    if compare {
+        ui.label(
+            RichText::new(
+                "\"without\": the same building designed without its branch Δp controllers, same valves closed.",
+            )
+            .weak()
+            .small(),
+        );
+    }
     for c in cases {
         for w in &c.warnings {
-            ui.label(RichText::new(format!("{}: {}", c.control, w.replace('Δ', "d"))).color(theme::WARNING).small());
+            let with = if compare && c.branch_controllers {
+                ", with branch controllers"
+            } else if compare {
+                ", without"
+            } else {
+                ""
+            };
+            ui.label(
+                RichText::new(format!("{}{with}: {}", c.control, w.replace('Δ', "d"))).color(theme::WARNING).small(),
+            );
         }
     }
 }

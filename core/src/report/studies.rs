@@ -67,15 +67,16 @@ pub(super) fn studies_section(h: &mut String, p: &Project, studies: Studies<'_>)
         Some((cases, closed)) => {
             w!(
                 h,
-                "<p>Part load: {closed} emitter valves closed; the installed network solved for each pump control. Valve Δp above about {:.0} kPa risks noise (common practice).</p>\
-                 <table class=\"part-load\"><thead><tr><th>pump control</th><th>pump flow l/h</th><th>pump head kPa</th><th>largest valve Δp kPa</th><th>largest over-supply</th></tr></thead><tbody>",
+                "<p>Part load: {closed} emitter valves closed; the installed network solved for each pump control; with branch Δp controllers in the project, the same building designed without them follows for comparison. Valve Δp above about {:.0} kPa risks noise (common practice).</p>\
+                 <table class=\"part-load\"><thead><tr><th>branch Δp controllers</th><th>pump control</th><th>pump flow l/h</th><th>pump head kPa</th><th>largest valve Δp kPa</th><th>largest over-supply</th></tr></thead><tbody>",
                 crate::sweep::NOISE_DP_PA / 1000.0
             );
             for c in cases {
-                let over = c.emitters.iter().map(|e| e.over_supply).fold(0.0_f64, f64::max);
+                let over = c.worst_over_supply();
                 w!(
                     h,
-                    "<tr><td>{}</td><td>{:.0}</td><td>{:.1}</td><td>{:.1}</td><td>{:+.0} %</td></tr>",
+                    "<tr><td>{}</td><td>{}</td><td>{:.0}</td><td>{:.1}</td><td>{:.1}</td><td>{:+.0} %</td></tr>",
+                    if c.branch_controllers { "with" } else { "without" },
                     esc(&c.control),
                     c.pump_flow_l_h,
                     c.pump_head_kpa,

@@ -6,7 +6,7 @@ use std::collections::BTreeSet;
 use egui::{Align2, Color32, CornerRadius, FontId, Painter, Pos2, Rect, Shape, Stroke, StrokeKind, Vec2, pos2, vec2};
 use flowrise_core::design::{FindingKind, ItemRef, Severity, Side, Solution};
 use flowrise_core::emitters::EmitterModel;
-use flowrise_core::project::{LevelId, Node, NodeKind, Project};
+use flowrise_core::project::{BranchDevice, LevelId, Node, NodeKind, Project, Run};
 
 use super::hit::{Hit, run_polyline};
 use super::view::View;
@@ -174,6 +174,9 @@ pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
         } else {
             painter.add(Shape::line(pts.clone(), stroke));
         }
+        if let Some(device) = &run.props.device {
+            device_symbol(painter, s, run, &pts, device);
+        }
         if s.flagged.contains(&ItemRef::Run(run.id)) {
             let (mid, _) = longest_segment_mid(&pts);
             warning_badge(painter, mid + vec2(0.0, -12.0));
@@ -181,6 +184,37 @@ pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
         if s.show_labels {
             run_label(s, run.id, &pts, selected || hovered, labels);
         }
+    }
+}
+
+/// A balancing device on a run: a disc near the run's upstream end with a
+/// valve bow-tie; a Δp controller adds a stem and a diaphragm box.
+fn device_symbol(painter: &Painter, s: &PlanScene<'_>, run: &Run, pts: &[Pos2], device: &BranchDevice) {
+    if pts.len() < 2 {
+        return;
+    }
+    // The device sits where the branch leaves the upstream network.
+    let downstream = s.sol.devices.iter().find(|d| d.run == run.id).map(|d| d.branch);
+    let (from, to) =
+        if downstream == Some(run.a) { (pts[pts.len() - 1], pts[pts.len() - 2]) } else { (pts[0], pts[1]) };
+    let d = to - from;
+    if d.length() < 1.0 {
+        return;
+    }
+    let dir = d.normalized();
+    let at = from + dir * d.length().min(22.0);
+    let n = vec2(-dir.y, dir.x);
+    let ink = Stroke::new(1.3, theme::INK);
+    painter.circle(at, 8.0, Color32::WHITE, ink);
+    let a = 5.0;
+    let h = 3.5;
+    painter.add(Shape::convex_polygon(vec![at, at - dir * a + n * h, at - dir * a - n * h], theme::INK, Stroke::NONE));
+    painter.add(Shape::convex_polygon(vec![at, at + dir * a + n * h, at + dir * a - n * h], theme::INK, Stroke::NONE));
+    if matches!(device, BranchDevice::DpController { .. }) {
+        let up = if n.y > 0.0 { -n } else { n };
+        let top = at + up * 14.0;
+        painter.line_segment([at + up * 8.0, top], ink);
+        painter.rect_filled(Rect::from_center_size(top + up * 2.0, vec2(10.0, 5.0)), 1.0, theme::INK);
     }
 }
 
