@@ -21,10 +21,10 @@
 //!   of the corridor with up to [`LOOPS_PER_HEADER`] floor loops;
 //! - optionally ([`BuildingSpec::reverse_return`]) every radiator branch as
 //!   a reverse-return chain (the level mains stay direct);
-//! - by default ([`BuildingSpec::dp_controllers`]) a differential-pressure
+//! - by default ([`BuildingSpec::branch_devices`]) a differential-pressure
 //!   controller on each floor branch (the first run of every radiator branch
 //!   and the run to each header), its model and set-point chosen by the
-//!   design.
+//!   design; or a static balancing valve there, or nothing.
 //!
 //! Loads are drawn uniformly from 300–2500 W (floor loops 300–1200 W) in
 //! 10 W steps and room temperatures from 18–24 °C in 0.5 K steps, with the
@@ -94,12 +94,24 @@ pub struct BuildingSpec {
     pub reverse_return: bool,
     /// One header with floor loops per level (counted in `per_floor`).
     pub headers: bool,
-    /// A differential-pressure controller (design-chosen model and set-point)
-    /// on each floor branch: the first run of every radiator branch and the
-    /// run to each header, as multi-storey two-pipe networks are built.
-    pub dp_controllers: bool,
+    /// The device on each floor branch (the first run of every radiator
+    /// branch and the run to each header), as multi-storey two-pipe networks
+    /// are built: by default a differential-pressure controller.
+    pub branch_devices: BranchDevices,
     /// Seed of the load and room-temperature draws.
     pub seed: u64,
+}
+
+/// What a generated building puts on each floor branch.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum BranchDevices {
+    /// Nothing: every room balanced by its own valves against the pump.
+    None,
+    /// A differential-pressure controller, model and set-point chosen by
+    /// the design.
+    DpControllers,
+    /// A static balancing valve, model and setting chosen by the design.
+    BalancingValves,
 }
 
 impl BuildingSpec {
@@ -107,7 +119,14 @@ impl BuildingSpec {
     /// branch and seed 1.
     #[must_use]
     pub const fn new(floors: u32, per_floor: u32) -> Self {
-        Self { floors, per_floor, reverse_return: false, headers: false, dp_controllers: true, seed: 1 }
+        Self {
+            floors,
+            per_floor,
+            reverse_return: false,
+            headers: false,
+            branch_devices: BranchDevices::DpControllers,
+            seed: 1,
+        }
     }
 
     /// Total number of emitters.
@@ -265,8 +284,12 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     };
     let main = RunProps { class: Some(PipeClass::Main), ..RunProps::default() };
     // The first run of each floor branch carries its Δp controller.
-    let controller = spec.dp_controllers.then_some(BranchDevice::DpController { family: None, setpoint_kpa: None });
-    let branch = RunProps { device: controller, ..RunProps::default() };
+    let device = match spec.branch_devices {
+        BranchDevices::None => None,
+        BranchDevices::DpControllers => Some(BranchDevice::DpController { family: None, setpoint_kpa: None }),
+        BranchDevices::BalancingValves => Some(BranchDevice::BalancingValve { family: None, setting: None }),
+    };
+    let branch = RunProps { device, ..RunProps::default() };
     // What each core's next riser junction hangs from: first the source or
     // a junction of the plant-level mains (which run from the middle core
     // both ways), then the core's junction on the level below.
@@ -371,7 +394,11 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
         spec.per_floor,
         if spec.reverse_return { ", reverse return" } else { "" },
         if spec.headers { ", headers" } else { "" },
-        if spec.dp_controllers { ", Δp controller per branch" } else { "" },
+        match spec.branch_devices {
+            BranchDevices::None => "",
+            BranchDevices::DpControllers => ", Δp controller per branch",
+            BranchDevices::BalancingValves => ", balancing valve per branch",
+        },
         spec.seed
     );
     let file = ProjectFile {

@@ -285,6 +285,35 @@ pub fn write_solve_text(s: &mut impl std::fmt::Write, p: &Project, sol: &Solutio
             x.dp_pa / 1000.0
         );
     }
+    if !sol.devices.is_empty() {
+        out!(s, "\nbranch devices");
+        out!(
+            s,
+            "  {:<6} {:<17} {:<40} {:>9} {:>8} {:>8} {:>9} {:<10}",
+            "run",
+            "device",
+            "model",
+            "setting",
+            "l/h",
+            "Δp kPa",
+            "held kPa",
+            "state"
+        );
+        for d in &sol.devices {
+            out!(
+                s,
+                "  {:<6} {:<17} {:<40} {:>9} {:>8.1} {:>8.2} {:>9.2} {:<10}",
+                d.run.to_string(),
+                d.kind,
+                d.family,
+                d.setting,
+                d.flow_l_h,
+                d.dp_pa / 1000.0,
+                d.held_dp_pa / 1000.0,
+                d.state.label()
+            );
+        }
+    }
     if !sol.findings.is_empty() {
         out!(s, "\nfindings");
         for f in &sol.findings {

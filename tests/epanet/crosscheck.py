@@ -15,6 +15,10 @@ binary designs and solves the project, exports the derived network with
 (hidden flag --flows-json). EPANET solves the exported file; the link flows
 are compared.
 
+Cases include buildings with a Δp controller on each floor branch (the
+default of `flowrise generate`) and with static balancing valves there;
+both are throttle control valves in the exported network.
+
 Targets (flowrise issue 6):
 - matched physics (`--matched`: one density and viscosity, EPANET's friction
   law): every link flow within 0.1 %;
@@ -51,8 +55,13 @@ NORMAL_TOLERANCE = 1e-2  # 1 %
 EPANET_ACCURACY = 1e-8  # far below both targets
 
 # Generated buildings: (name, generate arguments).
+# By default a generated building has a Δp controller on each floor branch
+# (exported at the opening it settled at, as a throttle control valve).
 GENERATED = [
     ("gen-3x20", ["--floors", "3", "--per-floor", "20", "--seed", "1"]),
+    ("gen-3x20-plain", ["--floors", "3", "--per-floor", "20", "--seed", "1", "--no-dp-controllers"]),
+    # Static balancing valves on the branches (TCVs in the exported network).
+    ("gen-5x40-balancing", ["--floors", "5", "--per-floor", "40", "--seed", "2", "--balancing-valves"]),
     ("gen-2x25-reverse", ["--floors", "2", "--per-floor", "25", "--reverse-return", "--seed", "3"]),
     ("gen-2x12-headers", ["--floors", "2", "--per-floor", "12", "--headers", "--seed", "5"]),
     ("gen-10x100", ["--floors", "10", "--per-floor", "100", "--seed", "7"]),

@@ -21,7 +21,7 @@ use std::time::{Duration, Instant};
 use flowrise_core::design::{Solution, SolveOptions, Workspace, solve_project};
 use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{EmitterModel, RadiatorSpec};
-use flowrise_core::generate::{BuildingSpec, SplitMix64, generate_building};
+use flowrise_core::generate::{BranchDevices, BuildingSpec, SplitMix64, generate_building};
 use flowrise_core::project::file::{FORMAT_VERSION, FileError, MAX_FILE_BYTES, migrate};
 use flowrise_core::project::{Edit, LevelId, NodeKind, Project, PumpSpec, ReturnLayout, RunProps};
 use flowrise_core::pump::PumpControl;
@@ -637,7 +637,8 @@ fn generated_projects_round_trip_exactly() {
             per_floor: 1 + rng.below(25) as u32,
             reverse_return: seed % 2 == 1,
             headers: seed % 3 == 2,
-            dp_controllers: seed % 4 != 3,
+            branch_devices: [BranchDevices::DpControllers, BranchDevices::BalancingValves, BranchDevices::None]
+                [(seed / 2 % 3) as usize],
             seed,
         };
         projects.push(generate_building(&spec).unwrap());

@@ -7,7 +7,7 @@ use std::time::Instant;
 use clap::{Args, ValueEnum};
 use flowrise_core::design::{SolveOptions, Workspace, solve_project};
 use flowrise_core::export::{ExportOptions, PumpExport, flows_json, network_to_inp};
-use flowrise_core::generate::{BuildingSpec, generate_building};
+use flowrise_core::generate::{BranchDevices, BuildingSpec, generate_building};
 use flowrise_core::project::{Edit, NodeKind};
 
 use super::common::{EXIT_INVALID, load_or_exit, print_error_findings, refuse_output_over_input, write_output};
@@ -28,8 +28,12 @@ pub struct GenerateArgs {
     #[arg(long)]
     headers: bool,
     /// Leave out the differential-pressure controller on each floor branch.
-    #[arg(long)]
+    #[arg(long, conflicts_with = "balancing_valves")]
     no_dp_controllers: bool,
+    /// A static balancing valve on each floor branch instead of the
+    /// differential-pressure controller.
+    #[arg(long)]
+    balancing_valves: bool,
     /// Seed of the loads and room temperatures.
     #[arg(long, default_value_t = 1)]
     seed: u64,
@@ -94,7 +98,11 @@ pub fn generate(a: &GenerateArgs) -> ExitCode {
         per_floor: a.per_floor,
         reverse_return: a.reverse_return,
         headers: a.headers,
-        dp_controllers: !a.no_dp_controllers,
+        branch_devices: match (a.no_dp_controllers, a.balancing_valves) {
+            (true, _) => BranchDevices::None,
+            (false, true) => BranchDevices::BalancingValves,
+            (false, false) => BranchDevices::DpControllers,
+        },
         seed: a.seed,
     };
     let project = match generate_building(&spec) {
