@@ -8,7 +8,8 @@
 use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{EmitterModel, FloorLoopSpec, RadiatorSizing, RadiatorSpec, TerminalSpec};
 use flowrise_core::project::{
-    Edit, Emitter, EmitterValves, Header, HeatSource, LevelId, NodeId, NodeKind, PlanPoint, Project, PumpSpec, RunId,
+    CircuitConnection, Edit, Emitter, EmitterValves, Header, HeatSource, LevelId, NodeId, NodeKind, PlanPoint, Project,
+    PumpSpec, PumpedCircuit, RunId, Separator,
 };
 use flowrise_core::pump::PumpControl;
 
@@ -56,6 +57,36 @@ impl Builder {
             max_flow_c: None,
         });
         self.node(level, x, y, kind)
+    }
+
+    /// A pumped circuit with the small circulator curve at constant Δp.
+    pub fn circuit(
+        &mut self,
+        level: LevelId,
+        x: f64,
+        y: f64,
+        name: &str,
+        connection: CircuitConnection,
+        supply_return_c: (f64, f64),
+    ) -> NodeId {
+        let kind = NodeKind::Circuit(PumpedCircuit {
+            name: name.to_owned(),
+            connection,
+            supply_c: supply_return_c.0,
+            return_c: supply_return_c.1,
+            valve_kvs_m3_h: 4.0,
+            pump: PumpSpec {
+                curve_points: SMALL_PUMP,
+                control: PumpControl::ConstantDp { setpoint_kpa: 25.0 },
+                design_flow_m3_h: None,
+            },
+        });
+        self.node(level, x, y, kind)
+    }
+
+    /// A hydraulic separator.
+    pub fn separator(&mut self, level: LevelId, x: f64, y: f64, name: &str) -> NodeId {
+        self.node(level, x, y, NodeKind::Separator(Separator { name: name.to_owned(), kv_m3_h: 40.0 }))
     }
 
     /// A junction.

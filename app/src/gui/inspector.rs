@@ -2,6 +2,7 @@
 //! then its computed results, then the findings list. When nothing is
 //! selected it shows the design settings.
 
+mod circuit;
 mod device;
 
 use egui::{Grid, RichText, ScrollArea, Ui};
@@ -13,7 +14,6 @@ use flowrise_core::emitters::{
 use flowrise_core::pipes;
 use flowrise_core::project::limits as L;
 use flowrise_core::project::{Edit, NodeId, NodeKind, PipeClass, Project, ReturnLayout, Run, RunId, RunProps};
-use flowrise_core::pump::PumpControl;
 use flowrise_core::valves::{self, ValveKind};
 
 use super::fields::FieldState;
@@ -50,6 +50,9 @@ pub fn show(
                     node_inputs(ui, project, id, fs, out);
                     ui.separator();
                     node_results(ui, project, sol, id);
+                    if matches!(node.kind, NodeKind::Circuit(_)) {
+                        circuit::circuit_results(ui, sol, id);
+                    }
                 }
                 None => {
                     ui.label("The selected item is gone.");
@@ -262,65 +265,12 @@ fn node_inputs(ui: &mut Ui, project: &Project, id: NodeId, fs: &mut FieldState, 
                 {
                     set_kind(out, id, with(&|x| x.kv_m3_h = v), "src.kv");
                 }
-                let label_id = ui.label("Pump control").id;
-                let names = ["Fixed speed", "Constant Δp", "Proportional Δp"];
-                let (cur, sp) = match s.pump.control {
-                    PumpControl::FixedSpeed => (0, 40.0),
-                    PumpControl::ConstantDp { setpoint_kpa } => (1, setpoint_kpa),
-                    PumpControl::ProportionalDp { setpoint_kpa } => (2, setpoint_kpa),
-                };
-                let mut pick = cur;
-                egui::ComboBox::from_id_salt("src.control")
-                    .selected_text(names[cur])
-                    .show_ui(ui, |ui| {
-                        for (i, n) in names.iter().enumerate() {
-                            ui.selectable_value(&mut pick, i, *n);
-                        }
-                    })
-                    .response
-                    .labelled_by(label_id);
-                ui.end_row();
-                let control = |i: usize, sp: f64| match i {
-                    1 => PumpControl::ConstantDp { setpoint_kpa: sp },
-                    2 => PumpControl::ProportionalDp { setpoint_kpa: sp },
-                    _ => PumpControl::FixedSpeed,
-                };
-                if pick != cur {
-                    set_kind(out, id, with(&|x| x.pump.control = control(pick, sp)), "src.control");
-                }
-                if cur != 0
-                    && let Some(v) =
-                        fs.number(ui, "src.sp", "Set-point", "kPa", sp, L::PUMP_SETPOINT_KPA.scaled(1.0), 1)
-                {
-                    set_kind(out, id, with(&|x| x.pump.control = control(cur, v)), "src.sp");
-                }
-                for (i, (q, h)) in s.pump.curve_points.iter().enumerate() {
-                    let kq = format!("src.q{i}");
-                    if let Some(v) = fs.number(
-                        ui,
-                        &kq,
-                        &format!("Curve point {} flow", i + 1),
-                        "m³/h",
-                        *q,
-                        L::PUMP_CURVE_FLOW_M3_H.scaled(1.0),
-                        2,
-                    ) {
-                        set_kind(out, id, with(&|x| x.pump.curve_points[i].0 = v), &kq);
-                    }
-                    let kh = format!("src.h{i}");
-                    if let Some(v) = fs.number(
-                        ui,
-                        &kh,
-                        &format!("Curve point {} head", i + 1),
-                        "kPa",
-                        *h,
-                        L::PUMP_CURVE_HEAD_KPA.scaled(1.0),
-                        1,
-                    ) {
-                        set_kind(out, id, with(&|x| x.pump.curve_points[i].1 = v), &kh);
-                    }
+                if let Some((pump, key)) = circuit::pump_inputs(ui, "src", &s.pump, fs) {
+                    set_kind(out, id, with(&|x| x.pump = pump.clone()), &key);
                 }
             }
+            NodeKind::Circuit(c) => circuit::circuit_inputs(ui, id, c, fs, out),
+            NodeKind::Separator(x) => circuit::separator_inputs(ui, id, x, fs, out),
             NodeKind::Header(h) => {
                 if let Some(v) = fs.text(ui, "hd.name", "Name", &h.name) {
                     let mut h2 = h.clone();

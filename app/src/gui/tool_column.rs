@@ -54,6 +54,22 @@ fn icon(p: &egui::Painter, r: Rect, tool: Tool, c: Color32) {
                 Stroke::NONE,
             ));
         }
+        Tool::Circuit => {
+            p.rect_stroke(Rect::from_center_size(m, vec2(18.0, 14.0)), 4, s, egui::StrokeKind::Middle);
+            p.circle_stroke(m, 4.5, s);
+            p.add(Shape::convex_polygon(
+                vec![m + vec2(-2.0, 2.5), m + vec2(3.0, 0.0), m + vec2(-2.0, -2.5)],
+                c,
+                Stroke::NONE,
+            ));
+        }
+        Tool::Separator => {
+            p.rect_stroke(Rect::from_center_size(m, vec2(8.0, 18.0)), 1, s, egui::StrokeKind::Middle);
+            for dy in [-5.0, 0.0, 5.0] {
+                p.line_segment([m + vec2(-8.0, dy), m + vec2(-4.0, dy)], Stroke::new(1.2, c));
+                p.line_segment([m + vec2(4.0, dy), m + vec2(8.0, dy)], Stroke::new(1.2, c));
+            }
+        }
         Tool::Riser => {
             p.line_segment([m + vec2(0.0, 7.0), m + vec2(0.0, -7.0)], Stroke::new(2.0, c));
             p.add(Shape::convex_polygon(

@@ -19,6 +19,10 @@ use crate::pump::{PumpControl, PumpCurve};
 use crate::valves;
 use crate::vessel;
 
+/// Kv standing for "no resistance" in the valve link of a feed (a pumped
+/// circuit seen from its feeding network), m³/h.
+const FEED_OPEN_KV_M3_H: f64 = 1000.0;
+
 /// The index circuit and each emitter's circuit pressure drops at design
 /// flow.
 struct Circuits {
@@ -139,10 +143,14 @@ impl Derivation<'_> {
                 flow_within_tolerance: true,
                 closed: opts.closed_emitters.contains(&e.id),
             };
-            if let Some(d) = &e.design {
+            if let Some(d) = e.design.as_ref().filter(|_| e.feed.is_none()) {
                 self.emitter_design_findings(node, d.as_ref());
             }
             let mut valve_kv = e.valve.and_then(|v| v.settings.last()).map_or(1.0, |st| st.kv_m3_h);
+            if e.feed.is_some() {
+                // Its port (the body link) is its whole resistance.
+                valve_kv = FEED_OPEN_KV_M3_H;
+            }
             let mut lock_kv = e.lockshield_kv;
             r.lockshield = e.lockshield.and_then(|l| l.settings.last()).map_or_else(String::new, |st| st.label.clone());
             if let (Some(family), true) = (e.valve, m > 0.0) {
@@ -360,7 +368,15 @@ impl Derivation<'_> {
             Some(NodeKind::Source(src)) if p.settings.mode == Mode::Installed => {
                 src.pump.design_flow_m3_h.map(|q| q * rp.density_kg_m3 / 3600.0)
             }
-            Some(NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_) | NodeKind::Emitter(_)) | None => None,
+            Some(
+                NodeKind::Source(_)
+                | NodeKind::Junction
+                | NodeKind::Header(_)
+                | NodeKind::Emitter(_)
+                | NodeKind::Circuit(_)
+                | NodeKind::Separator(_),
+            )
+            | None => None,
         };
         if let Ok((a0, a1, a2)) = crate::pump::to_mass_flow_coefficients(
             curve,
@@ -385,14 +401,17 @@ impl Derivation<'_> {
 
     /// Heat load, source capacity, water volume, expansion vessel.
     fn totals(&mut self, p: &Project, dn: &Dense<'_>, source: NodeId, sol: &mut Solution) {
-        let s = &p.settings;
         sol.heat_load_w = self
             .emitters
             .iter()
             .filter_map(|e| dn.node(e.id))
             .map(|n| match &n.kind {
                 NodeKind::Emitter(em) => em.load_w,
-                NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_) => 0.0,
+                NodeKind::Source(_)
+                | NodeKind::Junction
+                | NodeKind::Header(_)
+                | NodeKind::Circuit(_)
+                | NodeKind::Separator(_) => 0.0,
             })
             .sum();
         let Some(NodeKind::Source(src)) = dn.node(source).map(|n| &n.kind) else { return };
@@ -409,15 +428,7 @@ impl Derivation<'_> {
         let emitters_l: f64 =
             self.emitters.iter().filter_map(|e| e.design.as_ref()).map(|d| d.installed.water_content_l).sum();
         sol.water_volume_l = pipes_l + emitters_l + src.water_content_l;
-        let z_src = dn.elevation_m(source);
-        let z_max = p.nodes().map(|n| dn.elevation_m(n.id)).fold(z_src, f64::max);
-        let static_height = s.static_height_m.unwrap_or(z_max - z_src + 1.0);
-        // Sized for the highest flow temperature the source can reach, not
-        // the design supply: the water expands that far.
-        let max_flow_c = src.max_flow_temperature_c(s.supply_c);
-        let mut input = vessel::VesselInput::new(sol.water_volume_l, max_flow_c, static_height, s.safety_valve_bar);
-        input.fill_temperature_c = s.fill_temperature_c;
-        match vessel::size_expansion_vessel(&input) {
+        match size_vessel(p, source, sol.water_volume_l) {
             Ok(v) => sol.vessel = Some(v),
             Err(e) => self.findings.push(findings::vessel_not_sized(&e)),
         }
@@ -511,4 +522,26 @@ impl Derivation<'_> {
         }));
         sol.pipes = pipes;
     }
+}
+
+/// The expansion vessel (EN 12828) for `water_volume_l` with the vessel at
+/// the source: static height from the source to the highest node (or as
+/// set), sized for the highest flow temperature the source can reach, not
+/// the design supply (the water expands that far).
+pub(super) fn size_vessel(
+    p: &Project,
+    source: NodeId,
+    water_volume_l: f64,
+) -> crate::error::PhysicsResult<vessel::VesselSizing> {
+    let s = &p.settings;
+    let z_src = p.elevation_m(source);
+    let z_max = p.nodes().map(|n| p.elevation_m(n.id)).fold(z_src, f64::max);
+    let static_height = s.static_height_m.unwrap_or(z_max - z_src + 1.0);
+    let max_flow_c = match p.node(source).map(|n| &n.kind) {
+        Some(NodeKind::Source(src)) => src.max_flow_temperature_c(s.supply_c),
+        _ => s.supply_c + crate::project::DEFAULT_MAX_FLOW_ABOVE_DESIGN_K,
+    };
+    let mut input = vessel::VesselInput::new(water_volume_l, max_flow_c, static_height, s.safety_valve_bar);
+    input.fill_temperature_c = s.fill_temperature_c;
+    vessel::size_expansion_vessel(&input)
 }

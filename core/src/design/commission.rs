@@ -62,7 +62,14 @@ impl Derivation<'_> {
             let (Some(valve), Some(lock)) = (e.valve, e.lockshield) else { continue };
             let fixed_by_user = match dn.node(e.id).map(|n| &n.kind) {
                 Some(NodeKind::Emitter(em)) => em.valves.presetting.is_some() || em.valves.lockshield_setting.is_some(),
-                Some(NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_)) | None => true,
+                Some(
+                    NodeKind::Source(_)
+                    | NodeKind::Junction
+                    | NodeKind::Header(_)
+                    | NodeKind::Circuit(_)
+                    | NodeKind::Separator(_),
+                )
+                | None => true,
             };
             if fixed_by_user {
                 continue;

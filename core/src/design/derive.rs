@@ -73,7 +73,11 @@ impl Derivation<'_> {
             let Some(node) = dn.node(n) else { continue };
             match node.kind {
                 NodeKind::Emitter(_) => continue,
-                NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_) => {}
+                NodeKind::Source(_)
+                | NodeKind::Junction
+                | NodeKind::Header(_)
+                | NodeKind::Circuit(_)
+                | NodeKind::Separator(_) => {}
             }
             let z = dn.elevation_m(n);
             let a = self.add_node(z);
@@ -139,7 +143,10 @@ impl Derivation<'_> {
                 }
             };
             let flow = design.as_ref().map_or(0.0, |d| d.outcome.mass_flow_kg_s());
+            let feed = self.feeds.get(&e).copied();
+            // A feed has its control valve in its body, no emitter valves.
             let valve = match family_memo.get(&em.valves.valve_family) {
+                _ if feed.is_some() => None,
                 Ok(v) => Some(v),
                 Err(err) => {
                     self.findings.push(findings::valve_family_unknown(node, &err));
@@ -147,6 +154,7 @@ impl Derivation<'_> {
                 }
             };
             let (lockshield, lockshield_kv) = match family_memo.get(&em.valves.lockshield_family) {
+                _ if feed.is_some() => (None, f64::INFINITY),
                 Ok(v) => (Some(v), v.settings.last().map_or(v.kvs_fully_open, |st| st.kv_m3_h)),
                 Err(err) => {
                     self.findings.push(findings::lockshield_family_unknown(node, &err));
@@ -186,6 +194,7 @@ impl Derivation<'_> {
                 valve,
                 lockshield,
                 lockshield_kv,
+                feed,
             });
         }
         if self.emitters.is_empty() {

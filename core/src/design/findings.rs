@@ -144,6 +144,16 @@ pub enum FindingKind {
     PumpOnMaxCurve,
     /// A pipe's operating velocity exceeds its class limit.
     VelocityOverLimit,
+    /// A pumped circuit is connected where it cannot work (a pump-only
+    /// circuit off a network, a circuit warmer than its feed, a separator
+    /// outlet that is not a pumped circuit).
+    CircuitConnectionInvalid,
+    /// The feeding network does not give a mixing or injection circuit the
+    /// Δp its valve needs to pass the circuit's primary flow.
+    CircuitFeedShort,
+    /// A hydraulic separator gets less primary flow than its circuits draw:
+    /// their supply is mixed down.
+    SeparatorFlowShort,
 }
 
 impl FindingKind {
@@ -165,7 +175,7 @@ impl FindingKind {
     ];
 
     /// Every kind, in declaration order.
-    pub const ALL: [Self; 53] = [
+    pub const ALL: [Self; 56] = [
         Self::NoSource,
         Self::SourceUnconnected,
         Self::LoopClosed,
@@ -219,6 +229,9 @@ impl FindingKind {
         Self::RoomShort,
         Self::PumpOnMaxCurve,
         Self::VelocityOverLimit,
+        Self::CircuitConnectionInvalid,
+        Self::CircuitFeedShort,
+        Self::SeparatorFlowShort,
     ];
 
     /// Position in [`Self::ALL`] (an exhaustive match: a new kind does not
@@ -280,6 +293,9 @@ impl FindingKind {
             Self::RoomShort => 50,
             Self::PumpOnMaxCurve => 51,
             Self::VelocityOverLimit => 52,
+            Self::CircuitConnectionInvalid => 53,
+            Self::CircuitFeedShort => 54,
+            Self::SeparatorFlowShort => 55,
         }
     }
 

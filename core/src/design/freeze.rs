@@ -107,7 +107,11 @@ pub fn thaw_edit(p: &Project) -> Edit {
                 src.pump.design_flow_m3_h = None;
                 edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Source(src) });
             }
-            NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_) => {}
+            NodeKind::Source(_)
+            | NodeKind::Junction
+            | NodeKind::Header(_)
+            | NodeKind::Circuit(_)
+            | NodeKind::Separator(_) => {}
         }
     }
     let settings = DesignSettings { mode: Mode::DesignFollowsLayout, ..p.settings.clone() };

@@ -28,6 +28,7 @@
 
 mod balance;
 mod cache;
+mod circuits;
 mod commission;
 mod derive;
 mod devices;
@@ -40,7 +41,7 @@ mod state;
 pub mod topology;
 mod trim;
 
-use std::collections::BTreeSet;
+use std::collections::{BTreeMap, BTreeSet};
 use std::time::Instant;
 
 pub use derive::{BEND_45_MIN_DEG, BEND_90_MIN_DEG, RISER_BENDS_PER_VERTICAL_RUN, bend_count, bends_in_run};
@@ -48,7 +49,8 @@ pub use devices::{HELD_DP_TOLERANCE_PA, MAX_REGULATION_ROUNDS};
 pub use findings::{Finding, FindingKind, ItemRef, Severity};
 pub use freeze::{freeze_edit, thaw_edit};
 pub use results::{
-    DeviceResult, DeviceState, EmitterResult, LinkRole, PipeResult, PumpResult, Side, Solution, StageTimings,
+    CircuitResult, DeviceResult, DeviceState, EmitterResult, LinkRole, PipeResult, PumpResult, Side, Solution,
+    StageTimings,
 };
 pub use size::{HEADER_OUTLET_ZETA, SizeInputs, choose_size};
 
@@ -93,16 +95,28 @@ pub struct Workspace {
     link_dps: cache::LinkDpCache,
     tees: cache::TeeCache,
     messages: cache::MessageCache,
+    /// The workspaces of the pumped circuits, by circuit root.
+    circuits: BTreeMap<NodeId, Workspace>,
 }
 
 /// Design and operate a project. Never panics; everything that goes wrong
 /// becomes a finding naming the item.
 #[must_use]
 pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> Solution {
+    if circuits::has_circuits(p) {
+        return circuits::solve_composite(p, opts, ws);
+    }
+    solve_one(p, opts, ws, BTreeMap::new())
+}
+
+/// Design and operate one circuit: a project with one source, where the
+/// emitters named in `feeds` stand for the pumped circuits it feeds.
+fn solve_one(p: &Project, opts: &SolveOptions, ws: &mut Workspace, feeds: BTreeMap<NodeId, state::Feed>) -> Solution {
     let mut sol = Solution { revision: p.revision, ..Solution::default() };
     let t0 = Instant::now();
     let mut findings = Vec::new();
     let mut d = Derivation::new(&mut findings);
+    d.feeds = feeds;
     let dn = Dense::new(p);
     let ok = d.derive(p, &dn, ws);
     sol.timings.derive_ms = ms_since(t0);

@@ -49,6 +49,17 @@ impl Derivation<'_> {
                 h.friction_law = FrictionLaw::ColebrookWhite;
             }
         }
+        // Regulated feeds (pumped circuits behind a mixing or injection
+        // valve): the valve holds the circuit's primary flow, so the network
+        // sees a fixed draw at the feed's supply node and the same flow back
+        // at its return node.
+        for e in &self.emitters {
+            let Some(m) = e.feed.and_then(|f| f.fixed_flow_kg_s) else { continue };
+            let m = if opts.closed_emitters.contains(&e.id) { 0.0 } else { m };
+            self.net.links[e.valves_link].closed = true;
+            self.net.nodes[e.s].demand_kg_s = -m;
+            self.net.nodes[e.r].demand_kg_s = m;
+        }
         let same_topology = ws.last_roles == self.roles && ws.last_flows.len() == self.net.links.len();
         if !same_topology {
             ws.solver = None;
@@ -137,6 +148,15 @@ impl Derivation<'_> {
         let node_count = p.node_count();
         for (r, &i) in sol.emitters.iter_mut().zip(&self.result_emitter) {
             let Some(e) = self.emitters.get(i) else { continue };
+            if let Some(feed) = e.feed {
+                // A feed's output and its findings are the circuit's
+                // (circuits.rs); here only its primary flow.
+                let m = feed.fixed_flow_kg_s.unwrap_or_else(|| flows[e.valves_link].max(0.0));
+                r.flow_kg_s = m;
+                r.flow_l_h = m / sp.density_kg_m3 * 3.6e6;
+                r.flow_deviation = if r.design_flow_kg_s > 0.0 { m / r.design_flow_kg_s - 1.0 } else { 0.0 };
+                continue;
+            }
             let m = flows[e.valves_link].max(0.0);
             r.flow_kg_s = m;
             r.flow_l_h = m / sp.density_kg_m3 * 3.6e6;

@@ -213,6 +213,66 @@ pub struct PumpResult {
     pub on_max_curve: bool,
 }
 
+/// One pumped circuit of a project with secondary circuits (the primary,
+/// from the heat source, comes first). See `design/circuits.rs`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CircuitResult {
+    /// The circuit's root: the heat source, or the pumped-circuit node.
+    pub root: NodeId,
+    /// Name (of the source or the circuit).
+    pub name: String,
+    /// How it takes its heat; `None` for the primary.
+    pub connection: Option<crate::project::CircuitConnection>,
+    /// Root of the circuit feeding it; `None` for the primary.
+    pub parent: Option<NodeId>,
+    /// The hydraulic separator it hangs from, if any.
+    pub separator: Option<NodeId>,
+    /// Design supply and return temperatures, °C.
+    pub supply_c: f64,
+    /// Design return temperature, °C.
+    pub return_c: f64,
+    /// Design heat load it carries (its rooms and the circuits it feeds), W.
+    pub heat_load_w: f64,
+    /// Heat delivered at the operating point, W.
+    pub heat_w: f64,
+    /// Design flow of its own pump, l/h.
+    pub design_flow_l_h: f64,
+    /// Operating flow of its own pump, l/h.
+    pub flow_l_h: f64,
+    /// Mixed return temperature at the operating point, °C.
+    pub operating_return_c: f64,
+    /// Primary (feed-side) design flow, l/h (the secondary flow for a pump-only
+    /// circuit; 0 for the primary).
+    pub primary_design_flow_l_h: f64,
+    /// Primary flow at the operating point, l/h (held by the circuit's valve:
+    /// operating heat / (c_p · (feed supply − operating return))).
+    pub primary_flow_l_h: f64,
+    /// Feed supply temperature, °C (0 for the primary).
+    pub feed_supply_c: f64,
+    /// Δp the feeding network gives at the circuit at the operating point, Pa.
+    pub feed_dp_available_pa: f64,
+    /// Δp its valve needs fully open at the primary flow, Pa.
+    pub feed_dp_needed_pa: f64,
+    /// Its pump.
+    pub pump: Option<PumpResult>,
+    /// Its index emitter (or the circuit it feeds that is its index).
+    pub index_emitter: Option<NodeId>,
+    /// Its index circuit as links of [`Solution::network`].
+    pub index_path: Vec<usize>,
+    /// Its links in [`Solution::network`]: `links.0 .. links.1`.
+    pub links: (usize, usize),
+    /// Layout nodes in the circuit (root excluded; circuits it feeds
+    /// included as its leaves).
+    pub nodes: Vec<NodeId>,
+    /// Runs in the circuit.
+    pub runs: Vec<RunId>,
+    /// Expansion vessel, water volume: the project's totals; here the
+    /// circuit's own water, l.
+    pub water_volume_l: f64,
+    /// The operating solve converged.
+    pub converged: bool,
+}
+
 /// What a balancing device is doing in the operating solve.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -333,6 +393,10 @@ pub struct Solution {
     /// The layout's supply tree: run orientation, classes, reverse-return
     /// chains (what the derivation worked from).
     pub topology: Topology,
+    /// Pumped circuits (empty for a project with one circuit): the primary
+    /// first, then each secondary circuit, feeds before the circuits they
+    /// feed.
+    pub circuits: Vec<CircuitResult>,
     /// (item, kind) of every finding, sorted: [`Solution::has_finding`].
     pub finding_keys: Vec<(super::ItemRef, super::FindingKind)>,
 }

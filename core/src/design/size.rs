@@ -199,7 +199,14 @@ impl Derivation<'_> {
             .map(|e| {
                 let load = match dn.node(e.id).map(|n| &n.kind) {
                     Some(NodeKind::Emitter(em)) if e.flow_kg_s > 0.0 => em.load_w,
-                    Some(NodeKind::Emitter(_) | NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_))
+                    Some(
+                        NodeKind::Emitter(_)
+                        | NodeKind::Source(_)
+                        | NodeKind::Junction
+                        | NodeKind::Header(_)
+                        | NodeKind::Circuit(_)
+                        | NodeKind::Separator(_),
+                    )
                     | None => 0.0,
                 };
                 (e.s, e.r, load)

@@ -39,6 +39,18 @@ impl FamilyMemo {
     }
 }
 
+/// A pumped circuit or hydraulic separator seen from the network that
+/// feeds it (see `circuits.rs`): a leaf drawing the circuit's primary flow.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Feed {
+    /// Kv of its port on this network: the mixing or injection valve fully
+    /// open, or the separator, m³/h.
+    pub(crate) kv_m3_h: f64,
+    /// The primary flow its control valve holds in operation, kg/s; `None`
+    /// for a separator, which takes what the network gives it.
+    pub(crate) fixed_flow_kg_s: Option<f64>,
+}
+
 /// Per-emitter derivation data.
 #[derive(Debug)]
 pub(super) struct EmitterData {
@@ -54,6 +66,8 @@ pub(super) struct EmitterData {
     pub(super) lockshield: Option<&'static ValveFamily>,
     /// Kv of the lockshield fully open, m³/h (∞ without a lockshield).
     pub(super) lockshield_kv: f64,
+    /// A pumped circuit or separator standing in for an emitter.
+    pub(super) feed: Option<Feed>,
 }
 
 /// Per-pipe derivation data.
@@ -166,6 +180,8 @@ pub(super) struct Derivation<'f> {
     pub(super) result_emitter: Vec<usize>,
     /// Breadth-first link orders of the supply and return trees.
     pub(super) tree_orders: Option<(Vec<usize>, Vec<usize>)>,
+    /// Emitters that stand for pumped circuits or separators.
+    pub(super) feeds: std::collections::BTreeMap<NodeId, Feed>,
 }
 
 impl<'f> Derivation<'f> {
@@ -195,6 +211,7 @@ impl<'f> Derivation<'f> {
             pipes_filled: false,
             result_emitter: Vec::new(),
             tree_orders: None,
+            feeds: std::collections::BTreeMap::new(),
         }
     }
 

@@ -420,7 +420,11 @@ pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>) -> (Topology, Vec<Findin
         }
         match &n.kind {
             NodeKind::Emitter(_) => findings.push(findings::emitter_unreachable(n)),
-            NodeKind::Source(_) | NodeKind::Junction | NodeKind::Header(_) => {
+            NodeKind::Source(_)
+            | NodeKind::Junction
+            | NodeKind::Header(_)
+            | NodeKind::Circuit(_)
+            | NodeKind::Separator(_) => {
                 findings.push(findings::node_unreachable(n));
             }
         }
@@ -446,7 +450,9 @@ pub(crate) fn analyse_dense(p: &Project, d: &Dense<'_>) -> (Topology, Vec<Findin
     for &n in &t.order {
         let Some(node) = d.node(n) else { continue };
         let outlets = t.children_of(n).len();
-        if matches!(node.kind, NodeKind::Junction | NodeKind::Header(_)) && outlets == 0 {
+        if matches!(node.kind, NodeKind::Junction | NodeKind::Header(_) | NodeKind::Circuit(_) | NodeKind::Separator(_))
+            && outlets == 0
+        {
             findings.push(findings::dead_end(node));
         }
         if let NodeKind::Header(h) = &node.kind

@@ -128,26 +128,28 @@ pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError>
             within(&limits::SOURCE_CAPACITY_W, s.capacity_w)?;
             within(&limits::SOURCE_KV_M3_H, s.kv_m3_h)?;
             within(&limits::SOURCE_WATER_L, s.water_content_l)?;
-            for (q, h) in s.pump.curve_points {
-                within(&limits::PUMP_CURVE_FLOW_M3_H, q)?;
-                within(&limits::PUMP_CURVE_HEAD_KPA, h)?;
-            }
-            crate::pump::PumpCurve::from_three_points(s.pump.curve_points)
-                .map_err(|e| invalid(label, format!("pump curve: {e}")))?;
-            match s.pump.control {
-                PumpControl::FixedSpeed => {}
-                PumpControl::ConstantDp { setpoint_kpa } | PumpControl::ProportionalDp { setpoint_kpa } => {
-                    within(&limits::PUMP_SETPOINT_KPA, setpoint_kpa)?;
-                }
-            }
-            if let Some(q) = s.pump.design_flow_m3_h {
-                within(&limits::PUMP_DESIGN_FLOW_M3_H, q)?;
-            }
+            validate_pump(label, &s.pump)?;
             if let Some(t) = s.max_flow_c {
                 within(&limits::SOURCE_MAX_FLOW_C, t)?;
             }
             Ok(())
         }
+        NodeKind::Circuit(c) => {
+            within(&limits::SUPPLY_C, c.supply_c)?;
+            within(&limits::RETURN_C, c.return_c)?;
+            if c.return_c >= c.supply_c && c.connection != crate::project::CircuitConnection::Direct {
+                return Err(invalid(
+                    label,
+                    format!(
+                        "return {} °C is not below supply {} °C — give the circuit a return below its supply",
+                        c.return_c, c.supply_c
+                    ),
+                ));
+            }
+            within(&limits::CIRCUIT_VALVE_KVS_M3_H, c.valve_kvs_m3_h)?;
+            validate_pump(label, &c.pump)
+        }
+        NodeKind::Separator(x) => within(&limits::SOURCE_KV_M3_H, x.kv_m3_h),
         NodeKind::Emitter(e) => {
             within(&limits::LOAD_W, e.load_w)?;
             within(&limits::ROOM_C, e.room_c)?;
@@ -181,6 +183,27 @@ pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError>
             Ok(())
         }
     }
+}
+
+/// Check a pump's curve and control.
+fn validate_pump(label: &str, pump: &crate::project::PumpSpec) -> Result<(), EditError> {
+    let within = |l: &Limit, v: f64| l.check(v).map(|_| ()).map_err(|m| invalid(label, m));
+    for (q, h) in pump.curve_points {
+        within(&limits::PUMP_CURVE_FLOW_M3_H, q)?;
+        within(&limits::PUMP_CURVE_HEAD_KPA, h)?;
+    }
+    crate::pump::PumpCurve::from_three_points(pump.curve_points)
+        .map_err(|e| invalid(label, format!("pump curve: {e}")))?;
+    match pump.control {
+        PumpControl::FixedSpeed => {}
+        PumpControl::ConstantDp { setpoint_kpa } | PumpControl::ProportionalDp { setpoint_kpa } => {
+            within(&limits::PUMP_SETPOINT_KPA, setpoint_kpa)?;
+        }
+    }
+    if let Some(q) = pump.design_flow_m3_h {
+        within(&limits::PUMP_DESIGN_FLOW_M3_H, q)?;
+    }
+    Ok(())
 }
 
 /// Check a run's user properties.

@@ -138,6 +138,8 @@ pub const PUMP_SETPOINT_KPA: Limit = Limit::new("pump set-point", "kPa", 0.1, 10
 pub const PUMP_CURVE_FLOW_M3_H: Limit = Limit::new("pump curve flow", "m³/h", 0.0, 10_000.0);
 /// Head of a pump-curve point, kPa.
 pub const PUMP_CURVE_HEAD_KPA: Limit = Limit::new("pump curve head", "kPa", 0.0, 2000.0);
+/// Kvs of a pumped circuit's mixing or injection valve, m³/h.
+pub const CIRCUIT_VALVE_KVS_M3_H: Limit = Limit::new("mixing valve Kvs", "m³/h", 0.1, 1000.0);
 /// Set-point of a branch's Δp controller, kPa.
 pub const DP_CONTROLLER_SETPOINT_KPA: Limit = Limit::new("Δp controller set-point", "kPa", 1.0, 200.0);
 /// Design flow a proportional-Δp pump was set for, m³/h.

@@ -148,6 +148,70 @@ pub struct Header {
     pub outlets: u32,
 }
 
+/// How a pumped circuit takes its heat from the network it hangs from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub enum CircuitConnection {
+    /// A three-way mixing valve: the circuit's return is mixed into the
+    /// water from the feeding network until the circuit's supply
+    /// temperature is reached; the rest of the return goes back.
+    MixingValve,
+    /// Injection: a two-way control valve on the feeding network injects hot
+    /// water into the circuit's loop through a bypass; as much circuit
+    /// return leaves as hot water enters.
+    Injection,
+    /// Pump only (on a hydraulic separator): the circuit runs at the supply
+    /// temperature it is given.
+    Direct,
+}
+
+impl CircuitConnection {
+    /// Every connection, in menu order.
+    pub const ALL: [Self; 3] = [Self::MixingValve, Self::Injection, Self::Direct];
+
+    /// Words for tables and menus.
+    #[must_use]
+    pub const fn name(self) -> &'static str {
+        match self {
+            Self::MixingValve => "three-way mixing valve",
+            Self::Injection => "injection, two-way valve",
+            Self::Direct => "pump only",
+        }
+    }
+}
+
+/// A pumped secondary circuit: its own pump and design temperatures,
+/// taking heat from the network upstream (through a mixing or injection
+/// valve) or from a hydraulic separator (pump only). The runs leaving it
+/// form the circuit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PumpedCircuit {
+    /// Name.
+    pub name: String,
+    /// How it takes its heat.
+    pub connection: CircuitConnection,
+    /// Design supply temperature of the circuit, °C (a pump-only circuit
+    /// runs at its feed's supply temperature and ignores this).
+    pub supply_c: f64,
+    /// Design return temperature of the circuit, °C.
+    pub return_c: f64,
+    /// Kvs of the mixing or injection valve, m³/h (the feed's port, fully
+    /// open; the circuit's water passes the valve too).
+    pub valve_kvs_m3_h: f64,
+    /// The circuit's pump.
+    pub pump: PumpSpec,
+}
+
+/// A hydraulic separator (low-loss header): the feeding network's loop and
+/// the pumped circuits leaving it are hydraulically decoupled.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Separator {
+    /// Name.
+    pub name: String,
+    /// Resistance of the separator with its connections on the feeding
+    /// side, as a Kv, m³/h.
+    pub kv_m3_h: f64,
+}
+
 /// Valves of one emitter.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct EmitterValves {
@@ -189,6 +253,10 @@ pub enum NodeKind {
     Header(Header),
     /// A room's emitter.
     Emitter(Emitter),
+    /// A pumped secondary circuit (mixing, injection or pump only).
+    Circuit(PumpedCircuit),
+    /// A hydraulic separator feeding pumped circuits.
+    Separator(Separator),
 }
 
 impl NodeKind {
@@ -200,6 +268,8 @@ impl NodeKind {
             Self::Junction => "junction",
             Self::Header(_) => "header",
             Self::Emitter(_) => "emitter",
+            Self::Circuit(_) => "pumped circuit",
+            Self::Separator(_) => "hydraulic separator",
         }
     }
 }
@@ -225,6 +295,8 @@ impl Node {
             NodeKind::Source(s) => format!("{} ({})", s.name, self.id),
             NodeKind::Header(h) => format!("{} ({})", h.name, self.id),
             NodeKind::Emitter(e) => format!("{} ({})", e.name, self.id),
+            NodeKind::Circuit(c) => format!("{} ({})", c.name, self.id),
+            NodeKind::Separator(x) => format!("{} ({})", x.name, self.id),
             NodeKind::Junction => format!("junction {}", self.id),
         }
     }

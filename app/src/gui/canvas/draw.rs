@@ -315,6 +315,24 @@ pub fn node_symbol(painter: &Painter, at: Pos2, n: &Node) {
                 painter.line_segment([pos2(x, r.bottom()), pos2(x, r.bottom() + 4.0)], ink);
             }
         }
+        NodeKind::Circuit(_) => {
+            // A pump (disc with a triangle) in a rounded box: a pumped
+            // circuit; the mixing valve is implied by its label.
+            let r = Rect::from_center_size(at, vec2(26.0, 20.0));
+            painter.rect(r, CornerRadius::same(5), Color32::from_rgb(0xe3, 0xee, 0xf7), ink, StrokeKind::Middle);
+            painter.circle_stroke(at, 6.5, ink);
+            let tri = vec![at + vec2(-3.0, 3.5), at + vec2(4.5, 0.0), at + vec2(-3.0, -3.5)];
+            painter.add(Shape::convex_polygon(tri, theme::INK, Stroke::NONE));
+        }
+        NodeKind::Separator(_) => {
+            let r = Rect::from_center_size(at, vec2(12.0, 30.0));
+            painter.rect(r, CornerRadius::same(2), Color32::WHITE, ink, StrokeKind::Middle);
+            let mut y = r.top() + 3.0;
+            while y < r.bottom() - 3.0 {
+                painter.line_segment([pos2(at.x, y), pos2(at.x, (y + 3.0).min(r.bottom() - 3.0))], ink);
+                y += 6.0;
+            }
+        }
         NodeKind::Emitter(e) => match &e.model {
             EmitterModel::Radiator(_) => {
                 let r = Rect::from_center_size(at, vec2(24.0, 12.0));
@@ -367,6 +385,11 @@ fn node_label(s: &PlanScene<'_>, n: &Node, at: Pos2, must: bool, labels: &mut La
         }
         NodeKind::Header(h) => (h.name.clone(), 12.0),
         NodeKind::Source(src) => (src.name.clone(), 15.0),
+        NodeKind::Circuit(c) => {
+            let supply = s.sol.circuits.iter().find(|x| x.root == n.id).map_or(c.supply_c, |x| x.supply_c);
+            (format!("{}  {supply:.0}/{:.0} °C", c.name, c.return_c), 14.0)
+        }
+        NodeKind::Separator(x) => (x.name.clone(), 17.0),
         NodeKind::Junction => return,
     };
     // Below the symbol, else above, else to the right or left.

@@ -5,7 +5,8 @@
 use flowrise_core::design::Solution;
 use flowrise_core::emitters::{EmitterModel, RadiatorSizing, RadiatorSpec};
 use flowrise_core::project::{
-    Edit, Emitter, EmitterValves, Header, HeatSource, LevelId, NodeId, NodeKind, PlanPoint, Project, PumpSpec,
+    CircuitConnection, Edit, Emitter, EmitterValves, Header, HeatSource, LevelId, NodeId, NodeKind, PlanPoint, Project,
+    PumpSpec, PumpedCircuit, Separator,
 };
 use flowrise_core::pump::PumpControl;
 
@@ -26,6 +27,10 @@ pub enum Tool {
     Header,
     /// Place the heat source.
     Source,
+    /// Place a pumped circuit (mixing valve and pump).
+    Circuit,
+    /// Place a hydraulic separator.
+    Separator,
     /// Rise from a node to the level above.
     Riser,
     /// Split a run with a junction.
@@ -36,8 +41,18 @@ pub enum Tool {
 
 impl Tool {
     /// All tools in the order of the tool column.
-    pub const ALL: [Self; 8] =
-        [Self::Select, Self::Run, Self::Emitter, Self::Header, Self::Source, Self::Riser, Self::Split, Self::Erase];
+    pub const ALL: [Self; 10] = [
+        Self::Select,
+        Self::Run,
+        Self::Emitter,
+        Self::Header,
+        Self::Source,
+        Self::Circuit,
+        Self::Separator,
+        Self::Riser,
+        Self::Split,
+        Self::Erase,
+    ];
 
     /// Word shown in the tool column (and the accessible label).
     #[must_use]
@@ -48,6 +63,8 @@ impl Tool {
             Self::Emitter => "Emitter",
             Self::Header => "Header",
             Self::Source => "Source",
+            Self::Circuit => "Circuit",
+            Self::Separator => "Separator",
             Self::Riser => "Riser",
             Self::Split => "Split",
             Self::Erase => "Erase",
@@ -64,6 +81,8 @@ impl Tool {
             Self::Emitter => Key::E,
             Self::Header => Key::H,
             Self::Source => Key::Q,
+            Self::Circuit => Key::M,
+            Self::Separator => Key::D,
             Self::Riser => Key::V,
             Self::Split => Key::T,
             Self::Erase => Key::X,
@@ -83,6 +102,14 @@ impl Tool {
             Self::Emitter => "Click to place a radiator; click a junction, header or run to place it connected",
             Self::Header => "Click to place a header; click a run to turn a point of it into a header",
             Self::Source => "Click to place the heat source with its pump (one per network)",
+            Self::Circuit => {
+                "Click a run to put a pumped circuit (mixing valve + pump, own temperatures) on it: everything downstream \
+                 becomes the circuit; or click empty space to place one"
+            }
+            Self::Separator => {
+                "Click a run to put a hydraulic separator on it, or click empty space; connect pumped circuits to its \
+                 outlets"
+            }
             Self::Riser => {
                 "Click a junction, header or the source: adds a junction on the level above and the vertical run to it"
             }
@@ -99,6 +126,24 @@ pub struct RunDraft {
     pub start: NodeId,
     /// Bend points so far, m.
     pub vertices: Vec<PlanPoint>,
+}
+
+/// A new mixing circuit for floor heating (35/30 °C, demo pump data).
+#[must_use]
+pub fn new_circuit(project: &Project, name: &str) -> NodeKind {
+    let supply_c = project.settings.supply_c.min(35.0);
+    NodeKind::Circuit(PumpedCircuit {
+        name: name.to_owned(),
+        connection: CircuitConnection::MixingValve,
+        supply_c,
+        return_c: (supply_c - 5.0).max(10.0),
+        valve_kvs_m3_h: 4.0,
+        pump: PumpSpec {
+            curve_points: [(0.2, 58.0), (1.5, 45.0), (3.0, 15.0)],
+            control: PumpControl::ConstantDp { setpoint_kpa: 25.0 },
+            design_flow_m3_h: None,
+        },
+    })
 }
 
 /// A new radiator with the project's default valves (to be sized).
@@ -224,6 +269,23 @@ pub fn click(
             }
         }
         Tool::Source => out.edit_select(Edit::AddNode { level, pos: at, kind: new_source() }),
+        Tool::Circuit | Tool::Separator => {
+            let kind = if tool == Tool::Circuit {
+                new_circuit(project, &format!("Circuit {}", count_kind(project, "pumped circuit") + 1))
+            } else {
+                NodeKind::Separator(Separator {
+                    name: format!("Separator {}", count_kind(project, "hydraulic separator") + 1),
+                    kv_m3_h: 40.0,
+                })
+            };
+            match hit {
+                Some(Hit::Run(run, p)) => out.edit_select(Edit::Batch(vec![
+                    Edit::SplitRun { run, at: p },
+                    Edit::SetNodeKind { id: NodeId(next), kind },
+                ])),
+                _ => out.edit_select(Edit::AddNode { level, pos: at, kind }),
+            }
+        }
         Tool::Riser => match hit {
             Some(Hit::Node(id)) => {
                 let Some(node) = project.node(id) else { return };

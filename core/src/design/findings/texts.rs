@@ -606,3 +606,33 @@ pub(crate) fn velocity_over_limit(
         ),
     )
 }
+
+pub(crate) fn circuit_connection_invalid(node: &Node, why: &str) -> Finding {
+    Finding::error(FindingKind::CircuitConnectionInvalid, ItemRef::Node(node.id), format!("{}: {why}", node.label()))
+}
+
+pub(crate) fn circuit_feed_short(node: &Node, available_kpa: f64, needed_kpa: f64, flow_l_h: f64) -> Finding {
+    Finding::warning(
+        FindingKind::CircuitFeedShort,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: the feeding network gives {available_kpa:.1} kPa at the circuit, its valve needs {needed_kpa:.1} kPa fully \
+             open to pass the primary flow {flow_l_h:.0} l/h — the circuit's supply temperature will sag; raise the feeding \
+             pump's head, choose a valve with a larger Kvs or lower the resistance upstream",
+            node.label()
+        ),
+    )
+}
+
+pub(crate) fn separator_flow_short(node: &Node, primary_l_h: f64, drawn_l_h: f64, mixed_supply_c: f64) -> Finding {
+    Finding::warning(
+        FindingKind::SeparatorFlowShort,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: the primary loop brings {primary_l_h:.0} l/h, its circuits draw {drawn_l_h:.0} l/h — return water rises \
+             through the separator and their supply drops to about {mixed_supply_c:.1} °C; raise the primary flow (pump or \
+             balancing) to at least what the circuits draw",
+            node.label()
+        ),
+    )
+}

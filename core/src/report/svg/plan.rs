@@ -171,6 +171,43 @@ pub(in crate::report) fn level_plan(p: &Project, sol: &Solution, level: &Level) 
                     vec![(format!("{} ({})", h.name, n.id), "lb"), (format!("header, {} outlets", h.outlets), "sm")],
                 ));
             }
+            NodeKind::Circuit(c) => {
+                // A pump (circle with a triangle) in a rounded box.
+                w!(
+                    out,
+                    "<g class=\"circuit\" data-node=\"{}\"><rect x=\"{:.1}\" y=\"{:.1}\" width=\"24\" height=\"18\" rx=\"4\" fill=\"#ffffff\" stroke=\"#000000\" stroke-width=\"1.5\"/>\
+                     <circle cx=\"{x:.1}\" cy=\"{y:.1}\" r=\"6\" fill=\"none\" stroke=\"#000000\"/>\
+                     <path d=\"M{:.1},{:.1} l8,4 l-8,4 z\" fill=\"#000000\"/></g>",
+                    n.id,
+                    x - 12.0,
+                    y - 9.0,
+                    x - 4.0,
+                    y - 4.0
+                );
+                node_labels.push((
+                    (x, y),
+                    vec![
+                        (format!("{} ({})", c.name, n.id), "lb"),
+                        (format!("{}, {:.0}/{:.0} °C", c.connection.name(), c.supply_c, c.return_c), "sm"),
+                    ],
+                ));
+            }
+            NodeKind::Separator(x_) => {
+                w!(
+                    out,
+                    "<g class=\"separator\" data-node=\"{}\"><rect x=\"{:.1}\" y=\"{:.1}\" width=\"10\" height=\"26\" fill=\"#ffffff\" stroke=\"#000000\" stroke-width=\"1.5\"/>\
+                     <line x1=\"{x:.1}\" y1=\"{:.1}\" x2=\"{x:.1}\" y2=\"{:.1}\" stroke=\"#000000\" stroke-dasharray=\"2 2\"/></g>",
+                    n.id,
+                    x - 5.0,
+                    y - 13.0,
+                    y - 10.0,
+                    y + 10.0
+                );
+                node_labels.push((
+                    (x, y),
+                    vec![(format!("{} ({})", x_.name, n.id), "lb"), ("hydraulic separator".to_owned(), "sm")],
+                ));
+            }
             NodeKind::Emitter(e) => {
                 let shape = match e.model {
                     crate::emitters::EmitterModel::Radiator(_) => format!(
