@@ -58,6 +58,7 @@ pub enum Mode {
 
 /// A value per pipe class.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct PerClass<T> {
     /// Risers and mains.
     pub main: T,
@@ -89,6 +90,7 @@ impl<T> PerClass<T> {
 /// Design settings.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(default)]
+#[serde(deny_unknown_fields)]
 pub struct DesignSettings {
     /// Design supply temperature at the source, °C.
     pub supply_c: f64,
@@ -240,6 +242,18 @@ impl DesignSettings {
         }
         if !limits::HOT_RETURN_MARGIN_K.contains(self.hot_return_margin_k) {
             bad("hot-return margin", outside(&limits::HOT_RETURN_MARGIN_K, self.hot_return_margin_k));
+        }
+        let texts = [
+            ("pipe series (main)", &self.series.main),
+            ("pipe series (branch)", &self.series.branch),
+            ("pipe series (connection)", &self.series.connection),
+            ("valve family", &self.valve_family),
+            ("lockshield family", &self.lockshield_family),
+        ];
+        for (field, text) in texts {
+            if let Err(super::EditError::Invalid { message, .. }) = super::edit::check_text("settings", "id", text) {
+                bad(field, message);
+            }
         }
         out
     }
