@@ -1,7 +1,10 @@
 //! Circulating pump: curve, control mode, operating point and duty.
 //!
 //! The pump's maximum curve is the quadratic H(Q) = a0 + a1·Q + a2·Q²
-//! through three points read off the pump's data (Q in m³/h, H in kPa).
+//! through three points read off the pump's data (Q in m³/h, H in kPa),
+//! held flat where a parabola would rise (a curve flat near shut-off; see
+//! [`PumpCurve::from_three_points`] and [`held_quadratic`], the one rule
+//! every evaluation of a pump law follows, so it never rises with flow).
 //! The control mode ([`PumpControl`]) sets the head the pump aims for; it can
 //! never deliver more than the maximum curve, so the effective head is
 //! min(control head, curve head).

@@ -298,7 +298,8 @@ fn check_point(item: &str, p: PlanPoint) -> Result<(), EditError> {
     if limits::PLAN_COORDINATE_M.contains(p.x_m) && limits::PLAN_COORDINATE_M.contains(p.y_m) {
         Ok(())
     } else {
-        Err(invalid(item, format!("position ({}, {}) m is not a finite point within 100 km", p.x_m, p.y_m)))
+        let (x, y) = (limits::readable(p.x_m), limits::readable(p.y_m));
+        Err(invalid(item, format!("position ({x}, {y}) m is not a finite point within 100 km")))
     }
 }
 
@@ -364,7 +365,7 @@ impl Project {
                 if !(limits::ELEVATION_M.contains(elevation_m)) {
                     return Err(invalid(
                         format!("level {name}"),
-                        format!("elevation {elevation_m} m — give −500 to 500 m"),
+                        limits::ELEVATION_M.check(elevation_m).err().unwrap_or_default(),
                     ));
                 }
                 let id = LevelId(self.levels.iter().map(|l| l.id.0 + 1).max().unwrap_or(0));
@@ -376,7 +377,7 @@ impl Project {
                 if !(limits::ELEVATION_M.contains(level.elevation_m)) {
                     return Err(invalid(
                         format!("level {}", level.name),
-                        format!("elevation {} m — give −500 to 500 m", level.elevation_m),
+                        limits::ELEVATION_M.check(level.elevation_m).err().unwrap_or_default(),
                     ));
                 }
                 let slot = self

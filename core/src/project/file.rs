@@ -214,7 +214,7 @@ impl Project {
             if !(limits::ELEVATION_M.contains(l.elevation_m)) {
                 return Err(bad(
                     format!("level {} ({})", l.id, l.name),
-                    format!("elevation {} m — give −500 to 500 m", l.elevation_m),
+                    limits::ELEVATION_M.check(l.elevation_m).err().unwrap_or_default(),
                 ));
             }
         }
@@ -241,7 +241,11 @@ impl Project {
             if !(limits::PLAN_COORDINATE_M.contains(n.pos.x_m) && limits::PLAN_COORDINATE_M.contains(n.pos.y_m)) {
                 return Err(bad(
                     label,
-                    format!("position ({}, {}) m is not a finite point within 100 km", n.pos.x_m, n.pos.y_m),
+                    format!(
+                        "position ({}, {}) m is not a finite point within 100 km",
+                        limits::readable(n.pos.x_m),
+                        limits::readable(n.pos.y_m)
+                    ),
                 ));
             }
             validate_node_kind(&label, &n.kind).map_err(from_edit)?;
@@ -271,7 +275,8 @@ impl Project {
             }
             for v in &r.vertices {
                 if !(limits::PLAN_COORDINATE_M.contains(v.x_m) && limits::PLAN_COORDINATE_M.contains(v.y_m)) {
-                    return Err(bad(item, format!("bend point ({}, {}) m is not a finite point", v.x_m, v.y_m)));
+                    let (x, y) = (limits::readable(v.x_m), limits::readable(v.y_m));
+                    return Err(bad(item, format!("bend point ({x}, {y}) m is not a finite point within 100 km")));
                 }
             }
             validate_run_props(r.id, &r.props).map_err(from_edit)?;

@@ -187,7 +187,7 @@ impl DesignSettings {
     pub fn problems(&self) -> Vec<SettingsProblem> {
         let mut out = Vec::new();
         let mut bad = |field: &'static str, message: String| out.push(SettingsProblem { field, message });
-        let outside = |l: &Limit, v: f64| format!("{v} {} is outside {}", l.unit, l.range_text());
+        let outside = |l: &Limit, v: f64| format!("{} {} is outside {}", limits::readable(v), l.unit, l.range_text());
         if !limits::SUPPLY_C.contains(self.supply_c) {
             bad("supply temperature", outside(&limits::SUPPLY_C, self.supply_c));
         }
@@ -199,14 +199,22 @@ impl DesignSettings {
                 "return temperature",
                 format!(
                     "return {} °C must be below supply {} °C — lower the return or raise the supply",
-                    self.return_c, self.supply_c
+                    limits::readable(self.return_c),
+                    limits::readable(self.supply_c)
                 ),
             );
         }
         if !limits::ROOM_C.contains(self.room_c) {
             bad("room temperature", outside(&limits::ROOM_C, self.room_c));
         } else if self.room_c >= self.return_c {
-            bad("room temperature", format!("room {} °C must be below the return {} °C", self.room_c, self.return_c));
+            bad(
+                "room temperature",
+                format!(
+                    "room {} °C must be below the return {} °C",
+                    limits::readable(self.room_c),
+                    limits::readable(self.return_c)
+                ),
+            );
         }
         for class in PipeClass::ALL {
             let v = *self.velocity_limit_m_s.get(class);
@@ -218,7 +226,10 @@ impl DesignSettings {
             bad("pressure gradient limit", outside(&limits::GRADIENT_LIMIT_PA_M, self.gradient_limit_pa_m));
         }
         if !limits::HEAD_MARGIN_FRACTION.contains(self.head_margin_fraction) {
-            bad("pump head margin", format!("{} % is outside 0 to 100 %", self.head_margin_fraction * 100.0));
+            bad(
+                "pump head margin",
+                format!("{} % is outside 0 to 100 %", limits::readable(self.head_margin_fraction * 100.0)),
+            );
         }
         if !limits::MIN_VALVE_DP_PA.contains(self.min_valve_dp_pa) {
             bad("minimum valve Δp", outside(&limits::MIN_VALVE_DP_PA, self.min_valve_dp_pa));
@@ -235,7 +246,10 @@ impl DesignSettings {
             bad("safety valve pressure", outside(&limits::SAFETY_VALVE_BAR, self.safety_valve_bar));
         }
         if !limits::FLOW_TOLERANCE_FRACTION.contains(self.flow_tolerance_fraction) {
-            bad("flow tolerance", format!("±{} % is outside ±1 to ±50 %", self.flow_tolerance_fraction * 100.0));
+            bad(
+                "flow tolerance",
+                format!("±{} % is outside ±1 to ±50 %", limits::readable(self.flow_tolerance_fraction * 100.0)),
+            );
         }
         if !limits::MIN_WATER_DROP_K.contains(self.min_water_drop_k) {
             bad("minimum water temperature drop", outside(&limits::MIN_WATER_DROP_K, self.min_water_drop_k));
