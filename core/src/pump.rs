@@ -642,6 +642,31 @@ mod tests {
         assert!(accepted > 10_000 && refused > 0, "{accepted} accepted, {refused} refused");
     }
 
+    /// Issue 20 item 9: a project whose pump is flat near shut-off loads,
+    /// designs and operates on every control, never above the curve's
+    /// highest head.
+    #[test]
+    fn a_project_with_a_flat_curve_solves() {
+        use crate::design::{SolveOptions, Workspace, solve_project};
+        use crate::project::{Edit, NodeKind};
+        let mut p = crate::generate::generate_building(&crate::generate::BuildingSpec::new(1, 4)).unwrap();
+        let src = p.sources()[0];
+        for control in [PumpControl::FixedSpeed, PumpControl::ConstantDp { setpoint_kpa: 20.0 }] {
+            let mut kind = p.node(src).unwrap().kind.clone();
+            if let NodeKind::Source(s) = &mut kind {
+                s.pump.curve_points = [(0.0, 60.0), (1.5, 55.0), (3.0, 20.0)];
+                s.pump.control = control;
+            }
+            p.apply(Edit::SetNodeKind { id: src, kind }).unwrap();
+            let back = crate::project::Project::from_ron(&p.to_ron().unwrap()).unwrap();
+            let sol = solve_project(&back, &SolveOptions::default(), &mut Workspace::default());
+            assert!(sol.converged, "{control:?}: {:#?}", sol.findings);
+            let pump = sol.pump.as_ref().unwrap();
+            assert!(pump.operating_head_pa <= 60_000.0 + 1e-6 && pump.operating_head_pa > 0.0, "{pump:?}");
+            assert!(!sol.findings.iter().any(|f| f.kind == crate::design::FindingKind::PumpCurveInvalid));
+        }
+    }
+
     /// Issue 20 item 9: a refusal names the points concerned.
     #[test]
     fn a_refusal_names_the_points() {

@@ -409,6 +409,8 @@ mod tests {
         assert_eq!(at("level: 0)"), Some("the 3rd node of the list (it has no readable id)".to_owned()));
         assert_eq!(at("x: 1"), Some("run R12".to_owned()));
         assert_eq!(at("name"), None);
+        let spaced = "(levels: [ ( name: \"x\", id : 3 ) ])";
+        assert_eq!(item_at(spaced, spaced.find("name").unwrap()), Some("level L3".to_owned()));
     }
 
     #[test]
