@@ -194,3 +194,181 @@ fn cli_writes_the_commissioning_schedule() {
     assert!(text.contains(",lockshield,") && text.contains(",valve,"));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A small valid project file in `dir` (the first demo), its text and the
+/// path.
+fn demo_copy(dir: &std::path::Path) -> (String, PathBuf) {
+    let text = std::fs::read_to_string(&demo_paths()[0]).unwrap();
+    let path = dir.join("p.ron");
+    std::fs::write(&path, &text).unwrap();
+    (text, path)
+}
+
+/// The first entry of `list` in `text` with `id: ID,` — its id and byte
+/// range.
+fn first_entry(text: &str, list: &str) -> (u32, std::ops::Range<usize>) {
+    let start = text.find(&format!("  {list}: [")).unwrap();
+    let open = start + text[start..].find("    (").unwrap();
+    let close = open + text[open..].find("\n    ),").unwrap();
+    let entry = &text[open..close];
+    let id_at = entry.find("id: ").unwrap() + 4;
+    let id: u32 = entry[id_at..].split(',').next().unwrap().trim().parse().unwrap();
+    (id, open..close)
+}
+
+/// Issue 20 item 6: a misspelt field is an error naming the field, the
+/// item and the nearest known field; a byte-order mark is accepted.
+#[test]
+fn cli_names_a_misspelt_field_its_item_and_the_nearest_field() {
+    let dir = scratch("fields");
+    let (text, path) = demo_copy(&dir);
+    let (run, r) = first_entry(&text, "runs");
+    let entry = text[r.clone()].replacen("length_override_m:", "length_overide_m:", 1);
+    std::fs::write(&path, format!("{}{entry}{}", &text[..r.start], &text[r.end..])).unwrap();
+    let out = flowrise().arg("solve").arg(&path).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains(&format!("run R{run}")), "{err}");
+    assert!(err.contains("unknown field `length_overide_m`"), "{err}");
+    assert!(err.contains("did you mean `length_override_m`?"), "{err}");
+    assert!(err.contains("p.ron: line "), "{err}");
+
+    let bad = text.replacen("supply_c:", "supply_C:", 1);
+    std::fs::write(&path, bad).unwrap();
+    let out = flowrise().arg("solve").arg(&path).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("settings: unknown field `supply_C`") && err.contains("did you mean `supply_c`?"), "{err}");
+
+    std::fs::write(&path, format!("\u{feff}{text}")).unwrap();
+    let out = flowrise().arg("solve").arg(&path).output().unwrap();
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Issue 20 item 7: a control character in a name never reaches the
+/// terminal: the file is refused, naming the item, for every subcommand
+/// that prints names.
+#[test]
+fn cli_refuses_control_characters_in_names() {
+    let dir = scratch("control");
+    let (text, path) = demo_copy(&dir);
+    let (node, r) = first_entry(&text, "nodes");
+    for c in ['\u{1b}', '\u{7}', '\0', '\t', '\n'] {
+        let entry = &text[r.clone()];
+        let name_at = entry.find("name: \"").unwrap() + 7;
+        let with = format!("{}{}[31m{}", &entry[..name_at], c.escape_default(), &entry[name_at..]);
+        std::fs::write(&path, format!("{}{with}{}", &text[..r.start], &text[r.end..])).unwrap();
+        for args in [
+            vec!["solve"],
+            vec!["sweep", "--from", "60", "--to", "55"],
+            vec!["part-load", "--fraction", "0.5"],
+            vec!["export-network", "-o", "net.inp"],
+        ] {
+            let out = flowrise().current_dir(&dir).args(&args[..1]).arg(&path).args(&args[1..]).output().unwrap();
+            let err = String::from_utf8_lossy(&out.stderr);
+            assert_eq!(out.status.code(), Some(2), "{args:?} {c:?}: {err}");
+            assert!(err.contains(&format!("N{node}")) && err.contains("control character"), "{err}");
+            let all = [&out.stdout[..], &out.stderr[..]].concat();
+            assert!(!all.contains(&0x1b) && !all.contains(&0x07) && !all.contains(&0), "{args:?}: a control byte");
+            assert!(!dir.join("net.inp").exists());
+        }
+    }
+    // The project's own name too.
+    let bad = text.replacen("  name: \"", "  name: \"\\u{1b}]0;owned\\u{7}", 1);
+    std::fs::write(&path, bad).unwrap();
+    let out = flowrise().arg("solve").arg(&path).output().unwrap();
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("project: name") && err.contains("U+001B"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Issue 20 item 8: every numeric argument has a range; a value outside
+/// is refused at once with a message naming the argument, exit 2.
+#[test]
+fn cli_refuses_numeric_arguments_out_of_range() {
+    let dir = scratch("args");
+    let (_, path) = demo_copy(&dir);
+    let p = path.to_str().unwrap();
+    let cases: Vec<(Vec<&str>, &str)> = vec![
+        (vec!["sweep", p, "--step", "1e-9"], "sweep step"),
+        (vec!["sweep", p, "--step", "0"], "sweep step"),
+        (vec!["sweep", p, "--step=-1"], "sweep step -1"),
+        (vec!["sweep", p, "--target", "inf"], "supply temperature inf"),
+        (vec!["sweep", p, "--target", "nan"], "supply temperature NaN"),
+        (vec!["sweep", p, "--from", "500"], "supply temperature 500"),
+        (vec!["sweep", p, "--to=-40"], "supply temperature -40"),
+        (vec!["sweep", p, "--min-drop", "0"], "minimum water temperature drop 0"),
+        (vec!["sweep", p, "--step", "lots"], "is not a number"),
+        (vec!["sweep", p, "--from", "60", "--to", "70"], "give from"),
+        (vec!["part-load", p, "--fraction", "1.5"], "share of valves closed 1.5"),
+        (vec!["part-load", p, "--fraction", "inf"], "share of valves closed"),
+        (vec!["part-load", p, "--seed=-1"], "--seed"),
+        (vec!["part-load", p, "--seed", "1e3"], "--seed"),
+        (vec!["generate", "--floors", "0", "--per-floor", "3", "-o", "g.ron"], "number of floors 0 — give 1 to 200"),
+        (vec!["generate", "--floors", "201", "--per-floor", "3", "-o", "g.ron"], "--floors"),
+        (vec!["generate", "--floors", "2", "--per-floor", "100001", "-o", "g.ron"], "emitters per floor 100001"),
+        (vec!["generate", "--floors", "200", "--per-floor", "100000", "-o", "g.ron"], "number of emitters"),
+        (vec!["export-network", p, "-o", "n.inp", "--accuracy", "0"], "export accuracy 0"),
+        (vec!["export-network", p, "-o", "n.inp", "--accuracy", "inf"], "export accuracy"),
+        (vec!["bench-solve", p, "--repeat", "0"], "repetitions 0"),
+        (vec!["bench-solve", p, "--repeat", "1000000"], "repetitions"),
+        (vec!["bench-solve", p, "--flow-tolerance", "0"], "solver flow tolerance 0"),
+    ];
+    for (args, expect) in cases {
+        let t = std::time::Instant::now();
+        let out = flowrise().current_dir(&dir).args(&args).output().unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(expect), "{args:?}: expected \"{expect}\" in {err}");
+        assert!(t.elapsed().as_secs() < 20, "{args:?} took {:?}", t.elapsed());
+        assert!(!dir.join("g.ron").exists() && !dir.join("n.inp").exists(), "{args:?} wrote a file");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Issue 20 item 10: an output that cannot be written exits 2 with a
+/// message, from every subcommand that writes a file.
+#[test]
+fn cli_unwritable_output_exits_2() {
+    let dir = scratch("unwritable");
+    let (_, path) = demo_copy(&dir);
+    let p = path.to_str().unwrap();
+    let missing = dir.join("no-such-folder").join("out.file");
+    let o = missing.to_str().unwrap();
+    let cases: Vec<Vec<&str>> = vec![
+        vec!["parts", p, "-o", o],
+        vec!["report", p, "-o", o],
+        vec!["commissioning", p, "-o", o],
+        vec!["export-network", p, "-o", o],
+        vec!["export-network", p, "-o", "ok.inp", "--flows-json", o],
+        vec!["generate", "--floors", "1", "--per-floor", "3", "-o", o],
+        vec!["sweep", p, "--from", "60", "--to", "58", "--csv", o],
+        vec!["part-load", p, "--fraction", "0.5", "--csv", o],
+    ];
+    for args in cases {
+        let out = flowrise().current_dir(&dir).args(&args).output().unwrap();
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains("cannot write") && err.contains("no-such-folder"), "{args:?}: {err}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Issue 20 item 10: an expansion vessel that cannot be sized is `null`
+/// in `solve --json`, with the finding that says why.
+#[test]
+fn cli_unsized_vessel_is_null() {
+    let dir = scratch("vessel");
+    let (text, path) = demo_copy(&dir);
+    let at = text.find("static_height_m: None").expect("the demo leaves the static height to the levels");
+    std::fs::write(&path, format!("{}static_height_m: Some(60.0){}", &text[..at], &text[at + 21..])).unwrap();
+    let out = flowrise().args(["solve", "--json"]).arg(&path).output().unwrap();
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(v["totals"]["expansion_vessel_l"].is_null(), "{}", v["totals"]);
+    let kinds: Vec<&str> = v["warnings"].as_array().unwrap().iter().filter_map(|f| f["kind"].as_str()).collect();
+    assert!(kinds.contains(&"vessel_not_sized"), "{kinds:?}");
+    std::fs::remove_dir_all(&dir).ok();
+}

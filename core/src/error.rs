@@ -7,6 +7,8 @@
 
 use thiserror::Error;
 
+use crate::project::limits::readable;
+
 /// A non-physical or out-of-range input to a physics function.
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum PhysicsError {
@@ -14,13 +16,18 @@ pub enum PhysicsError {
     #[error("{quantity} is not a finite number ({value}); give a finite value in {unit}")]
     NotFinite { quantity: &'static str, value: f64, unit: &'static str },
     /// A value that must be strictly positive.
-    #[error("{quantity} = {value} {unit} must be greater than zero")]
+    #[error("{quantity} = {v} {unit} must be greater than zero", v = readable(*.value))]
     NotPositive { quantity: &'static str, value: f64, unit: &'static str },
     /// A value that must be zero or positive.
-    #[error("{quantity} = {value} {unit} must not be negative")]
+    #[error("{quantity} = {v} {unit} must not be negative", v = readable(*.value))]
     Negative { quantity: &'static str, value: f64, unit: &'static str },
     /// A value outside the range a model is valid for.
-    #[error("{quantity} = {value} {unit} is outside the valid range {min} to {max} {unit}")]
+    #[error(
+        "{quantity} = {v} {unit} is outside the valid range {lo} to {hi} {unit}",
+        v = readable(*.value),
+        lo = readable(*.min),
+        hi = readable(*.max)
+    )]
     OutOfRange { quantity: &'static str, value: f64, unit: &'static str, min: f64, max: f64 },
     /// Two or more inputs that contradict each other (e.g. return ≥ supply).
     #[error("{0}")]

@@ -207,7 +207,8 @@ fn curve_is_exact(a0: f64, a1: f64, a2: f64, bound: Option<[f64; 3]>) -> bool {
 /// as asked.
 #[allow(clippy::too_many_lines)] // reason: one section after the other
 pub fn network_to_inp(sol: &Solution, title: &str, opts: &ExportOptions) -> PhysicsResult<String> {
-    check::in_range("EPANET accuracy", opts.accuracy, "", 1e-12, 0.1)?;
+    let acc = crate::project::limits::EXPORT_ACCURACY;
+    check::in_range("EPANET accuracy", opts.accuracy, "", acc.min, acc.max)?;
     check::in_range("EPANET trials", f64::from(opts.trials), "", 1.0, 100_000.0)?;
     let net = &sol.network;
     if net.nodes.is_empty() || net.reference_node >= net.nodes.len() {
@@ -226,8 +227,9 @@ pub fn network_to_inp(sol: &Solution, title: &str, opts: &ExportOptions) -> Phys
         (Some((k, a0, a1, a2, bound)), PumpExport::Curve) => {
             if bound.is_some() || !(a0 > 0.0 && a1 <= 0.0 && a2 <= 0.0 && (a1 < 0.0 || a2 < 0.0)) {
                 return Err(PhysicsError::Inconsistent(
-                    "the pump law does not fall with flow (constant or proportional Δp control): EPANET's pump curve \
-                     cannot represent it — export it as a fixed head rise"
+                    "the pump law is not a parabola falling from zero flow (constant or proportional Δp control, \
+                     or a curve held flat near shut-off): EPANET's pump curve cannot represent it — export it as a \
+                     fixed head rise"
                         .into(),
                 ));
             }

@@ -93,7 +93,9 @@ fn head_json(p: &Project, sol: &Solution) -> Value {
         "pump_power_w": round(pump.map_or(0.0, |x| x.hydraulic_power_w), 2),
         "index_emitter": sol.index_emitter.map(|n| n.to_string()),
         "water_volume_l": round(sol.water_volume_l, 2),
-        "expansion_vessel_l": round(sol.vessel.as_ref().map_or(0.0, |v| v.nominal_volume_l), 2),
+        // `null` when the vessel could not be sized (a `vessel_not_sized`
+        // finding says why): 0 would read as "no vessel needed".
+        "expansion_vessel_l": sol.vessel.as_ref().map(|v| round(v.nominal_volume_l, 2)),
         "iterations": sol.iterations,
         "converged": sol.converged,
         "solve_ms": round(sol.timings.derive_ms + sol.timings.design_ms + sol.timings.operate_ms, 4),
@@ -182,6 +184,26 @@ fn pipe_json(x: &PipeResult) -> Value {
     })
 }
 
+/// A finding as one line of text: its message, led by its item ("N6: …")
+/// only when the message does not name the item itself — most do
+/// ("Living room (N6): …", "run R1: …"), and a label is never written
+/// twice.
+#[must_use]
+pub fn finding_line(f: &Finding) -> String {
+    let item = f.item.to_string();
+    if names_word(&f.message, &item) { f.message.to_string() } else { format!("{item}: {}", f.message) }
+}
+
+/// True when `word` stands in `text` as a word of its own ("N1" in "Hall
+/// (N1)", not in "N12").
+fn names_word(text: &str, word: &str) -> bool {
+    text.match_indices(word).any(|(i, _)| {
+        let before = text[..i].chars().next_back().is_none_or(|c| !c.is_alphanumeric());
+        let after = text[i + word.len()..].chars().next().is_none_or(|c| !c.is_alphanumeric());
+        before && after
+    })
+}
+
 fn finding_json(f: &Finding) -> Value {
     json!({
         "severity": match f.severity { Severity::Error => "error", Severity::Warning => "warning", Severity::Note => "note" },
@@ -223,9 +245,11 @@ pub fn write_solve_text(s: &mut impl std::fmt::Write, p: &Project, sol: &Solutio
     }
     out!(
         s,
-        "water {:.1} l · expansion vessel ≥ {:.1} l · solve {} iterations, {:.2} ms",
+        "water {:.1} l · expansion vessel {} · solve {} iterations, {:.2} ms",
         sol.water_volume_l,
-        sol.vessel.as_ref().map_or(0.0, |v| v.nominal_volume_l),
+        sol.vessel
+            .as_ref()
+            .map_or_else(|| "not sized (see the findings)".to_owned(), |v| format!("≥ {:.1} l", v.nominal_volume_l)),
         sol.iterations,
         sol.timings.derive_ms + sol.timings.design_ms + sol.timings.operate_ms
     );

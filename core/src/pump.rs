@@ -1,7 +1,10 @@
 //! Circulating pump: curve, control mode, operating point and duty.
 //!
 //! The pump's maximum curve is the quadratic H(Q) = a0 + a1·Q + a2·Q²
-//! through three points read off the pump's data (Q in m³/h, H in kPa).
+//! through three points read off the pump's data (Q in m³/h, H in kPa),
+//! held flat where a parabola would rise (a curve flat near shut-off; see
+//! [`PumpCurve::from_three_points`] and [`held_quadratic`], the one rule
+//! every evaluation of a pump law follows, so it never rises with flow).
 //! The control mode ([`PumpControl`]) sets the head the pump aims for; it can
 //! never deliver more than the maximum curve, so the effective head is
 //! min(control head, curve head).
@@ -16,6 +19,7 @@
 use serde::{Deserialize, Serialize};
 
 use crate::error::{PhysicsError, PhysicsResult, check};
+use crate::project::limits::readable;
 
 /// Wire-to-water efficiency assumed when none is given, fraction. An
 /// assumption, recalled from memory, not verified against a document: small
@@ -29,6 +33,7 @@ pub const PROPORTIONAL_ZERO_FLOW_SHARE: f64 = 0.5;
 
 /// Three (flow m³/h, head kPa) points — the stored form of a [`PumpCurve`].
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct PumpCurvePoints {
     /// (flow m³/h, head kPa) points on the pump's maximum curve.
     pub points_m3_h_kpa: [(f64, f64); 3],
@@ -61,15 +66,31 @@ impl From<PumpCurve> for PumpCurvePoints {
 }
 
 impl PumpCurve {
-    /// Fits the quadratic through three (flow m³/h, head kPa) points, given
-    /// in any order.
+    /// The pump's maximum curve through three (flow m³/h, head kPa) points,
+    /// given in any order.
+    ///
+    /// The heads must fall as flow rises. The curve is the parabola through
+    /// the three points, with two refinements that keep it falling
+    /// everywhere (so the operating point is unique and the solver's law
+    /// monotone):
+    ///
+    /// - when that parabola would rise above the first point's head between
+    ///   the first two points (a curve flat near shut-off, typical of
+    ///   circulators: `(0, 60), (1.5, 55), (3, 20)`), the curve is instead
+    ///   the parabola through the other two points whose peak is the first
+    ///   point's head, held at that peak down to zero flow — it passes
+    ///   through all three points and never exceeds the highest head given;
+    /// - below the first point, a parabola whose peak lies at a positive
+    ///   flow is held at its peak (the rule of [`held_quadratic`]).
+    ///
+    /// A curve whose heads fall ever more slowly (convex) is accepted when
+    /// its parabola falls through all three points to zero head.
     ///
     /// # Errors
-    /// [`PhysicsError`] when a value is negative or not finite, two flows
-    /// coincide, the heads do not fall strictly as flow rises, the fitted
-    /// curve never reaches zero head, or it rises with flow anywhere between
-    /// zero flow and the zero-head flow (a hump: the operating point would
-    /// not be unique).
+    /// [`PhysicsError`] naming the offending points when a value is negative
+    /// or not finite, two flows coincide, a head does not fall as flow
+    /// rises, or a convex curve's parabola turns up again before it reaches
+    /// zero head.
     pub fn from_three_points(points: [(f64, f64); 3]) -> PhysicsResult<Self> {
         for &(q, h) in &points {
             check::non_negative("pump curve flow", q, "m³/h")?;
@@ -78,49 +99,53 @@ impl PumpCurve {
         let mut p = points;
         p.sort_by(|a, b| a.0.total_cmp(&b.0));
         let scale_q = p[2].0.max(1e-9);
+        let pt = |(q, h): (f64, f64)| format!("({}, {})", readable(q), readable(h));
         for w in p.windows(2) {
             if (w[1].0 - w[0].0) <= 1e-9 * scale_q {
                 return Err(PhysicsError::Inconsistent(format!(
-                    "pump curve points have the same flow {} m³/h twice; give three different flows",
-                    w[0].0
+                    "pump curve points {} and {} (m³/h, kPa) have the same flow — give three different flows",
+                    pt(w[0]),
+                    pt(w[1])
                 )));
             }
             if w[1].1 >= w[0].1 {
                 return Err(PhysicsError::Inconsistent(format!(
-                    "pump curve head must fall as flow rises: {} kPa at {} m³/h but {} kPa at {} m³/h",
-                    w[0].1, w[0].0, w[1].1, w[1].0
+                    "pump curve points {} and {} (m³/h, kPa): the head does not fall as the flow rises — a pump \
+                     gives less head at more flow; check these two points",
+                    pt(w[0]),
+                    pt(w[1])
                 )));
             }
         }
-        // Newton divided differences → monomial coefficients.
         let [(q0, h0), (q1, h1), (q2, h2)] = p;
+        // Newton divided differences → monomial coefficients.
         let d01 = (h1 - h0) / (q1 - q0);
         let d12 = (h2 - h1) / (q2 - q1);
-        let a2 = (d12 - d01) / (q2 - q0);
-        let a1 = d01 - a2 * (q0 + q1);
-        let a0 = h0 - a1 * q0 - a2 * q0 * q0;
-        if !a0.is_finite() || a0 <= 0.0 {
+        let mut a2 = (d12 - d01) / (q2 - q0);
+        let mut a1 = d01 - a2 * (q0 + q1);
+        let mut a0 = h0 - a1 * q0 - a2 * q0 * q0;
+        if a2 < 0.0 && a1 > 0.0 && -a1 / (2.0 * a2) > q0 {
+            // The parabola peaks above h0 between the first two points:
+            // take the one through the other two points that peaks at h0,
+            // at v = (r·q1 − q2)/(r − 1) with r = √((h0 − h2)/(h0 − h1)) > 1
+            // (from h0 − h_i = c·(q_i − v)²); its peak lies between q0
+            // and q1.
+            let r = ((h0 - h2) / (h0 - h1)).sqrt();
+            let v = (r * q1 - q2) / (r - 1.0);
+            let c = (h0 - h1) / ((q1 - v) * (q1 - v));
+            (a0, a1, a2) = (h0 - c * v * v, 2.0 * c * v, -c);
+        }
+        let curve = |q: f64| held_quadratic([a0, a1, a2], q).0;
+        let coefficients_ok = [a0, a1, a2].iter().all(|c| c.is_finite());
+        let max_flow_m3_h = coefficients_ok.then(|| zero_head_flow(a0, a1, a2)).flatten();
+        let all = format!("{}, {}, {}", pt(p[0]), pt(p[1]), pt(p[2]));
+        let Some(max_flow_m3_h) = max_flow_m3_h.filter(|&z| z >= q2 * (1.0 - 1e-9) && curve(0.0) > 0.0) else {
             return Err(PhysicsError::Inconsistent(format!(
-                "pump curve through the points has no positive head at zero flow ({a0} kPa); \
-                 check the points"
+                "pump curve points {all} (m³/h, kPa): the heads fall ever more slowly, and a parabola through \
+                 them turns up again before it reaches zero head — give points nearer the end of the curve (where \
+                 the head approaches zero) or from the pump's working range"
             )));
-        }
-        let max_flow_m3_h = smallest_positive_root(a0, a1, a2).ok_or_else(|| {
-            PhysicsError::Inconsistent(
-                "pump curve through the points never reaches zero head; give points that \
-                 describe the falling part of the curve"
-                    .to_owned(),
-            )
-        })?;
-        // The derivative a1 + 2·a2·Q is linear: checking both ends suffices.
-        let slope_at = |q: f64| a1 + 2.0 * a2 * q;
-        if slope_at(0.0) > 0.0 || slope_at(max_flow_m3_h) > 0.0 {
-            return Err(PhysicsError::Inconsistent(
-                "pump curve through the points rises with flow somewhere between zero flow and \
-                 its end (a hump); give points on the falling part of the curve"
-                    .to_owned(),
-            ));
-        }
+        };
         Ok(Self { points, a0_kpa: a0, a1_kpa_h_m3: a1, a2_kpa_h2_m6: a2, max_flow_m3_h })
     }
 
@@ -130,7 +155,9 @@ impl PumpCurve {
         self.points
     }
 
-    /// Coefficients (a0 kPa, a1 kPa·h/m³, a2 kPa·h²/m⁶).
+    /// Coefficients (a0 kPa, a1 kPa·h/m³, a2 kPa·h²/m⁶) of the parabola;
+    /// the curve is this parabola held at its peak below a peak at positive
+    /// flow ([`held_quadratic`]).
     #[must_use]
     pub fn coefficients(&self) -> (f64, f64, f64) {
         (self.a0_kpa, self.a1_kpa_h_m3, self.a2_kpa_h2_m6)
@@ -139,7 +166,7 @@ impl PumpCurve {
     /// Head at zero flow (shut-off head), kPa.
     #[must_use]
     pub fn shutoff_head_kpa(&self) -> f64 {
-        self.a0_kpa
+        self.eval(0.0)
     }
 
     /// Flow where the curve's head reaches zero, m³/h.
@@ -149,7 +176,7 @@ impl PumpCurve {
     }
 
     fn eval(&self, q: f64) -> f64 {
-        self.a0_kpa + q * (self.a1_kpa_h_m3 + q * self.a2_kpa_h2_m6)
+        held_quadratic([self.a0_kpa, self.a1_kpa_h_m3, self.a2_kpa_h2_m6], q).0
     }
 
     /// Head at `flow_m3_h`, kPa. Beyond [`Self::max_flow_m3_h`] the quadratic
@@ -168,8 +195,51 @@ impl PumpCurve {
     /// [`PhysicsError`] when the flow is negative or not finite.
     pub fn dhead_dflow_kpa_h_m3(&self, flow_m3_h: f64) -> PhysicsResult<f64> {
         check::non_negative("pump flow", flow_m3_h, "m³/h")?;
-        Ok(self.a1_kpa_h_m3 + 2.0 * self.a2_kpa_h2_m6 * flow_m3_h)
+        Ok(held_quadratic([self.a0_kpa, self.a1_kpa_h_m3, self.a2_kpa_h2_m6], flow_m3_h).1)
     }
+}
+
+/// A pump parabola c0 + c1·x + c2·x² made monotone, and its slope, at `x`
+/// — the one rule every evaluation of a pump curve or law follows (the
+/// curve here, the solver's pump law in mass-flow form, the export):
+///
+/// - a parabola opening downwards whose peak lies at a positive x
+///   (c2 < 0 < c1) is held at its peak below it (slope 0): a curve flat
+///   near shut-off instead of one that rises first;
+/// - a parabola opening upwards whose trough lies at a positive x
+///   (c1 < 0 < c2) is held at its trough beyond it: it never rises again
+///   at large flows (where an accepted curve's head is below zero already).
+///
+/// Other parabolas and straight lines (the constant and proportional Δp
+/// laws) are evaluated as they are. The rule depends on the coefficients
+/// only, so it holds in any unit of flow.
+#[must_use]
+pub fn held_quadratic(c: [f64; 3], x: f64) -> (f64, f64) {
+    let [c0, c1, c2] = c;
+    let at = |x: f64| c0 + x * (c1 + x * c2);
+    if (c2 < 0.0 && c1 > 0.0) || (c2 > 0.0 && c1 < 0.0) {
+        let vertex = -c1 / (2.0 * c2);
+        let held = if c2 < 0.0 { x < vertex } else { x > vertex };
+        if held {
+            return (at(vertex), 0.0);
+        }
+    }
+    (at(x), c1 + 2.0 * c2 * x)
+}
+
+/// Flow where the held parabola ([`held_quadratic`]) first reaches zero
+/// head, if it does (its value at zero flow must be positive).
+fn zero_head_flow(a0: f64, a1: f64, a2: f64) -> Option<f64> {
+    if a2 < 0.0 && a1 > 0.0 {
+        // Held at the peak below the vertex: the root beyond it.
+        let v = -a1 / (2.0 * a2);
+        let peak = a0 + v * (a1 + v * a2);
+        return (peak > 0.0).then(|| v + (peak / -a2).sqrt());
+    }
+    if a0 <= 0.0 {
+        return None;
+    }
+    smallest_positive_root(a0, a1, a2)
 }
 
 /// Smallest positive root of a0 + a1·x + a2·x² (a0 > 0), if any.
@@ -194,6 +264,7 @@ fn smallest_positive_root(a0: f64, a1: f64, a2: f64) -> Option<f64> {
 
 /// How the pump is controlled. Every mode is bounded by the maximum curve.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum PumpControl {
     /// Runs on its maximum curve.
     FixedSpeed,
@@ -422,22 +493,16 @@ impl PumpLaw {
         Ok(Self { control_pa, curve_pa: curve_in_mass_flow(curve, density_kg_m3) })
     }
 
-    fn eval(c: (f64, f64, f64), m: f64) -> f64 {
-        c.0 + m * (c.1 + m * c.2)
-    }
-
     /// Pressure rise at mass flow `mass_flow_kg_s` (kg/s, ≥ 0 in normal
     /// operation), Pa, and its derivative dΔp/dm, Pa·s/kg.
     #[must_use]
     pub fn dp_pa_and_slope(&self, mass_flow_kg_s: f64) -> (f64, f64) {
         let m = mass_flow_kg_s;
-        let ctrl = Self::eval(self.control_pa, m);
-        let curve = Self::eval(self.curve_pa, m);
-        if ctrl <= curve {
-            (ctrl, self.control_pa.1 + 2.0 * self.control_pa.2 * m)
-        } else {
-            (curve, self.curve_pa.1 + 2.0 * self.curve_pa.2 * m)
-        }
+        let (c0, c1, c2) = self.control_pa;
+        let ctrl = held_quadratic([c0, c1, c2], m);
+        let (k0, k1, k2) = self.curve_pa;
+        let curve = held_quadratic([k0, k1, k2], m);
+        if ctrl.0 <= curve.0 { ctrl } else { curve }
     }
 }
 
@@ -488,8 +553,164 @@ mod tests {
         assert!(PumpCurve::from_three_points([(0.0, 60.0), (1.5, f64::NAN), (3.0, 20.0)]).is_err());
         // Convex points whose parabola turns up before zero head.
         assert!(PumpCurve::from_three_points([(0.0, 60.0), (1.0, 20.0), (2.0, 10.0)]).is_err());
-        // A hump: heads fall between the points, but the fitted parabola rises near zero flow.
-        assert!(PumpCurve::from_three_points([(1.0, 60.0), (2.0, 59.0), (3.0, 50.0)]).is_err());
+    }
+
+    /// Head of `c` on a fine grid from zero flow to past its zero-head flow.
+    fn grid(c: &PumpCurve) -> Vec<(f64, f64)> {
+        let top = c.max_flow_m3_h() * 1.2;
+        (0..=2000).map(|i| f64::from(i) / 2000.0 * top).map(|q| (q, c.head_kpa(q).unwrap())).collect()
+    }
+
+    fn assert_falls_through_its_points(c: &PumpCurve) {
+        let g = grid(c);
+        for w in g.windows(2) {
+            assert!(w[1].1 <= w[0].1 + 1e-9 * w[0].1.abs().max(1.0), "{:?} rises at {w:?}", c.points());
+            let slope = c.dhead_dflow_kpa_h_m3(w[0].0).unwrap();
+            assert!(slope <= 1e-9, "{:?}: slope {slope} at {}", c.points(), w[0].0);
+        }
+        for (q, h) in c.points() {
+            assert!(close(c.head_kpa(q).unwrap(), h, 1e-9), "{:?} misses ({q}, {h})", c.points());
+        }
+        let highest = c.points().iter().map(|p| p.1).fold(f64::MIN, f64::max);
+        assert!(c.shutoff_head_kpa() >= highest - 1e-9);
+        assert!(close(c.head_kpa(c.max_flow_m3_h()).unwrap(), 0.0, 1e-9));
+    }
+
+    /// Issue 20 item 9: a curve flat near shut-off, whose parabola would
+    /// rise first, is accepted: flat at the first head, then through the
+    /// other two points, never above the highest head given.
+    #[test]
+    fn a_curve_flat_near_shutoff_is_accepted() {
+        let c = PumpCurve::from_three_points([(0.0, 60.0), (1.5, 55.0), (3.0, 20.0)]).unwrap();
+        assert_falls_through_its_points(&c);
+        assert!(close(c.shutoff_head_kpa(), 60.0, 1e-12));
+        assert!(grid(&c).iter().all(|&(_, h)| h <= 60.0 + 1e-9));
+        // Flat up to the peak of the parabola through the other two points.
+        assert!(close(c.head_kpa(0.5).unwrap(), 60.0, 1e-12));
+        assert!(c.dhead_dflow_kpa_h_m3(0.5).unwrap().abs() < 1e-15);
+        // A sharper knee: the plain parabola would peak at 71 kPa.
+        let c = PumpCurve::from_three_points([(0.0, 60.0), (2.0, 58.0), (3.0, 20.0)]).unwrap();
+        assert_falls_through_its_points(&c);
+        assert!(grid(&c).iter().all(|&(_, h)| h <= 60.0 + 1e-9));
+        // The first point above zero flow, the parabola peaking after it.
+        let c = PumpCurve::from_three_points([(1.0, 60.0), (2.0, 59.0), (3.0, 50.0)]).unwrap();
+        assert_falls_through_its_points(&c);
+        assert!(close(c.shutoff_head_kpa(), 60.0, 1e-12));
+        // Peak below the first point: held at the peak below it.
+        let c = PumpCurve::from_three_points([(2.0, 60.0), (3.0, 57.0), (4.0, 52.0)]).unwrap();
+        assert_falls_through_its_points(&c);
+        assert!(close(c.shutoff_head_kpa(), 61.0, 1e-12));
+    }
+
+    /// Issue 20 item 9: every set of three points whose heads fall with
+    /// flow and fall faster and faster (or evenly) is accepted and gives a
+    /// curve that falls everywhere through its points; a convex set is
+    /// accepted exactly when its parabola reaches zero head past its last
+    /// point, and a refusal names the points.
+    #[test]
+    fn every_falling_curve_is_accepted_or_refused_by_name() {
+        let mut state = 0x9e37_79b9_7f4a_7c15_u64;
+        let mut next = || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            (state >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let (mut accepted, mut refused) = (0, 0);
+        for _ in 0..20_000 {
+            let q0 = if next() < 0.5 { 0.0 } else { next() * 2.0 };
+            let q1 = q0 + 0.01 + next() * 3.0;
+            let q2 = q1 + 0.01 + next() * 3.0;
+            let h2 = if next() < 0.2 { 0.0 } else { next() * 50.0 };
+            let h1 = h2 + 0.01 + next() * 50.0;
+            let h0 = h1 + 0.001 + next() * 50.0;
+            let pts = [(q1, h1), (q2, h2), (q0, h0)];
+            let concave = (h2 - h1) / (q2 - q1) <= (h1 - h0) / (q1 - q0);
+            match PumpCurve::from_three_points(pts) {
+                Ok(c) => {
+                    assert_falls_through_its_points(&c);
+                    accepted += 1;
+                }
+                Err(e) => {
+                    assert!(!concave, "{pts:?} refused: {e}");
+                    let text = e.to_string();
+                    assert!(text.contains("turns up again"), "{text}");
+                    refused += 1;
+                }
+            }
+        }
+        assert!(accepted > 10_000 && refused > 0, "{accepted} accepted, {refused} refused");
+    }
+
+    /// Issue 20 item 9: a project whose pump is flat near shut-off loads,
+    /// designs and operates on every control, never above the curve's
+    /// highest head.
+    #[test]
+    fn a_project_with_a_flat_curve_solves() {
+        use crate::design::{SolveOptions, Workspace, solve_project};
+        use crate::project::{Edit, NodeKind};
+        let mut p = crate::generate::generate_building(&crate::generate::BuildingSpec::new(1, 4)).unwrap();
+        let src = p.sources()[0];
+        for control in [PumpControl::FixedSpeed, PumpControl::ConstantDp { setpoint_kpa: 20.0 }] {
+            let mut kind = p.node(src).unwrap().kind.clone();
+            if let NodeKind::Source(s) = &mut kind {
+                s.pump.curve_points = [(0.0, 60.0), (1.5, 55.0), (3.0, 20.0)];
+                s.pump.control = control;
+            }
+            p.apply(Edit::SetNodeKind { id: src, kind }).unwrap();
+            let back = crate::project::Project::from_ron(&p.to_ron().unwrap()).unwrap();
+            let sol = solve_project(&back, &SolveOptions::default(), &mut Workspace::default());
+            assert!(sol.converged, "{control:?}: {:#?}", sol.findings);
+            let pump = sol.pump.as_ref().unwrap();
+            assert!(pump.operating_head_pa <= 60_000.0 + 1e-6 && pump.operating_head_pa > 0.0, "{pump:?}");
+            assert!(!sol.findings.iter().any(|f| f.kind == crate::design::FindingKind::PumpCurveInvalid));
+        }
+    }
+
+    /// Issue 20 item 9: a refusal names the points concerned.
+    #[test]
+    fn a_refusal_names_the_points() {
+        let e = PumpCurve::from_three_points([(0.0, 60.0), (1.5, 65.0), (3.0, 20.0)]).unwrap_err().to_string();
+        assert!(e.contains("(0, 60)") && e.contains("(1.5, 65)") && e.contains("does not fall"), "{e}");
+        let e = PumpCurve::from_three_points([(1.5, 55.0), (1.5, 50.0), (3.0, 20.0)]).unwrap_err().to_string();
+        assert!(e.contains("(1.5, 55)") && e.contains("same flow"), "{e}");
+        let e = PumpCurve::from_three_points([(0.0, 60.0), (1.0, 20.0), (2.0, 10.0)]).unwrap_err().to_string();
+        assert!(e.contains("(0, 60), (1, 20), (2, 10)"), "{e}");
+    }
+
+    /// Issue 20 item 9: the solver's law of a curve flat near shut-off
+    /// never rises with flow, controlled or not, and the operating point
+    /// is found on the flat part too.
+    #[test]
+    fn the_law_of_a_flat_curve_is_monotone() {
+        let c = PumpCurve::from_three_points([(0.0, 60.0), (1.5, 55.0), (3.0, 20.0)]).unwrap();
+        let rho = 990.0;
+        for control in [
+            PumpControl::FixedSpeed,
+            PumpControl::ConstantDp { setpoint_kpa: 58.0 },
+            PumpControl::ConstantDp { setpoint_kpa: 70.0 },
+        ] {
+            let law = PumpLaw::new(&c, &control, rho, 0.5).unwrap();
+            let (coef, bound) = match control {
+                PumpControl::FixedSpeed => (to_mass_flow_coefficients(&c, &control, rho, 0.5).unwrap(), None),
+                _ => {
+                    let (k0, k1, k2) = curve_in_mass_flow(&c, rho);
+                    (to_mass_flow_coefficients(&c, &control, rho, 0.5).unwrap(), Some([k0, k1, k2]))
+                }
+            };
+            let mut last = f64::INFINITY;
+            for i in 0..=400 {
+                let m = f64::from(i) / 400.0;
+                let (dp, slope) = law.dp_pa_and_slope(m);
+                let solver = crate::network::solver::pump_rise_and_slope([coef.0, coef.1, coef.2], bound, m);
+                assert!(close(dp, solver.0, 1e-12) && slope <= 1e-9, "{control:?} at {m}");
+                assert!(dp <= last + 1e-9 && dp <= 60_000.0 + 1e-6, "{control:?} rises at {m}");
+                last = dp;
+            }
+        }
+        // A stiff system meets the pump on its flat part: 60 kPa at a small flow.
+        let op = operating_point(&c, &PumpControl::FixedSpeed, 1e4, 1.0).unwrap();
+        assert!(close(op.head_kpa, 60.0, 1e-9) && op.flow_m3_h < 0.1, "{op:?}");
     }
 
     #[test]

@@ -252,9 +252,7 @@ fn settings_at(p: &Project, supply_c: f64, min_drop_k: f64) -> Option<crate::pro
 /// temperatures.
 pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
     use crate::project::limits;
-    if !(spec.step_k.is_finite() && spec.step_k > 0.0) {
-        return Err(SweepError(format!("step {} K — give a step > 0", spec.step_k)));
-    }
+    limits::SWEEP_STEP_K.check(spec.step_k).map_err(SweepError)?;
     for t in [spec.from_c, spec.to_c].into_iter().chain(spec.target_c) {
         limits::SUPPLY_C.check(t).map_err(SweepError)?;
     }
@@ -274,7 +272,12 @@ pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
     limits::MIN_WATER_DROP_K.check(spec.min_drop_k).map_err(SweepError)?;
     let base = solve_project(p, &SolveOptions::default(), &mut Workspace::default());
     if base.has_errors() {
-        let first = base.findings.first().map_or_else(String::new, |f| format!("{}: {}", f.item, f.message));
+        // The first error, its item named once.
+        let first = base
+            .findings
+            .iter()
+            .find(|f| f.severity == crate::design::Severity::Error)
+            .map_or_else(String::new, crate::output::finding_line);
         return Err(SweepError(format!("the project does not design at its own temperatures — {first}")));
     }
     let existing = with_installed_pipes(&with_existing_emitters(p, &base), &base);

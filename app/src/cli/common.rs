@@ -10,10 +10,49 @@ use std::path::Path;
 use std::process::ExitCode;
 
 use flowrise_core::design::{Severity, Solution};
+use flowrise_core::project::limits::Limit;
 use flowrise_core::project::{NodeId, Project};
 
 /// Exit code for invalid input (the message is on stderr).
 pub const EXIT_INVALID: u8 = 2;
+
+/// A value parser for a numeric argument: a finite number inside `limit`
+/// (one of the ranges in `flowrise_core::project::limits`). clap prints the
+/// message naming the argument and exits 2.
+pub fn within(limit: &'static Limit) -> impl Fn(&str) -> Result<f64, String> + Clone + Send + Sync + 'static {
+    move |text: &str| {
+        let v: f64 = text
+            .trim()
+            .parse()
+            .map_err(|_| format!("\"{text}\" is not a number — give {} {}", limit.name, limit.range_text()))?;
+        limit.check(v)
+    }
+}
+
+/// A value parser for a whole-number argument inside `limit`.
+pub fn count_within(limit: &'static Limit) -> impl Fn(&str) -> Result<u32, String> + Clone + Send + Sync + 'static {
+    move |text: &str| {
+        let n: u32 = text
+            .trim()
+            .parse()
+            .map_err(|_| format!("\"{text}\" is not a whole number — give {} {}", limit.name, limit.range_text()))?;
+        limit.check(f64::from(n)).map(|_| n)
+    }
+}
+
+/// A value parser for a whole-number argument from `min` to `max`
+/// ("number of floors 0 — give 1 to 200").
+pub fn count_from_to(
+    name: &'static str,
+    min: u32,
+    max: u32,
+) -> impl Fn(&str) -> Result<u32, String> + Clone + Send + Sync + 'static {
+    move |text: &str| match text.trim().parse::<u64>() {
+        Ok(n) if (u64::from(min)..=u64::from(max)).contains(&n) => u32::try_from(n).map_err(|e| e.to_string()),
+        Ok(n) => Err(format!("{name} {n} — give {min} to {max}")),
+        Err(_) => Err(format!("\"{text}\" is not a whole number — give {name} {min} to {max}")),
+    }
+}
 
 /// Parse an emitter id: `N12` or `12`.
 pub fn parse_node_id(text: &str) -> Result<NodeId, String> {
@@ -56,7 +95,7 @@ pub fn closed_emitters(ids: &[String], project: &Project, file: &Path) -> Result
 /// Print the error findings of a solution, one line each.
 pub fn print_error_findings(sol: &Solution) {
     for f in sol.findings.iter().filter(|f| f.severity == Severity::Error) {
-        eprintln!("flowrise: {}: {}", f.item, f.message);
+        eprintln!("flowrise: {}", flowrise_core::output::finding_line(f));
     }
 }
 

@@ -6,7 +6,9 @@ use std::process::ExitCode;
 
 use flowrise_core::design::{SolveOptions, Workspace, solve_project};
 
-use super::common::{EXIT_INVALID, load_or_exit, print_error_findings, refuse_output_over_input, write_output};
+use super::common::{
+    EXIT_INVALID, load_or_exit, print_error_findings, print_text, refuse_output_over_input, write_output,
+};
 
 /// What `export` writes.
 #[derive(Debug, Clone, Copy)]
@@ -92,7 +94,11 @@ pub fn export(file: &Path, output: Option<&Path>, what: Export) -> ExitCode {
                 return code;
             }
         }
-        None => print!("{text}"),
+        None => {
+            if let Err(code) = print_text("output", |out| std::fmt::Write::write_str(out, &text)) {
+                return code;
+            }
+        }
     }
     ExitCode::SUCCESS
 }

@@ -24,6 +24,7 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
+use flowrise_core::project::limits;
 
 #[derive(Debug, Parser)]
 #[command(
@@ -45,20 +46,24 @@ enum Command {
     Sweep {
         /// Project file (.ron).
         file: PathBuf,
-        /// Highest supply temperature, °C.
-        #[arg(long, default_value_t = 75.0)]
+        /// Highest supply temperature, °C (20 to 95).
+        #[arg(long, default_value_t = 75.0, value_parser = common::within(&limits::SUPPLY_C))]
         from: f64,
-        /// Lowest supply temperature, °C.
-        #[arg(long, default_value_t = 35.0)]
+        /// Lowest supply temperature, °C (20 to 95).
+        #[arg(long, default_value_t = 35.0, value_parser = common::within(&limits::SUPPLY_C))]
         to: f64,
-        /// Step, K.
-        #[arg(long, default_value_t = 1.0)]
+        /// Step, K (0.01 to 75; at most 10,000 points).
+        #[arg(long, default_value_t = 1.0, value_parser = common::within(&limits::SWEEP_STEP_K))]
         step: f64,
-        /// Size upgrades for this supply temperature, °C (default: --to).
-        #[arg(long)]
+        /// Size upgrades for this supply temperature, °C (20 to 95; default: --to).
+        #[arg(long, value_parser = common::within(&limits::SUPPLY_C))]
         target: Option<f64>,
-        /// Smallest water temperature drop an emitter may run at, K (5 K: heat pump, common practice).
-        #[arg(long, default_value_t = flowrise_core::sweep::UPGRADE_DELTA_K)]
+        /// Smallest water temperature drop an emitter may run at, K (0.5 to 20; 5 K: heat pump, common practice).
+        #[arg(
+            long,
+            default_value_t = flowrise_core::sweep::UPGRADE_DELTA_K,
+            value_parser = common::within(&limits::MIN_WATER_DROP_K)
+        )]
         min_drop: f64,
         /// Keep the design's presettings and pump set-point instead of re-balancing.
         #[arg(long)]
@@ -77,10 +82,10 @@ enum Command {
         /// Close these emitters' valves (N12,N15).
         #[arg(long, value_delimiter = ',')]
         close: Vec<String>,
-        /// Close this fraction of the valves, chosen by --seed.
-        #[arg(long)]
+        /// Close this fraction of the valves (0 to 1), chosen by --seed.
+        #[arg(long, value_parser = common::within(&limits::CLOSED_FRACTION))]
         fraction: Option<f64>,
-        /// Seed for --fraction.
+        /// Seed for --fraction (any whole number from 0 to 18446744073709551615).
         #[arg(long, default_value_t = 1)]
         seed: u64,
         /// Print JSON.

@@ -7,19 +7,20 @@ use std::time::Instant;
 use clap::{Args, ValueEnum};
 use flowrise_core::design::{SolveOptions, Workspace, solve_project};
 use flowrise_core::export::{ExportOptions, PumpExport, flows_json, network_to_inp};
-use flowrise_core::generate::{BranchDevices, BuildingSpec, generate_building};
+use flowrise_core::generate::{BranchDevices, BuildingSpec, MAX_FLOORS, MAX_PER_FLOOR, generate_building};
+use flowrise_core::project::limits;
 use flowrise_core::project::{Edit, NodeKind};
 
-use super::common::{EXIT_INVALID, load_or_exit, print_error_findings, refuse_output_over_input, write_output};
+use super::common::{self, EXIT_INVALID, load_or_exit, print_error_findings, refuse_output_over_input, write_output};
 
 /// Arguments of `flowrise generate`.
 #[derive(Debug, Args)]
 pub struct GenerateArgs {
-    /// Number of floors (levels).
-    #[arg(long)]
+    /// Number of floors (levels), 1 to 200.
+    #[arg(long, value_parser = common::count_from_to("number of floors", 1, MAX_FLOORS))]
     floors: u32,
-    /// Emitters per floor.
-    #[arg(long)]
+    /// Emitters per floor, 1 to 100,000 (at most 1,000,000 in all).
+    #[arg(long, value_parser = common::count_from_to("emitters per floor", 1, MAX_PER_FLOOR))]
     per_floor: u32,
     /// Radiator branches as reverse-return chains.
     #[arg(long)]
@@ -64,8 +65,8 @@ pub struct ExportArgs {
     /// How to write the pump.
     #[arg(long, value_enum, default_value = "auto")]
     pump: PumpArg,
-    /// EPANET accuracy option written to the file.
-    #[arg(long, default_value_t = 0.001)]
+    /// EPANET accuracy option written to the file (1e-12 to 0.1).
+    #[arg(long, default_value_t = 0.001, value_parser = common::within(&limits::EXPORT_ACCURACY))]
     accuracy: f64,
     /// Solve with matched physics (one viscosity and density, EPANET's friction law).
     #[arg(long, hide = true)]
@@ -80,14 +81,14 @@ pub struct ExportArgs {
 pub struct BenchArgs {
     /// Project file (.ron).
     file: PathBuf,
-    /// Repetitions per measurement.
-    #[arg(long, default_value_t = 5)]
-    repeat: usize,
+    /// Repetitions per measurement (1 to 1000).
+    #[arg(long, default_value_t = 5, value_parser = common::count_within(&limits::BENCH_REPEAT))]
+    repeat: u32,
     /// Matched physics.
     #[arg(long)]
     matched: bool,
-    /// Solver flow tolerance (relative flow change).
-    #[arg(long)]
+    /// Solver flow tolerance (relative flow change, 1e-12 to 0.1).
+    #[arg(long, value_parser = common::within(&limits::SOLVER_FLOW_TOLERANCE))]
     flow_tolerance: Option<f64>,
 }
 
@@ -204,7 +205,7 @@ fn ms_since(t: Instant) -> f64 {
 /// `flowrise bench-solve`: medians of load, cold solve stages and the warm
 /// edit → results cycle of a drag, as JSON on stdout.
 pub fn bench_solve(a: &BenchArgs) -> ExitCode {
-    let repeat = a.repeat.max(1);
+    let repeat = a.repeat.max(1) as usize;
     let mut load_ms = Vec::new();
     let mut project = None;
     for _ in 0..repeat.min(3) {
@@ -275,10 +276,10 @@ pub fn bench_solve(a: &BenchArgs) -> ExitCode {
         },
     });
     match serde_json::to_string_pretty(&doc) {
-        Ok(t) => {
-            println!("{t}");
-            ExitCode::SUCCESS
-        }
+        Ok(t) => match common::print_text("timings", |out| std::fmt::Write::write_fmt(out, format_args!("{t}\n"))) {
+            Ok(()) => ExitCode::SUCCESS,
+            Err(code) => code,
+        },
         Err(e) => {
             eprintln!("flowrise: cannot write JSON: {e}");
             ExitCode::FAILURE

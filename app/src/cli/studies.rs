@@ -1,6 +1,7 @@
 //! `flowrise sweep` and `flowrise part-load`: the retrofit and part-load
 //! questions from the command line.
 
+use std::fmt::Write as _;
 use std::path::Path;
 use std::process::ExitCode;
 
@@ -34,7 +35,11 @@ pub fn run_sweep(file: &Path, spec: &SweepSpec, json: bool, csv: Option<&Path>) 
     }
     if json {
         match serde_json::to_string_pretty(&result) {
-            Ok(t) => println!("{t}"),
+            Ok(t) => {
+                if let Err(code) = print_text("sweep JSON", |out| writeln!(out, "{t}")) {
+                    return code;
+                }
+            }
             Err(e) => {
                 eprintln!("flowrise: cannot write JSON: {e}");
                 return ExitCode::FAILURE;
@@ -93,7 +98,11 @@ pub fn run_part_load(
         let closed_ids: Vec<String> = closed.iter().map(NodeId::to_string).collect();
         let doc = serde_json::json!({ "closed": closed_ids, "cases": cases });
         match serde_json::to_string_pretty(&doc) {
-            Ok(t) => println!("{t}"),
+            Ok(t) => {
+                if let Err(code) = print_text("part-load JSON", |out| writeln!(out, "{t}")) {
+                    return code;
+                }
+            }
             Err(e) => {
                 eprintln!("flowrise: cannot write JSON: {e}");
                 return ExitCode::FAILURE;

@@ -6,7 +6,7 @@
 //! the residual flow error, the authority), the pump law of the operating
 //! solve, and the totals: load, water volume, expansion vessel (EN 12828).
 
-use super::findings;
+use super::findings::{self, FindingKind};
 use super::results::{EmitterResult, PipeResult, PumpResult, Side, Solution};
 use super::state::{Derivation, EmitterData, NONE};
 use super::topology::Dense;
@@ -64,7 +64,12 @@ impl Derivation<'_> {
             .collect();
         let Some(p_node) = self.design_pressures(ws) else { return };
         let Some(c) = self.circuits(s, ws, &p_node, &lockshield_r, rho_mean) else {
-            self.findings.push(findings::no_design_flow());
+            // Emitters whose own design failed (a room above the supply,
+            // bad model data) carry an error saying why; the project-level
+            // error is for projects whose rooms have no load.
+            if !self.findings.iter().any(|f| f.kind == FindingKind::EmitterDesignFailed) {
+                self.findings.push(findings::no_design_flow());
+            }
             return;
         };
         sol.index_emitter = Some(self.emitters[c.index].id);

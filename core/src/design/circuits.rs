@@ -439,15 +439,12 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
         out.devices.extend(sol.devices.iter().cloned());
         // Findings: a stand-in's are the circuit's (written here); a
         // circuit's vessel is the project's (sized below).
-        found.extend(
-            sol.findings
-                .iter()
-                .filter(|f| {
-                    !matches!(f.item, ItemRef::Node(n) if mine.contains(&n))
-                        && !(k > 0 && matches!(f.kind, FindingKind::VesselNotSized | FindingKind::SourceCapacity))
-                })
-                .cloned(),
-        );
+        let keep = |f: &&Finding| {
+            let on_stand_in = matches!(f.item, ItemRef::Node(n) if mine.contains(&n));
+            let project_wide = k > 0 && matches!(f.kind, FindingKind::VesselNotSized | FindingKind::SourceCapacity);
+            !on_stand_in && !project_wide
+        };
+        found.extend(sol.findings.iter().filter(keep).cloned());
         out.water_volume_l += sol.water_volume_l;
         out.iterations = out.iterations.max(sol.iterations);
         out.converged &= sol.converged;

@@ -172,6 +172,7 @@ fn default_pipe_conductivity() -> f64 {
 
 /// A floor-heating loop as a project stores it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct FloorLoopSpec {
     /// Heated floor area served by the loop, m².
     pub area_m2: f64,

@@ -39,6 +39,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::error::{PhysicsError, PhysicsResult, check};
 use crate::friction::{PipeHydraulics, pipe_dp};
+use crate::project::limits::readable;
 use crate::water::{self, MAX_TEMPERATURE_C, MIN_TEMPERATURE_C};
 
 pub use floor::{FloorLoopDesign, FloorLoopSpec, FloorZone};
@@ -65,7 +66,10 @@ fn check_supply_room(supply_c: f64, room_c: f64) -> PhysicsResult<()> {
     check::in_range("room temperature", room_c, "°C", ROOM_TEMPERATURE_RANGE_C.0, ROOM_TEMPERATURE_RANGE_C.1)?;
     if supply_c <= room_c {
         return Err(PhysicsError::Inconsistent(format!(
-            "supply temperature {supply_c} °C must be above the room temperature {room_c} °C for an emitter to heat"
+            "room temperature {r} °C is at or above the supply temperature {s} °C: the water cannot heat the room \
+             — raise the supply temperature above {r} °C or lower the room temperature below {s} °C",
+            r = readable(room_c),
+            s = readable(supply_c)
         )));
     }
     Ok(())
@@ -94,12 +98,17 @@ pub fn lmtd_k(supply_c: f64, return_c: f64, room_c: f64) -> PhysicsResult<f64> {
     check::in_range("return temperature", return_c, "°C", MIN_TEMPERATURE_C, MAX_TEMPERATURE_C)?;
     if return_c > supply_c {
         return Err(PhysicsError::Inconsistent(format!(
-            "return temperature {return_c} °C is above the supply temperature {supply_c} °C"
+            "return temperature {} °C is above the supply temperature {} °C",
+            readable(return_c),
+            readable(supply_c)
         )));
     }
     if return_c <= room_c {
         return Err(PhysicsError::Inconsistent(format!(
-            "return temperature {return_c} °C must be above the room temperature {room_c} °C (the water cannot cool below the room)"
+            "return temperature {t} °C is not above the room temperature {r} °C: the water cannot cool below the \
+             room — raise the design return temperature above {r} °C or lower the room temperature below {t} °C",
+            t = readable(return_c),
+            r = readable(room_c)
         )));
     }
     Ok(lmtd_unchecked(supply_c - room_c, return_c - room_c))
@@ -452,6 +461,7 @@ impl EmitterKind {
 
 /// What a project stores for one emitter.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum EmitterModel {
     /// A panel radiator (existing or to be sized).
     Radiator(RadiatorSpec),

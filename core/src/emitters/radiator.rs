@@ -283,6 +283,7 @@ pub fn radiator_catalog() -> PhysicsResult<&'static RadiatorCatalog> {
 
 /// How a radiator's size is known.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum RadiatorSizing {
     /// An installed (or already chosen) radiator: checked against the load.
     Existing {
@@ -310,6 +311,7 @@ pub enum RadiatorSizing {
 
 /// A radiator as a project stores it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct RadiatorSpec {
     /// Catalog type code ("22" …).
     pub type_code: String,

@@ -26,6 +26,7 @@ fn default_exponent() -> f64 {
 
 /// A terminal as a project stores it.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct TerminalSpec {
     /// Output at the nominal conditions, W.
     pub nominal_output_w: f64,

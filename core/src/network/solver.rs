@@ -461,10 +461,12 @@ pub fn static_term_pa(density_kg_m3: f64, from_elevation_m: f64, to_elevation_m:
 /// controlled pump cannot exceed its curve at full speed). Over the pump's
 /// range both laws are single-valued in flow, so their lower one is one
 /// continuous law with a kink where they cross; the slope taken is the one
-/// of the law in force.
+/// of the law in force. Each quadratic is evaluated by
+/// [`crate::pump::held_quadratic`] (a curve flat near shut-off is held at
+/// its peak), so a pump law never rises with flow.
 #[must_use]
 pub fn pump_rise_and_slope(law: [f64; 3], max_curve: Option<[f64; 3]>, m: f64) -> (f64, f64) {
-    let eval = |c: [f64; 3]| (c[0] + m * (c[1] + m * c[2]), c[1] + 2.0 * c[2] * m);
+    let eval = |c: [f64; 3]| crate::pump::held_quadratic(c, m);
     let controlled = eval(law);
     match max_curve.map(eval) {
         Some(curve) if curve.0 < controlled.0 => curve,

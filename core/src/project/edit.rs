@@ -115,11 +115,74 @@ fn invalid(item: impl Into<String>, message: impl Into<String>) -> EditError {
     EditError::Invalid { item: item.into(), message: message.into() }
 }
 
+/// Check a text the user gives (a name, a label, a catalog id): control
+/// characters — NUL, BEL, ESC, tab, newline and the rest of Unicode's
+/// "Cc" class — are refused, because names reach terminals, CSV files and
+/// exported networks. The message names the item and the field, and shows
+/// the text with the character escaped (never the character itself).
+///
+/// # Errors
+/// [`EditError::Invalid`] naming `item`.
+pub fn check_text(item: &str, field: &str, text: &str) -> Result<(), EditError> {
+    let Some((at, c)) = text.chars().enumerate().find(|(_, c)| c.is_control()) else { return Ok(()) };
+    let shown: String = text.chars().take(80).collect::<String>().escape_debug().to_string();
+    let more = if text.chars().count() > 80 { "…" } else { "" };
+    Err(invalid(
+        printable(item),
+        format!(
+            "{field} \"{shown}{more}\" holds the control character U+{:04X} at character {} — remove it (a name \
+             may hold any printable character, but no tab, newline or other control character)",
+            u32::from(c),
+            at + 1
+        ),
+    ))
+}
+
+/// `text` with control characters escaped (for an item label built from a
+/// name that has not been checked yet).
+#[must_use]
+pub fn printable(text: &str) -> String {
+    if text.chars().any(char::is_control) { text.escape_debug().to_string() } else { text.to_owned() }
+}
+
+/// The texts a node holds, as (field, text): its name and the catalog ids
+/// and labels of an emitter.
+#[must_use]
+pub fn node_texts(kind: &NodeKind) -> Vec<(&'static str, &str)> {
+    match kind {
+        NodeKind::Junction => Vec::new(),
+        NodeKind::Header(h) => vec![("name", h.name.as_str())],
+        NodeKind::Source(s) => vec![("name", s.name.as_str())],
+        NodeKind::Circuit(c) => vec![("name", c.name.as_str())],
+        NodeKind::Separator(x) => vec![("name", x.name.as_str())],
+        NodeKind::Emitter(e) => {
+            let mut v = vec![
+                ("name", e.name.as_str()),
+                ("valve family", e.valves.valve_family.as_str()),
+                ("lockshield family", e.valves.lockshield_family.as_str()),
+            ];
+            if let Some(p) = &e.valves.presetting {
+                v.push(("presetting", p.as_str()));
+            }
+            if let Some(p) = &e.valves.lockshield_setting {
+                v.push(("lockshield setting", p.as_str()));
+            }
+            if let EmitterModel::Radiator(r) = &e.model {
+                v.push(("radiator type", r.type_code.as_str()));
+            }
+            v
+        }
+    }
+}
+
 /// Check a node's data; the message names the field and the fix.
 ///
 /// # Errors
 /// [`EditError::Invalid`] naming the node.
 pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError> {
+    for (field, text) in node_texts(kind) {
+        check_text(label, field, text)?;
+    }
     let within = |l: &Limit, v: f64| l.check(v).map(|_| ()).map_err(|m| invalid(label, m));
     match kind {
         NodeKind::Junction => Ok(()),
@@ -151,6 +214,19 @@ pub fn validate_node_kind(label: &str, kind: &NodeKind) -> Result<(), EditError>
         }
         NodeKind::Separator(x) => within(&limits::SOURCE_KV_M3_H, x.kv_m3_h),
         NodeKind::Emitter(e) => {
+            for (field, setting) in
+                [("presetting", &e.valves.presetting), ("lockshield setting", &e.valves.lockshield_setting)]
+            {
+                if setting.as_deref().is_some_and(|t| t.trim().is_empty()) {
+                    return Err(invalid(
+                        label,
+                        format!(
+                            "{field} label is empty — give one of the family's steps (\"4\"), or none to let the \
+                             design choose"
+                        ),
+                    ));
+                }
+            }
             within(&limits::LOAD_W, e.load_w)?;
             within(&limits::ROOM_C, e.room_c)?;
             e.model.validate().map_err(|err| invalid(label, err.to_string()))?;
@@ -214,10 +290,13 @@ pub fn validate_run_props(id: RunId, props: &RunProps) -> Result<(), EditError> 
     if let Some(l) = props.length_override_m {
         limits::RUN_LENGTH_M.check(l).map_err(|m| invalid(format!("run {id}"), m))?;
     }
-    if let Some(size) = &props.fixed_size
-        && size.trim().is_empty()
-    {
-        return Err(invalid(format!("run {id}"), "fixed size is empty — pick a size or clear it"));
+    for (field, size) in [("fixed size", &props.fixed_size), ("fixed return size", &props.fixed_return_size)] {
+        if let Some(size) = size {
+            check_text(&format!("run {id}"), field, size)?;
+            if size.trim().is_empty() {
+                return Err(invalid(format!("run {id}"), format!("{field} is empty — pick a size or clear it")));
+            }
+        }
     }
     match &props.device {
         None | Some(BranchDevice::BalancingValve { family: None, .. }) => {}
@@ -247,11 +326,32 @@ pub fn validate_run_props(id: RunId, props: &RunProps) -> Result<(), EditError> 
     Ok(())
 }
 
+/// A drawn run is held to the same length limit as a given length
+/// ([`limits::RUN_LENGTH_M`]).
+///
+/// # Errors
+/// [`EditError::Invalid`] naming the run, its length and the fixes.
+pub fn check_drawn_length(id: RunId, drawn_m: f64) -> Result<(), EditError> {
+    if drawn_m.is_finite() && drawn_m <= limits::RUN_LENGTH_M.max {
+        return Ok(());
+    }
+    Err(invalid(
+        format!("run {id}"),
+        format!(
+            "drawn length {} m is longer than the {} m a run may have — move its ends closer, split it, or give \
+             its measured length",
+            limits::readable(drawn_m),
+            limits::readable(limits::RUN_LENGTH_M.max)
+        ),
+    ))
+}
+
 fn check_point(item: &str, p: PlanPoint) -> Result<(), EditError> {
     if limits::PLAN_COORDINATE_M.contains(p.x_m) && limits::PLAN_COORDINATE_M.contains(p.y_m) {
         Ok(())
     } else {
-        Err(invalid(item, format!("position ({}, {}) m is not a finite point within 100 km", p.x_m, p.y_m)))
+        let (x, y) = (limits::readable(p.x_m), limits::readable(p.y_m));
+        Err(invalid(item, format!("position ({x}, {y}) m is not a finite point within 100 km")))
     }
 }
 
@@ -300,6 +400,7 @@ impl Project {
                 }
             }
             Edit::Rename(name) => {
+                check_text("project", "name", &name)?;
                 if name.trim().is_empty() {
                     return Err(invalid("project", "name is empty — give the project a name"));
                 }
@@ -312,10 +413,11 @@ impl Project {
                 self.settings = *settings;
             }
             Edit::AddLevel { name, elevation_m } => {
+                check_text("new level", "name", &name)?;
                 if !(limits::ELEVATION_M.contains(elevation_m)) {
                     return Err(invalid(
                         format!("level {name}"),
-                        format!("elevation {elevation_m} m — give −500 to 500 m"),
+                        limits::ELEVATION_M.check(elevation_m).err().unwrap_or_default(),
                     ));
                 }
                 let id = LevelId(self.levels.iter().map(|l| l.id.0 + 1).max().unwrap_or(0));
@@ -323,10 +425,11 @@ impl Project {
                 self.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
             }
             Edit::SetLevel(level) => {
+                check_text(&format!("level {}", level.id), "name", &level.name)?;
                 if !(limits::ELEVATION_M.contains(level.elevation_m)) {
                     return Err(invalid(
                         format!("level {}", level.name),
-                        format!("elevation {} m — give −500 to 500 m", level.elevation_m),
+                        limits::ELEVATION_M.check(level.elevation_m).err().unwrap_or_default(),
                     ));
                 }
                 let slot = self
@@ -334,7 +437,16 @@ impl Project {
                     .iter_mut()
                     .find(|l| l.id == level.id)
                     .ok_or_else(|| EditError::Missing(format!("level {}", level.id)))?;
-                *slot = level;
+                let old = std::mem::replace(slot, level);
+                let id = old.id;
+                // A new elevation changes the length of every vertical run
+                // to this level: checked, and undone when one is too long.
+                if let Err(e) = self.check_lengths_on_level(id) {
+                    if let Some(slot) = self.levels.iter_mut().find(|l| l.id == id) {
+                        *slot = old;
+                    }
+                    return Err(e);
+                }
                 self.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
             }
             Edit::AddNode { level, pos, kind } => {
@@ -360,6 +472,7 @@ impl Project {
                     check_point(&n.label(), PlanPoint::new(n.pos.x_m + dx_m, n.pos.y_m + dy_m))?;
                 }
                 let moved: std::collections::BTreeSet<NodeId> = ids.iter().copied().collect();
+                self.check_lengths_after_move(&moved, dx_m, dy_m)?;
                 for &id in &moved {
                     if let Some(n) = self.node_mut(id) {
                         n.pos.x_m += dx_m;
@@ -420,8 +533,10 @@ impl Project {
                 if self.runs().any(|r| (r.a == a && r.b == b) || (r.a == b && r.b == a)) {
                     return Err(invalid(format!("{la} – {lb}"), "these two are joined by a run already"));
                 }
-                let id = self.alloc_run_id();
+                let id = self.peek_run_id();
                 let run = Run { id, a, b, vertices, props: RunProps::default() };
+                check_drawn_length(id, self.drawn_length_m(&run))?;
+                let id = self.alloc_run_id();
                 if !self.insert_run(run) {
                     return Err(EditError::Missing(format!("an end of run {id}")));
                 }
@@ -466,11 +581,61 @@ impl Project {
             }
             Edit::SetRunProps { id, props } => {
                 validate_run_props(id, &props)?;
+                let r = self.run(id).ok_or_else(|| EditError::Missing(format!("run {id}")))?;
+                if props.length_override_m.is_none() {
+                    check_drawn_length(id, self.drawn_length_m(r))?;
+                }
                 let r = self.run_mut(id).ok_or_else(|| EditError::Missing(format!("run {id}")))?;
                 r.props = props;
             }
         }
         Ok(outcome)
+    }
+
+    /// Every run without a given length that a move of `moved` by
+    /// (`dx_m`, `dy_m`) changes stays within the length limit (checked
+    /// before anything moves).
+    fn check_lengths_after_move(
+        &self,
+        moved: &std::collections::BTreeSet<NodeId>,
+        dx_m: f64,
+        dy_m: f64,
+    ) -> Result<(), EditError> {
+        let shift = |p: PlanPoint| PlanPoint::new(p.x_m + dx_m, p.y_m + dy_m);
+        for &id in moved {
+            for rid in self.runs_at(id) {
+                let Some(r) = self.run(rid) else { continue };
+                if r.props.length_override_m.is_some() {
+                    continue;
+                }
+                let (Some(a), Some(b)) = (self.node(r.a), self.node(r.b)) else { continue };
+                let (ma, mb) = (moved.contains(&r.a), moved.contains(&r.b));
+                if ma && mb {
+                    continue; // moves as a whole: its length stays
+                }
+                let pa = if ma { shift(a.pos) } else { a.pos };
+                let pb = if mb { shift(b.pos) } else { b.pos };
+                let plan = super::plan_length_m(pa, &r.vertices, pb);
+                let rise = (self.elevation_m(r.a) - self.elevation_m(r.b)).abs();
+                check_drawn_length(rid, plan + rise)?;
+            }
+        }
+        Ok(())
+    }
+
+    /// Every run without a given length touching level `level` is within
+    /// the length limit.
+    fn check_lengths_on_level(&self, level: LevelId) -> Result<(), EditError> {
+        for r in self.runs() {
+            if r.props.length_override_m.is_some() {
+                continue;
+            }
+            let on_level = [r.a, r.b].iter().any(|&n| self.node(n).is_some_and(|n| n.level == level));
+            if on_level {
+                check_drawn_length(r.id, self.drawn_length_m(r))?;
+            }
+        }
+        Ok(())
     }
 
     /// The segment index and the point of run `r`'s polyline nearest `at`.

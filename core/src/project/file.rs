@@ -3,6 +3,8 @@
 //!
 //! The fields, units and defaults are documented in `docs/file-format.md`.
 
+mod diagnose;
+
 use std::collections::BTreeSet;
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -10,9 +12,10 @@ use std::path::{Path, PathBuf};
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
-use super::edit::{validate_node_kind, validate_run_props};
+use super::edit::{check_drawn_length, check_text, node_texts, validate_node_kind, validate_run_props};
 use super::limits;
 use super::{DesignSettings, Level, Node, NodeKind, Project, Run};
+use diagnose::parse_message;
 
 /// Format tag at the top of every project file.
 pub const FORMAT_TAG: &str = "flowrise-project";
@@ -27,6 +30,7 @@ pub const MAX_NESTING: usize = 64;
 
 /// The project file as stored (our own layout, not a library's).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct ProjectFile {
     /// Always [`FORMAT_TAG`].
     pub format: String,
@@ -136,6 +140,9 @@ impl Project {
     }
 
     fn from_ron_named(text: &str, path: &str) -> Result<Self, FileError> {
+        // A byte-order mark some editors put at the start of UTF-8 text is
+        // not part of the project (ron would refuse it).
+        let text = text.strip_prefix('\u{feff}').unwrap_or(text);
         // Explicit nesting limit (ron 0.12 defaults to 128 too): a project
         // nests about 8 deep, so hostile `((((…` fails fast without
         // recursing deeply on the stack.
@@ -165,7 +172,7 @@ impl Project {
                     path: path.to_owned(),
                     line: e.span.start.line,
                     column: e.span.start.col,
-                    message: e.code.to_string(),
+                    message: parse_message(text, &e),
                 });
             }
         };
@@ -194,6 +201,7 @@ impl Project {
         if let Some(p) = file.settings.problems().first() {
             return Err(bad(format!("settings: {}", p.field), p.message.clone()));
         }
+        check_text("project", "name", &file.name).map_err(from_edit)?;
         if file.levels.is_empty() {
             return Err(bad("levels", "the project has no level — add at least one"));
         }
@@ -202,10 +210,11 @@ impl Project {
             if !level_ids.insert(l.id) {
                 return Err(bad(format!("level {}", l.id), "this id is used twice — give each level its own id"));
             }
+            check_text(&format!("level {}", l.id), "name", &l.name).map_err(from_edit)?;
             if !(limits::ELEVATION_M.contains(l.elevation_m)) {
                 return Err(bad(
                     format!("level {} ({})", l.id, l.name),
-                    format!("elevation {} m — give −500 to 500 m", l.elevation_m),
+                    limits::ELEVATION_M.check(l.elevation_m).err().unwrap_or_default(),
                 ));
             }
         }
@@ -215,6 +224,10 @@ impl Project {
         p.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
         let mut sources = 0usize;
         for n in file.nodes {
+            // Texts first: the label below shows the name.
+            for (field, text) in node_texts(&n.kind) {
+                check_text(&format!("{} {}", n.kind.word(), n.id), field, text).map_err(from_edit)?;
+            }
             let label = n.label();
             if p.node(n.id).is_some() {
                 return Err(bad(format!("node {}", n.id), "this id is used twice — give each node its own id"));
@@ -228,7 +241,11 @@ impl Project {
             if !(limits::PLAN_COORDINATE_M.contains(n.pos.x_m) && limits::PLAN_COORDINATE_M.contains(n.pos.y_m)) {
                 return Err(bad(
                     label,
-                    format!("position ({}, {}) m is not a finite point within 100 km", n.pos.x_m, n.pos.y_m),
+                    format!(
+                        "position ({}, {}) m is not a finite point within 100 km",
+                        limits::readable(n.pos.x_m),
+                        limits::readable(n.pos.y_m)
+                    ),
                 ));
             }
             validate_node_kind(&label, &n.kind).map_err(from_edit)?;
@@ -258,14 +275,19 @@ impl Project {
             }
             for v in &r.vertices {
                 if !(limits::PLAN_COORDINATE_M.contains(v.x_m) && limits::PLAN_COORDINATE_M.contains(v.y_m)) {
-                    return Err(bad(item, format!("bend point ({}, {}) m is not a finite point", v.x_m, v.y_m)));
+                    let (x, y) = (limits::readable(v.x_m), limits::readable(v.y_m));
+                    return Err(bad(item, format!("bend point ({x}, {y}) m is not a finite point within 100 km")));
                 }
             }
             validate_run_props(r.id, &r.props).map_err(from_edit)?;
             let level = p.node(r.a).map(|n| n.level);
-            if r.props.length_override_m.is_none() && p.drawn_length_m(&r) <= 0.0 {
-                let lv = level.map_or_else(String::new, |l| format!(" on level {l}"));
-                return Err(bad(format!("{item}{lv}"), "length 0 m — draw its ends apart or give it a length > 0"));
+            if r.props.length_override_m.is_none() {
+                let drawn = p.drawn_length_m(&r);
+                if drawn <= 0.0 {
+                    let lv = level.map_or_else(String::new, |l| format!(" on level {l}"));
+                    return Err(bad(format!("{item}{lv}"), "length 0 m — draw its ends apart or give it a length > 0"));
+                }
+                check_drawn_length(r.id, drawn).map_err(from_edit)?;
             }
             p.insert_run(r);
         }

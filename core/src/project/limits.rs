@@ -49,7 +49,7 @@ impl Limit {
         if self.contains(v) {
             Ok(v)
         } else {
-            Err(format!("{} {} {} — give {}", self.name, v, self.unit, self.range_text()))
+            Err(format!("{} {}{} — give {}", self.name, readable(v), self.unit_suffix(), self.range_text()))
         }
     }
 
@@ -57,10 +57,15 @@ impl Limit {
     #[must_use]
     pub fn range_text(&self) -> String {
         if self.min_exclusive {
-            format!("more than {} and at most {} {}", num(self.min), num(self.max), self.unit)
+            format!("more than {} and at most {}{}", num(self.min), num(self.max), self.unit_suffix())
         } else {
-            format!("{} to {} {}", num(self.min), num(self.max), self.unit)
+            format!("{} to {}{}", num(self.min), num(self.max), self.unit_suffix())
         }
+    }
+
+    /// " °C", or nothing for a quantity without a unit.
+    fn unit_suffix(&self) -> String {
+        if self.unit.is_empty() { String::new() } else { format!(" {}", self.unit) }
     }
 
     /// The range scaled to a display unit (a value shown in kW of a limit
@@ -79,8 +84,49 @@ impl fmt::Display for Limit {
 
 /// A number for a message: no trailing zeros.
 fn num(v: f64) -> String {
-    let t = format!("{v}");
-    t.strip_suffix(".0").map_or(t.clone(), str::to_owned)
+    readable(v)
+}
+
+/// A number as a person reads it in a message: four significant digits
+/// below 1,000 (`0.1235`, `21.5`, `999.9`), whole numbers from 1,000 to
+/// 10^15 (`4228439`), powers of ten outside (`1e-9`, `1e308`); no trailing
+/// zeros; `NaN`, `inf` and `-inf` as such.
+#[must_use]
+pub fn readable(v: f64) -> String {
+    if !v.is_finite() {
+        return format!("{v}");
+    }
+    let a = v.abs();
+    if v == 0.0 {
+        return "0".to_owned();
+    }
+    if !(1e-3..1e15).contains(&a) {
+        let t = format!("{v:.3e}");
+        return match t.split_once('e') {
+            Some((m, e)) => format!("{}e{e}", trim_zeros(m)),
+            None => t,
+        };
+    }
+    if a >= 1000.0 {
+        return format!("{v:.0}");
+    }
+    // 4 significant digits: 3 decimals at 1–10, 6 at 0.001–0.01.
+    let magnitude = a.log10().floor();
+    let decimals = (3.0 - magnitude).max(0.0) as usize;
+    let t = format!("{v:.decimals$}");
+    let t = trim_zeros(&t);
+    if t == "-0" { "0".to_owned() } else { t }
+}
+
+/// A power as a person reads it: watts below 1 kW (`1 W`, `950 W`), else
+/// kilowatts with one decimal (`2.4 kW`).
+#[must_use]
+pub fn readable_power(w: f64) -> String {
+    if w.is_finite() && w.abs() >= 1000.0 { format!("{:.1} kW", w / 1000.0) } else { format!("{} W", readable(w)) }
+}
+
+fn trim_zeros(t: &str) -> String {
+    if t.contains('.') { t.trim_end_matches('0').trim_end_matches('.').to_owned() } else { t.to_owned() }
 }
 
 // ---- design settings
@@ -169,6 +215,20 @@ pub const TERMINAL_NOMINAL_W: Limit = Limit::new("nominal output", "W", 1.0, 1e6
 /// Kv of a terminal's coil, m³/h.
 pub const TERMINAL_KV_M3_H: Limit = Limit::new("terminal Kv", "m³/h", 0.01, 10_000.0);
 
+// ---- studies and the command line
+/// Step of a supply-temperature sweep, K (0.01 K keeps the widest range,
+/// 95 to 20 °C, at 7,501 points, inside the sweep's 10,000).
+pub const SWEEP_STEP_K: Limit = Limit::new("sweep step", "K", 0.01, 75.0);
+/// Share of the valves a part-load case closes.
+pub const CLOSED_FRACTION: Limit = Limit::new("share of valves closed", "", 0.0, 1.0);
+/// Accuracy written into an exported network (the relative flow change
+/// its solver stops at).
+pub const EXPORT_ACCURACY: Limit = Limit::new("export accuracy", "", 1e-12, 0.1);
+/// Relative flow change at which the operating solve stops.
+pub const SOLVER_FLOW_TOLERANCE: Limit = Limit::new("solver flow tolerance", "", 1e-12, 0.1);
+/// Repetitions of a timing measurement.
+pub const BENCH_REPEAT: Limit = Limit::new("repetitions", "", 1.0, 1000.0);
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -181,5 +241,30 @@ mod tests {
         assert!(RUN_LENGTH_M.check(0.0).unwrap_err().contains("more than 0 and at most 10000 m"));
         assert!(RUN_LENGTH_M.contains(0.5));
         assert_eq!(SOURCE_CAPACITY_W.scaled(1e-3), (0.001, 1e5));
+    }
+
+    /// Issue 20 item 10: numbers in messages are rounded for reading.
+    #[test]
+    fn numbers_read_well() {
+        assert_eq!(readable(4_228_438.717_616_956), "4228439");
+        assert_eq!(readable(21.0), "21");
+        assert_eq!(readable(0.123_456), "0.1235");
+        assert_eq!(readable(999.94), "999.9");
+        assert_eq!(readable(-2.5), "-2.5");
+        assert_eq!(readable(1e-9), "1e-9");
+        assert_eq!(readable(1e308), "1e308");
+        assert_eq!(readable(1.5e-300), "1.5e-300");
+        assert_eq!(readable(0.0), "0");
+        assert_eq!(readable(f64::INFINITY), "inf");
+        assert_eq!(readable(f64::NAN), "NaN");
+        assert_eq!(
+            SOURCE_WATER_L.check(4_228_438.717_616_956).unwrap_err(),
+            "water content 4228439 l — give 0 to 1000000 l"
+        );
+        assert_eq!(RUN_LENGTH_M.range_text(), "more than 0 and at most 10000 m");
+        assert_eq!(CLOSED_FRACTION.check(2.0).unwrap_err(), "share of valves closed 2 — give 0 to 1");
+        assert_eq!(readable_power(1.0), "1 W");
+        assert_eq!(readable_power(999.4), "999.4 W");
+        assert_eq!(readable_power(2400.0), "2.4 kW");
     }
 }

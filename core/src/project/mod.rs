@@ -60,6 +60,7 @@ impl fmt::Display for LevelId {
 
 /// A point on a level's plan, metres.
 #[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct PlanPoint {
     /// East, m.
     pub x_m: f64,
@@ -82,6 +83,7 @@ impl PlanPoint {
 
 /// A storey of the building.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Level {
     /// Id.
     pub id: LevelId,
@@ -93,6 +95,7 @@ pub struct Level {
 
 /// The pump and hydraulic data of a heat source.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct PumpSpec {
     /// Three points of the pump curve at full speed: (flow m³/h, head kPa).
     pub curve_points: [(f64, f64); 3],
@@ -108,6 +111,7 @@ pub struct PumpSpec {
 /// A heat source (boiler, heat pump, substation heat exchanger) with its
 /// circulation pump; the expansion vessel sits at its return (pump suction).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct HeatSource {
     /// Name.
     pub name: String,
@@ -141,6 +145,7 @@ impl HeatSource {
 
 /// A header: distributor (supply) and collector (return) pair.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Header {
     /// Name.
     pub name: String,
@@ -150,6 +155,7 @@ pub struct Header {
 
 /// How a pumped circuit takes its heat from the network it hangs from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum CircuitConnection {
     /// A three-way mixing valve: the circuit's return is mixed into the
     /// water from the feeding network until the circuit's supply
@@ -184,6 +190,7 @@ impl CircuitConnection {
 /// valve) or from a hydraulic separator (pump only). The runs leaving it
 /// form the circuit.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct PumpedCircuit {
     /// Name.
     pub name: String,
@@ -204,6 +211,7 @@ pub struct PumpedCircuit {
 /// A hydraulic separator (low-loss header): the feeding network's loop and
 /// the pumped circuits leaving it are hydraulically decoupled.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Separator {
     /// Name.
     pub name: String,
@@ -214,6 +222,7 @@ pub struct Separator {
 
 /// Valves of one emitter.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct EmitterValves {
     /// Valve family on the supply (thermostatic or manual, with presetting).
     pub valve_family: String,
@@ -229,6 +238,7 @@ pub struct EmitterValves {
 
 /// A room's emitter.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Emitter {
     /// Name (usually the room).
     pub name: String,
@@ -244,6 +254,7 @@ pub struct Emitter {
 
 /// What a node of the layout is.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum NodeKind {
     /// Heat source with pump and expansion vessel.
     Source(HeatSource),
@@ -276,6 +287,7 @@ impl NodeKind {
 
 /// A node of the layout.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Node {
     /// Id.
     pub id: NodeId,
@@ -304,6 +316,7 @@ impl Node {
 
 /// Properties of a run the user can set.
 #[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct RunProps {
     /// Measured length overriding the drawn one, m.
     pub length_override_m: Option<f64>,
@@ -326,6 +339,7 @@ pub struct RunProps {
 /// A device that balances the branch a run feeds. It sits on the run's
 /// return at the run's upstream end (where the branch leaves the main).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub enum BranchDevice {
     /// A static balancing valve with handwheel settings. The design chooses
     /// its setting so that the branch takes what its own index circuit needs
@@ -362,6 +376,7 @@ impl BranchDevice {
 
 /// A drawn run: one line standing for a supply + return pair.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Run {
     /// Id.
     pub id: RunId,

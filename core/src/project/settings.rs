@@ -58,6 +58,7 @@ pub enum Mode {
 
 /// A value per pipe class.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct PerClass<T> {
     /// Risers and mains.
     pub main: T,
@@ -89,6 +90,7 @@ impl<T> PerClass<T> {
 /// Design settings.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(default)]
+#[serde(deny_unknown_fields)]
 pub struct DesignSettings {
     /// Design supply temperature at the source, °C.
     pub supply_c: f64,
@@ -185,7 +187,7 @@ impl DesignSettings {
     pub fn problems(&self) -> Vec<SettingsProblem> {
         let mut out = Vec::new();
         let mut bad = |field: &'static str, message: String| out.push(SettingsProblem { field, message });
-        let outside = |l: &Limit, v: f64| format!("{v} {} is outside {}", l.unit, l.range_text());
+        let outside = |l: &Limit, v: f64| format!("{} {} is outside {}", limits::readable(v), l.unit, l.range_text());
         if !limits::SUPPLY_C.contains(self.supply_c) {
             bad("supply temperature", outside(&limits::SUPPLY_C, self.supply_c));
         }
@@ -197,14 +199,22 @@ impl DesignSettings {
                 "return temperature",
                 format!(
                     "return {} °C must be below supply {} °C — lower the return or raise the supply",
-                    self.return_c, self.supply_c
+                    limits::readable(self.return_c),
+                    limits::readable(self.supply_c)
                 ),
             );
         }
         if !limits::ROOM_C.contains(self.room_c) {
             bad("room temperature", outside(&limits::ROOM_C, self.room_c));
         } else if self.room_c >= self.return_c {
-            bad("room temperature", format!("room {} °C must be below the return {} °C", self.room_c, self.return_c));
+            bad(
+                "room temperature",
+                format!(
+                    "room {} °C must be below the return {} °C",
+                    limits::readable(self.room_c),
+                    limits::readable(self.return_c)
+                ),
+            );
         }
         for class in PipeClass::ALL {
             let v = *self.velocity_limit_m_s.get(class);
@@ -216,7 +226,10 @@ impl DesignSettings {
             bad("pressure gradient limit", outside(&limits::GRADIENT_LIMIT_PA_M, self.gradient_limit_pa_m));
         }
         if !limits::HEAD_MARGIN_FRACTION.contains(self.head_margin_fraction) {
-            bad("pump head margin", format!("{} % is outside 0 to 100 %", self.head_margin_fraction * 100.0));
+            bad(
+                "pump head margin",
+                format!("{} % is outside 0 to 100 %", limits::readable(self.head_margin_fraction * 100.0)),
+            );
         }
         if !limits::MIN_VALVE_DP_PA.contains(self.min_valve_dp_pa) {
             bad("minimum valve Δp", outside(&limits::MIN_VALVE_DP_PA, self.min_valve_dp_pa));
@@ -233,13 +246,28 @@ impl DesignSettings {
             bad("safety valve pressure", outside(&limits::SAFETY_VALVE_BAR, self.safety_valve_bar));
         }
         if !limits::FLOW_TOLERANCE_FRACTION.contains(self.flow_tolerance_fraction) {
-            bad("flow tolerance", format!("±{} % is outside ±1 to ±50 %", self.flow_tolerance_fraction * 100.0));
+            bad(
+                "flow tolerance",
+                format!("±{} % is outside ±1 to ±50 %", limits::readable(self.flow_tolerance_fraction * 100.0)),
+            );
         }
         if !limits::MIN_WATER_DROP_K.contains(self.min_water_drop_k) {
             bad("minimum water temperature drop", outside(&limits::MIN_WATER_DROP_K, self.min_water_drop_k));
         }
         if !limits::HOT_RETURN_MARGIN_K.contains(self.hot_return_margin_k) {
             bad("hot-return margin", outside(&limits::HOT_RETURN_MARGIN_K, self.hot_return_margin_k));
+        }
+        let texts = [
+            ("pipe series (main)", &self.series.main),
+            ("pipe series (branch)", &self.series.branch),
+            ("pipe series (connection)", &self.series.connection),
+            ("valve family", &self.valve_family),
+            ("lockshield family", &self.lockshield_family),
+        ];
+        for (field, text) in texts {
+            if let Err(super::EditError::Invalid { message, .. }) = super::edit::check_text("settings", "id", text) {
+                bad(field, message);
+            }
         }
         out
     }

@@ -488,9 +488,9 @@ pub(crate) fn source_capacity(source: NodeId, capacity_w: f64, load_w: f64) -> F
         FindingKind::SourceCapacity,
         ItemRef::Node(source),
         format!(
-            "the source's capacity {:.1} kW is below the total load {:.1} kW — choose a larger source",
-            capacity_w / 1000.0,
-            load_w / 1000.0
+            "the source's capacity {} is below the total load {} — choose a larger source",
+            crate::project::limits::readable_power(capacity_w),
+            crate::project::limits::readable_power(load_w)
         ),
     )
 }
