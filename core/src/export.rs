@@ -210,6 +210,13 @@ pub fn network_to_inp(sol: &Solution, title: &str, opts: &ExportOptions) -> Phys
     let acc = crate::project::limits::EXPORT_ACCURACY;
     check::in_range("EPANET accuracy", opts.accuracy, "", acc.min, acc.max)?;
     check::in_range("EPANET trials", f64::from(opts.trials), "", 1.0, 100_000.0)?;
+    if sol.circuits.len() > 1 {
+        return Err(PhysicsError::Inconsistent(
+            "the project has pumped circuits: each is its own network, joined by the regulated flow of its valve, which \
+             one EPANET network file cannot hold — export a project without pumped circuits"
+                .into(),
+        ));
+    }
     let net = &sol.network;
     if net.nodes.is_empty() || net.reference_node >= net.nodes.len() {
         return Err(PhysicsError::Inconsistent("the solution has no network — the design stopped with errors".into()));

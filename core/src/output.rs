@@ -113,11 +113,50 @@ fn head_json(p: &Project, sol: &Solution) -> Value {
         "devices": sol.devices.iter().map(device_json).collect::<Vec<_>>(),
     });
     if let Value::Object(m) = &mut doc {
+        // Only projects with pumped circuits have this key.
+        if !sol.circuits.is_empty() {
+            m.insert("circuits".to_owned(), sol.circuits.iter().map(circuit_json).collect());
+        }
         for key in STREAMED {
             m.insert(key.to_owned(), Value::Null);
         }
     }
     doc
+}
+
+fn circuit_json(c: &crate::design::CircuitResult) -> Value {
+    let pump = c.pump.as_ref();
+    json!({
+        "root": c.root.to_string(),
+        "name": c.name,
+        "connection": c.connection.map(|k| match k {
+            crate::project::CircuitConnection::MixingValve => "mixing_valve",
+            crate::project::CircuitConnection::Injection => "injection",
+            crate::project::CircuitConnection::Direct => "pump_only",
+        }),
+        "parent": c.parent.map(|n| n.to_string()),
+        "separator": c.separator.map(|n| n.to_string()),
+        "supply_c": round(c.supply_c, 2),
+        "return_c": round(c.return_c, 2),
+        "feed_supply_c": round(c.feed_supply_c, 2),
+        "heat_load_w": round(c.heat_load_w, 1),
+        "heat_w": round(c.heat_w, 1),
+        "design_flow_l_h": round(c.design_flow_l_h, 2),
+        "flow_l_h": round(c.flow_l_h, 2),
+        "operating_return_c": round(c.operating_return_c, 2),
+        "primary_design_flow_l_h": round(c.primary_design_flow_l_h, 2),
+        "primary_flow_l_h": round(c.primary_flow_l_h, 2),
+        "feed_dp_available_kpa": round(c.feed_dp_available_pa / 1000.0, 3),
+        "feed_dp_needed_kpa": round(c.feed_dp_needed_pa / 1000.0, 3),
+        "pump_head_kpa": round(pump.map_or(0.0, |x| x.duty_head_pa / 1000.0), 3),
+        "pump_design_flow_m3_h": round(pump.map_or(0.0, |x| x.design_flow_m3_h), 4),
+        "pump_operating_flow_m3_h": round(pump.map_or(0.0, |x| x.operating_flow_m3_h), 4),
+        "pump_operating_head_kpa": round(pump.map_or(0.0, |x| x.operating_head_pa / 1000.0), 3),
+        "pump_on_max_curve": pump.is_some_and(|x| x.on_max_curve),
+        "index_emitter": c.index_emitter.map(|n| n.to_string()),
+        "water_volume_l": round(c.water_volume_l, 2),
+        "converged": c.converged,
+    })
 }
 
 fn device_json(d: &DeviceResult) -> Value {
@@ -308,6 +347,38 @@ pub fn write_solve_text(s: &mut impl std::fmt::Write, p: &Project, sol: &Solutio
             x.gradient_pa_m,
             x.dp_pa / 1000.0
         );
+    }
+    if sol.circuits.len() > 1 {
+        out!(s, "\npumped circuits");
+        out!(
+            s,
+            "  {:<6} {:<28} {:<24} {:>9} {:>8} {:>8} {:>9} {:>16}",
+            "root",
+            "name",
+            "connection",
+            "°C",
+            "kW",
+            "l/h",
+            "primary",
+            "pump duty"
+        );
+        for c in &sol.circuits {
+            let duty = c.pump.as_ref().map_or_else(String::new, |p| {
+                format!("{:.2} m³/h {:.1} kPa", p.design_flow_m3_h, p.duty_head_pa / 1000.0)
+            });
+            out!(
+                s,
+                "  {:<6} {:<28} {:<24} {:>9} {:>8.2} {:>8.0} {:>9.0} {:>16}",
+                c.root.to_string(),
+                c.name,
+                c.connection.map_or("primary", crate::project::CircuitConnection::name),
+                format!("{:.0}/{:.0}", c.supply_c, c.return_c),
+                c.heat_w / 1000.0,
+                c.flow_l_h,
+                c.primary_flow_l_h,
+                duty
+            );
+        }
     }
     if !sol.devices.is_empty() {
         out!(s, "\nbranch devices");

@@ -31,7 +31,8 @@ use thiserror::Error;
 
 mod lines;
 use lines::{
-    device_lines, emitter_lines, fitting_lines, header_lines, insulation_lines, pipe_lines, plant_lines, valve_lines,
+    circuit_lines, device_lines, emitter_lines, fitting_lines, header_lines, insulation_lines, pipe_lines, plant_lines,
+    valve_lines,
 };
 
 use crate::csv_cell;
@@ -267,6 +268,7 @@ pub fn parts_list(p: &Project, sol: &Solution, opts: &PartsOptions) -> PhysicsRe
     device_lines(sol, &mut acc);
     header_lines(p, sol, &mut acc);
     plant_lines(p, sol, &mut acc);
+    circuit_lines(p, sol, &mut acc);
     insulation_lines(sol, opts, &mut acc)?;
     let mut lines = acc.finish();
     lines.sort_by(compare_lines);

@@ -106,6 +106,7 @@ pub fn report_html_with(p: &Project, sol: &Solution, parts: &PartsList, studies:
     devices_table(&mut h, sol);
     findings_table(&mut h, sol);
     pump_section(&mut h, sol);
+    circuits_section(&mut h, sol);
     vessel_section(&mut h, sol);
     parts_section(&mut h, parts);
     commissioning_section(&mut h, p, sol);
@@ -400,7 +401,7 @@ fn pump_section(h: &mut String, sol: &Solution) {
         }
     };
     h.push_str("<div class=\"cols\"><div style=\"flex: 2 1 420px\">");
-    if let Some(chart) = svg::pump_chart(sol) {
+    if let Some(chart) = svg::pump_chart(sol.pump.as_ref()) {
         w!(h, "<figure>{chart}</figure>");
     }
     h.push_str("</div><div><table class=\"kv\">");
@@ -423,6 +424,63 @@ fn pump_section(h: &mut String, sol: &Solution) {
         "</table><p class=\"muted\">The system curve is the quadratic through the operating point (a closed circuit has no \
          static head; buoyancy in the risers is small and left out of the drawing).</p></div></div></section>\n",
     );
+}
+
+/// Pumped circuits: per circuit its temperatures, heat, flows on both
+/// sides of its valve, pump duty and chart.
+fn circuits_section(h: &mut String, sol: &Solution) {
+    if sol.circuits.len() < 2 {
+        return;
+    }
+    h.push_str(
+        "<section id=\"circuits\"><h3>Pumped circuits</h3><p class=\"muted\">Each pumped circuit is designed at its own \
+         temperatures with its own pump and index circuit. A mixing or injection valve holds the circuit's supply \
+         temperature by drawing the primary flow that carries its heat: primary flow · c<sub>p</sub> · (feed supply − \
+         return) = heat (c<sub>p</sub> the IAPWS-IF97 mean over the interval). The primary's pump above serves the \
+         heat source's circuit.</p><table><thead><tr><th>circuit</th><th>connection</th><th>°C</th><th class=\"n\">heat kW</th>\
+         <th class=\"n\">circuit l/h</th><th class=\"n\">primary l/h</th><th class=\"n\">mixed return °C</th>\
+         <th class=\"n\">pump duty</th><th class=\"n\">feed Δp kPa (given / needed)</th></tr></thead><tbody>",
+    );
+    for c in &sol.circuits[1..] {
+        let connection = c.connection.map_or("", crate::project::CircuitConnection::name);
+        let duty = c.pump.as_ref().map_or_else(String::new, |p| {
+            format!("{:.2} m³/h at {:.1} kPa", p.design_flow_m3_h, p.duty_head_pa / 1000.0)
+        });
+        let feed = if c.feed_dp_needed_pa > 0.0 {
+            format!("{:.1} / {:.2}", c.feed_dp_available_pa / 1000.0, c.feed_dp_needed_pa / 1000.0)
+        } else {
+            "—".to_owned()
+        };
+        let flag = if sol.has_finding(ItemRef::Node(c.root), &[FindingKind::CircuitFeedShort]) {
+            " class=\"over\""
+        } else {
+            ""
+        };
+        w!(
+            h,
+            "<tr data-node=\"{}\"{flag}><td>{} ({})</td><td>{}</td><td>{:.0}/{:.0}</td><td class=\"n\">{:.2}</td>\
+             <td class=\"n\">{:.0}</td><td class=\"n\">{:.0}</td><td class=\"n\">{:.1}</td><td class=\"n\">{}</td><td class=\"n\">{}</td></tr>",
+            c.root,
+            esc(&c.name),
+            c.root,
+            connection,
+            c.supply_c,
+            c.return_c,
+            c.heat_w / 1000.0,
+            c.flow_l_h,
+            c.primary_flow_l_h,
+            c.operating_return_c,
+            duty,
+            feed
+        );
+    }
+    h.push_str("</tbody></table><div class=\"cols\">");
+    for c in &sol.circuits[1..] {
+        if let Some(chart) = svg::pump_chart(c.pump.as_ref()) {
+            w!(h, "<figure>{chart}<figcaption>Pump of {} ({})</figcaption></figure>", esc(&c.name), c.root);
+        }
+    }
+    h.push_str("</div></section>\n");
 }
 
 fn vessel_section(h: &mut String, sol: &Solution) {

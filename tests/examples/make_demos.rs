@@ -7,7 +7,7 @@
 #![allow(clippy::unwrap_used)] // reason: a generator run by hand; a failure should stop it loudly
 
 use flowrise_core::emitters::floor::FloorZone;
-use flowrise_core::project::{DesignSettings, Edit, LevelId, Project, ReturnLayout};
+use flowrise_core::project::{CircuitConnection, DesignSettings, Edit, LevelId, Project, ReturnLayout};
 use flowrise_core::pump::PumpControl;
 use flowrise_tests::builder::{Builder, SMALL_PUMP};
 
@@ -133,6 +133,64 @@ pub fn office() -> Project {
     b.p
 }
 
+/// A two-storey house: heat pump at 55/45 °C, radiators upstairs, floor
+/// heating downstairs behind a mixing circuit at 35/30 °C.
+pub fn house() -> Project {
+    let mut b = Builder::new("House, Larch Lane 12");
+    let settings = DesignSettings {
+        supply_c: 55.0,
+        return_c: 45.0,
+        valve_family: "trv-demo-fine".to_owned(),
+        ..DesignSettings::default()
+    };
+    b.p.apply(Edit::SetSettings(Box::new(settings))).unwrap();
+    let g = LevelId(0);
+    let up = b.level("First floor", 2.8);
+    let hp = b.source(g, 0.0, 0.0, 12_000.0, SMALL_PUMP, PumpControl::ProportionalDp { setpoint_kpa: 25.0 });
+    let tee = b.junction(g, 2.0, 0.0);
+    b.run(hp, tee);
+    // Ground floor: the mixing circuit and its header of floor loops.
+    let mix = b.circuit(g, 2.0, 3.0, "Floor heating, ground floor", CircuitConnection::MixingValve, (35.0, 30.0));
+    b.run(tee, mix);
+    let header = b.header(g, 4.5, 3.0, "Ground-floor header", 6);
+    b.run(mix, header);
+    for (name, load, room, area, zone, x, y) in [
+        ("Living room, window side", 700.0, 20.0, 15.0, FloorZone::Occupied, 10.0, 7.0),
+        ("Living room, inner side", 560.0, 20.0, 13.0, FloorZone::Occupied, 8.0, 7.5),
+        ("Kitchen", 700.0, 20.0, 16.0, FloorZone::Occupied, 9.0, 1.0),
+        ("Study", 520.0, 20.0, 12.0, FloorZone::Occupied, 4.5, 7.5),
+        ("Hall", 400.0, 18.0, 10.0, FloorZone::Occupied, 6.5, -0.5),
+        ("Shower room", 180.0, 24.0, 5.0, FloorZone::Bathroom, 2.0, 7.0),
+    ] {
+        let l = b.floor_loop(g, x, y, name, load, room, area, zone);
+        b.run(header, l);
+    }
+    // First floor: radiators off a riser next to the heat pump.
+    let riser = b.junction(up, 2.0, 0.0);
+    b.run(tee, riser);
+    let landing = b.junction(up, 5.0, 0.0);
+    b.run(riser, landing);
+    let mut prev = landing;
+    for (name, load, room, x, y) in [
+        ("Bedroom 1", 900.0, 20.0, 5.0, 4.0),
+        ("Bathroom", 650.0, 24.0, 8.0, -2.0),
+        ("Bedroom 2", 800.0, 20.0, 11.0, 4.0),
+        ("Bedroom 3", 700.0, 20.0, 14.0, -2.0),
+    ] {
+        let j = if x > 5.0 {
+            let j = b.junction(up, x, 0.0);
+            b.run(prev, j);
+            j
+        } else {
+            landing
+        };
+        let r = b.radiator(up, x, y, name, load, room);
+        b.run(j, r);
+        prev = j;
+    }
+    b.p
+}
+
 fn main() {
     write(
         &flat(),
@@ -149,6 +207,14 @@ fn main() {
          room. A heat pump at 55/45 °C feeds a steel riser; each flat has a header with\n\
          three radiators (to be sized) and a bathroom floor loop; the radiator valves\n\
          have a fine (half-step) presetting.\n\
+         Expected findings: none.",
+    );
+    write(
+        &house(),
+        "house-floor-heating-circuit.ron",
+        "Demo (invented scenario): a two-storey house with an air-to-water heat pump at\n\
+         55/45 °C. Upstairs four radiators (to be sized); downstairs floor heating behind\n\
+         a three-way mixing circuit with its own pump at 35/30 °C, five loops on a header.\n\
          Expected findings: none.",
     );
     write(

@@ -35,7 +35,7 @@ fn cases() -> Vec<(String, Project)> {
         .into_iter()
         .map(|p| (p.file_stem().unwrap().to_string_lossy().into_owned(), Project::load(&p).unwrap()))
         .collect();
-    assert_eq!(v.len(), 3, "three demo projects");
+    assert_eq!(v.len(), 4, "four demo projects");
     for (name, spec) in [
         ("generated-direct", BuildingSpec::new(2, 8)),
         ("generated-reverse", BuildingSpec { reverse_return: true, ..BuildingSpec::new(2, 8) }),

@@ -42,6 +42,10 @@ fn assert_balances(sol: &Solution, what: &str) {
         if n == net.reference_node {
             continue;
         }
+        // Σ in − Σ out + demand = 0 (a pumped circuit's valve draws its
+        // primary flow as a demand at its supply node, returns it at its
+        // return node).
+        let b = b + net.nodes[n].demand_kg_s;
         assert!(b.abs() / total <= 1e-9, "{what}: mass imbalance {b} kg/s at node {n}");
     }
     for (k, l) in net.links.iter().enumerate() {

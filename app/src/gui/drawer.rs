@@ -69,6 +69,8 @@ pub struct DrawerState {
     /// The parts list shown, for (project revision, solution revision): it
     /// is made once per solve, not every frame.
     parts: Option<((u64, u64), Result<flowrise_core::parts::PartsList, String>)>,
+    /// Pumped circuit whose pump the pump tab shows (0: the primary).
+    pub pump_circuit: usize,
 }
 
 impl DrawerState {
@@ -108,7 +110,7 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st:
             Tab::Findings => {
                 ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| findings_list(ui, sol, out));
             }
-            Tab::Pump => pump_chart(ui, sol, &st.scenarios, project.revision),
+            Tab::Pump => pump_tab(ui, sol, st, project.revision),
             Tab::Profile => profile_chart(ui, sol),
             Tab::Parts => parts_table(ui, project, sol, &mut st.parts, out),
             Tab::Sweep => super::scenarios::sweep_view(ui, project, &mut st.scenarios),
@@ -375,8 +377,35 @@ fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
 
 /// The pump chart; part-load operating points (from the Part load tab, when
 /// they belong to this revision) are marked too.
-fn pump_chart(ui: &mut Ui, sol: &Solution, scenarios: &super::scenarios::ScenarioState, revision: u64) {
-    let Some(p) = &sol.pump else {
+/// The pump tab: with pumped circuits, a choice of circuit above the chart.
+fn pump_tab(ui: &mut Ui, sol: &Solution, st: &mut DrawerState, revision: u64) {
+    if sol.circuits.len() > 1 {
+        ui.horizontal(|ui| {
+            ui.label("Pump of");
+            for (i, c) in sol.circuits.iter().enumerate() {
+                let text = format!("{} ({:.0}/{:.0} °C)", c.name, c.supply_c, c.return_c);
+                if ui.selectable_label(st.pump_circuit == i, text).clicked() {
+                    st.pump_circuit = i;
+                }
+            }
+        });
+        let i = st.pump_circuit.min(sol.circuits.len() - 1);
+        if i > 0 {
+            pump_chart(ui, sol.circuits[i].pump.as_ref(), None, revision, i);
+            return;
+        }
+    }
+    pump_chart(ui, sol.pump.as_ref(), Some(&st.scenarios), revision, 0);
+}
+
+fn pump_chart(
+    ui: &mut Ui,
+    pump: Option<&flowrise_core::design::PumpResult>,
+    scenarios: Option<&super::scenarios::ScenarioState>,
+    revision: u64,
+    salt: usize,
+) {
+    let Some(p) = pump else {
         ui.label("No pump result yet — the network needs a source with a run to an emitter.");
         return;
     };
@@ -399,7 +428,7 @@ fn pump_chart(ui: &mut Ui, sol: &Solution, scenarios: &super::scenarios::Scenari
         .map(|q| [q, k * q * q])
         .take_while(|pt| pt[1] <= curve.shutoff_head_kpa() * 1.2)
         .collect();
-    Plot::new("pump_chart")
+    Plot::new(("pump_chart", salt))
         .legend(Legend::default())
         .x_axis_label("flow m³/h")
         .y_axis_label("head kPa")
@@ -416,7 +445,7 @@ fn pump_chart(ui: &mut Ui, sol: &Solution, scenarios: &super::scenarios::Scenari
                     .shape(egui_plot::MarkerShape::Diamond)
                     .color(theme::WARNING),
             );
-            if let Some((rev, Ok(cases))) = &scenarios.part_load
+            if let Some((rev, Ok(cases))) = scenarios.and_then(|x| x.part_load.as_ref())
                 && *rev == revision
             {
                 for c in cases {

@@ -54,15 +54,17 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> Edit {
         && let NodeKind::Source(source) = &src.kind
     {
         let mut source = source.clone();
-        source.pump.design_flow_m3_h = Some(pump.design_flow_m3_h);
-        source.pump.control = match source.pump.control {
-            PumpControl::ConstantDp { .. } => PumpControl::ConstantDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
-            PumpControl::ProportionalDp { .. } => {
-                PumpControl::ProportionalDp { setpoint_kpa: pump.duty_head_pa / 1000.0 }
-            }
-            PumpControl::FixedSpeed => PumpControl::FixedSpeed,
-        };
+        source.pump = frozen_pump(&source.pump, pump);
         edits.push(Edit::SetNodeKind { id: src.id, kind: NodeKind::Source(source) });
+    }
+    // Each pumped circuit's pump keeps its set-point and design flow too.
+    for c in &sol.circuits {
+        let (Some(pump), Some(NodeKind::Circuit(circuit))) = (&c.pump, p.node(c.root).map(|n| &n.kind)) else {
+            continue;
+        };
+        let mut circuit = circuit.clone();
+        circuit.pump = frozen_pump(&circuit.pump, pump);
+        edits.push(Edit::SetNodeKind { id: c.root, kind: NodeKind::Circuit(circuit) });
     }
     let settings = DesignSettings { mode: Mode::Installed, ..p.settings.clone() };
     edits.push(Edit::SetSettings(Box::new(settings)));
@@ -107,6 +109,11 @@ pub fn thaw_edit(p: &Project) -> Edit {
                 src.pump.design_flow_m3_h = None;
                 edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Source(src) });
             }
+            NodeKind::Circuit(c) if c.pump.design_flow_m3_h.is_some() => {
+                let mut c = c.clone();
+                c.pump.design_flow_m3_h = None;
+                edits.push(Edit::SetNodeKind { id: node.id, kind: NodeKind::Circuit(c) });
+            }
             NodeKind::Source(_)
             | NodeKind::Junction
             | NodeKind::Header(_)
@@ -140,4 +147,15 @@ fn family_id_of(name: &str, controller: bool) -> Option<String> {
     } else {
         crate::valves::valve_families().ok()?.iter().find(|f| f.name == name).map(|f| f.id.clone())
     }
+}
+
+/// A pump as the design set it: its design flow and, for a controlled pump,
+/// the duty head as its set-point.
+fn frozen_pump(spec: &crate::project::PumpSpec, pump: &super::PumpResult) -> crate::project::PumpSpec {
+    let control = match spec.control {
+        PumpControl::ConstantDp { .. } => PumpControl::ConstantDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
+        PumpControl::ProportionalDp { .. } => PumpControl::ProportionalDp { setpoint_kpa: pump.duty_head_pa / 1000.0 },
+        PumpControl::FixedSpeed => PumpControl::FixedSpeed,
+    };
+    crate::project::PumpSpec { design_flow_m3_h: Some(pump.design_flow_m3_h), control, ..spec.clone() }
 }

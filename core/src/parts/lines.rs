@@ -429,3 +429,62 @@ pub(super) fn device_lines(sol: &Solution, acc: &mut Acc) {
         acc.add(PartCategory::Valve, d.family.clone(), size, note, PartUnit::Piece, 1.0, &[d.run.to_string()]);
     }
 }
+
+/// Pumped circuits and separators: each circuit's pump with its duty, its
+/// mixing or injection valve (Kvs), and each hydraulic separator.
+pub(super) fn circuit_lines(p: &Project, sol: &Solution, acc: &mut Acc) {
+    for c in sol.circuits.iter().filter(|c| c.connection.is_some()) {
+        let serves = [c.root.to_string()];
+        let Some(NodeKind::Circuit(node)) = p.node(c.root).map(|n| &n.kind) else { continue };
+        if let Some(pump) = &c.pump {
+            acc.add(
+                PartCategory::Pump,
+                "circulation pump (pumped circuit)".to_owned(),
+                format!("{:.2} m³/h at {:.1} kPa", pump.design_flow_m3_h, pump.duty_head_pa / 1000.0),
+                format!(
+                    "{}: {:.0}/{:.0} °C, index circuit {:.1} kPa",
+                    c.name,
+                    c.supply_c,
+                    c.return_c,
+                    pump.index_dp_pa / 1000.0
+                ),
+                PartUnit::Piece,
+                1.0,
+                &serves,
+            );
+        }
+        let valve = match node.connection {
+            crate::project::CircuitConnection::MixingValve => Some("three-way mixing valve with actuator"),
+            crate::project::CircuitConnection::Injection => Some("two-way injection valve with actuator"),
+            crate::project::CircuitConnection::Direct => None,
+        };
+        if let Some(item) = valve {
+            acc.add(
+                PartCategory::Valve,
+                item.to_owned(),
+                format!("Kvs {:.1} m³/h", node.valve_kvs_m3_h),
+                format!(
+                    "{}: primary {:.0} l/h at {:.0} °C, circuit {:.0} l/h at {:.0} °C",
+                    c.name, c.primary_design_flow_l_h, c.feed_supply_c, c.design_flow_l_h, c.supply_c
+                ),
+                PartUnit::Piece,
+                1.0,
+                &serves,
+            );
+        }
+    }
+    for node in p.nodes() {
+        let NodeKind::Separator(x) = &node.kind else { continue };
+        let drawn: f64 =
+            sol.circuits.iter().filter(|c| c.separator == Some(node.id)).map(|c| c.primary_design_flow_l_h).sum();
+        acc.add(
+            PartCategory::Header,
+            "hydraulic separator (low-loss header)".to_owned(),
+            format!("for {drawn:.0} l/h"),
+            format!("{}: circuits draw {drawn:.0} l/h at design", x.name),
+            PartUnit::Piece,
+            1.0,
+            &[node.id.to_string()],
+        );
+    }
+}

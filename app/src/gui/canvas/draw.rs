@@ -153,6 +153,42 @@ fn dashed(painter: &Painter, pts: &[Pos2], stroke: Stroke) {
     painter.extend(Shape::dashed_line(pts, stroke, 9.0, 5.0));
 }
 
+/// Outline each pumped circuit's nodes on the level (a tinted, dashed box
+/// with the circuit's name and temperatures), under the runs.
+pub fn draw_circuits(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
+    for c in s.sol.circuits.iter().filter(|c| c.connection.is_some()) {
+        let mut pts: Vec<Pos2> = c
+            .nodes
+            .iter()
+            .filter_map(|&n| s.project.node(n))
+            .filter(|n| n.level == s.level)
+            .map(|n| s.view.screen_from_plan(n.pos))
+            .collect();
+        if let Some(root) = s.project.node(c.root).filter(|n| n.level == s.level) {
+            pts.push(s.view.screen_from_plan(root.pos));
+        }
+        if pts.is_empty() {
+            continue;
+        }
+        let r = Rect::from_points(&pts).expand(22.0);
+        let tint = Color32::from_rgba_unmultiplied(0x1f, 0x78, 0xc8, 14);
+        let edge = Stroke::new(1.2, Color32::from_rgb(0x1f, 0x78, 0xc8));
+        painter.rect_filled(r, CornerRadius::same(10), tint);
+        let corners = [r.left_top(), r.right_top(), r.right_bottom(), r.left_bottom(), r.left_top()];
+        dashed(painter, &corners, edge);
+        let text = format!("{} · {:.0}/{:.0} °C", c.name, c.supply_c, c.return_c);
+        labels.add(
+            text,
+            vec![
+                (r.left_top() + vec2(6.0, 3.0), Align2::LEFT_TOP),
+                (r.left_bottom() + vec2(6.0, -3.0), Align2::LEFT_BOTTOM),
+                (r.left_top() + vec2(6.0, -3.0), Align2::LEFT_BOTTOM),
+            ],
+            true,
+        );
+    }
+}
+
 /// Draw the runs of the level; their labels go to `labels`.
 pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
     let limit = s.project.settings.gradient_limit_pa_m;

@@ -201,9 +201,11 @@ pub fn show(
     };
     // Runs under nodes; labels over both, node names placed before run sizes.
     let (mut run_labels, mut node_labels) = (draw::Labels::default(), draw::Labels::default());
+    let mut circuit_labels = draw::Labels::default();
+    draw::draw_circuits(&painter, &scene, &mut circuit_labels);
     draw::draw_runs(&painter, &scene, &mut run_labels);
     draw::draw_nodes(&painter, &scene, &mut node_labels);
-    node_labels.then(run_labels).paint(&painter);
+    circuit_labels.then(node_labels).then(run_labels).paint(&painter);
     draw_draft(&painter, project, state);
     draw::draw_legend(&painter, rect, opts.colour_by);
     draw::draw_scale_bar(&painter, &state.view, rect.left_bottom());

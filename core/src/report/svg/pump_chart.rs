@@ -1,18 +1,18 @@
 //! The pump chart.
 
 use super::nice_step;
-use crate::design::Solution;
+use crate::design::PumpResult;
 use crate::pump::PumpControl;
 
 /// The pump chart (`class="pump-chart"`): the pump's maximum curve, its
 /// control curve, the system curve through the operating point, the
 /// operating point and the duty point. `None` without a pump result.
 #[allow(clippy::too_many_lines)] // reason: one drawing, layer by layer
-pub(in crate::report) fn pump_chart(sol: &Solution) -> Option<String> {
+pub(in crate::report) fn pump_chart(pump: Option<&PumpResult>) -> Option<String> {
     const W: f64 = 560.0;
     const H: f64 = 320.0;
     let (l, r, t, b) = (58.0, 20.0, 16.0, 44.0);
-    let pump = sol.pump.as_ref()?;
+    let pump = pump?;
     let curve = pump.curve.as_ref()?;
     let q_op = pump.operating_flow_m3_h.max(0.0);
     let h_op = pump.operating_head_pa / 1000.0;
