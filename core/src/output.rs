@@ -522,6 +522,17 @@ pub fn write_part_load_text(
             c.max_valve_dp_kpa,
             c.worst_over_supply() * 100.0
         );
+        for ci in c.circuits.iter().filter(|_| c.circuits.len() > 1) {
+            out!(
+                s,
+                "    circuit {} ({}): pump {:.0} l/h at {:.1} kPa · worst over-supply {:+.0} %",
+                ci.name,
+                ci.root,
+                ci.pump_flow_l_h,
+                ci.pump_head_kpa,
+                ci.worst_over_supply * 100.0
+            );
+        }
         const SHOWN: usize = 5;
         for w in c.warnings.iter().take(SHOWN) {
             out!(s, "    warning: {w}");

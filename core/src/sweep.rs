@@ -92,6 +92,10 @@ pub struct SweepSpec {
     /// Smallest water temperature drop an emitter may run at, K (default
     /// [`UPGRADE_DELTA_K`], 5 K).
     pub min_drop_k: f64,
+    /// Sweep the supply temperature of this pumped circuit (its mixing or
+    /// injection valve's set supply) and judge its rooms only; `None` = the
+    /// heat source's supply and every room.
+    pub circuit: Option<NodeId>,
 }
 
 impl Default for SweepSpec {
@@ -103,6 +107,7 @@ impl Default for SweepSpec {
             frozen_presettings: false,
             target_c: None,
             min_drop_k: UPGRADE_DELTA_K,
+            circuit: None,
         }
     }
 }
@@ -244,6 +249,64 @@ fn settings_at(p: &Project, supply_c: f64, min_drop_k: f64) -> Option<crate::pro
     out.problems().is_empty().then_some(out)
 }
 
+/// What a sweep varies: the source's supply, or one pumped circuit's (with
+/// the rooms it judges).
+#[derive(Debug, Clone)]
+enum Target {
+    Source,
+    Circuit { id: NodeId, rooms: BTreeSet<NodeId> },
+}
+
+/// The project with the swept supply at `supply_c` (its return keeping the
+/// design drop, above the warmest room), `None` when no valid settings
+/// follow.
+fn project_at(p: &Project, target: &Target, supply_c: f64, min_drop_k: f64) -> Option<Project> {
+    match target {
+        Target::Source => {
+            let mut q = p.clone();
+            q.settings = settings_at(p, supply_c, min_drop_k)?;
+            Some(q)
+        }
+        Target::Circuit { id, rooms } => {
+            let Some(NodeKind::Circuit(c)) = p.node(*id).map(|n| &n.kind) else { return None };
+            let dt = (c.supply_c - c.return_c).max(1.0);
+            let max_room = rooms
+                .iter()
+                .filter_map(|&n| {
+                    if let Some(NodeKind::Emitter(e)) = p.node(n).map(|n| &n.kind) { Some(e.room_c) } else { None }
+                })
+                .fold(f64::MIN, f64::max);
+            let return_c = (supply_c - dt).max(max_room + 0.5).min(supply_c - 0.5);
+            let mut c = c.clone();
+            c.supply_c = supply_c;
+            c.return_c = return_c;
+            let mut q = p.clone();
+            q.apply(Edit::SetNodeKind { id: *id, kind: NodeKind::Circuit(c) }).ok()?;
+            q.settings.min_water_drop_k = min_drop_k;
+            q.settings.problems().is_empty().then_some(q)
+        }
+    }
+}
+
+/// The rooms a pumped circuit heats: its own and those of the circuits it
+/// feeds.
+fn circuit_rooms(sol: &Solution, id: NodeId) -> BTreeSet<NodeId> {
+    let mut roots = vec![id];
+    let mut i = 0;
+    while i < roots.len() {
+        let r = roots[i];
+        roots.extend(sol.circuits.iter().filter(|c| c.parent == Some(r)).map(|c| c.root));
+        i += 1;
+    }
+    let emitters: BTreeSet<NodeId> = sol.emitters.iter().map(|e| e.id).collect();
+    sol.circuits
+        .iter()
+        .filter(|c| roots.contains(&c.root))
+        .flat_map(|c| c.nodes.iter().copied())
+        .filter(|n| emitters.contains(n))
+        .collect()
+}
+
 /// Run the supply-temperature sweep.
 ///
 /// # Errors
@@ -280,6 +343,20 @@ pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
             .map_or_else(String::new, crate::output::finding_line);
         return Err(SweepError(format!("the project does not design at its own temperatures — {first}")));
     }
+    let target = match spec.circuit {
+        None => Target::Source,
+        Some(id) => match p.node(id).map(|n| &n.kind) {
+            Some(NodeKind::Circuit(c)) if c.connection != crate::project::CircuitConnection::Direct => {
+                Target::Circuit { id, rooms: circuit_rooms(&base, id) }
+            }
+            Some(NodeKind::Circuit(_)) => {
+                return Err(SweepError(format!(
+                    "{id} is a pump-only circuit: it runs at its separator's temperature — sweep the heat source instead"
+                )));
+            }
+            _ => return Err(SweepError(format!("{id} is not a pumped circuit — give a circuit node's id"))),
+        },
+    };
     let existing = with_installed_pipes(&with_existing_emitters(p, &base), &base);
     // Frozen mode: presettings and pump set-point of the original design.
     let frozen = if spec.frozen_presettings {
@@ -295,7 +372,14 @@ pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
     let mut ws = Workspace::default();
     for i in 0..=n_steps {
         let t = spec.from_c - spec.step_k * i as f64;
-        points.push(point_at(frozen.as_ref().unwrap_or(&existing), t, frozen.is_some(), spec.min_drop_k, &mut ws));
+        points.push(point_at(
+            frozen.as_ref().unwrap_or(&existing),
+            &target,
+            t,
+            frozen.is_some(),
+            spec.min_drop_k,
+            &mut ws,
+        ));
     }
     // Lowest covering temperature: walking down, the last point before the
     // first short room or broken limit.
@@ -317,7 +401,7 @@ pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
         }
     }
     let target_c = spec.target_c.unwrap_or(spec.to_c);
-    let (upgrades, short_other) = upgrades_at(&existing, target_c, spec.min_drop_k);
+    let (upgrades, short_other) = upgrades_at(&existing, &target, target_c, spec.min_drop_k);
     let (limiting_emitter, limiting_constraint, limiting_item) = match limiting {
         Some((e, c, item)) => (Some(e), Some(c), item),
         None => (None, None, None),
@@ -335,9 +419,20 @@ pub fn sweep(p: &Project, spec: &SweepSpec) -> Result<SweepResult, SweepError> {
     })
 }
 
-fn point_at(p: &Project, supply_c: f64, frozen: bool, min_drop_k: f64, ws: &mut Workspace) -> SweepPoint {
-    let emitters = p.emitters();
-    let Some(settings) = settings_at(p, supply_c, min_drop_k) else {
+fn point_at(
+    p: &Project,
+    target: &Target,
+    supply_c: f64,
+    frozen: bool,
+    min_drop_k: f64,
+    ws: &mut Workspace,
+) -> SweepPoint {
+    let judged = |id: NodeId| match target {
+        Target::Source => true,
+        Target::Circuit { rooms, .. } => rooms.contains(&id),
+    };
+    let emitters: Vec<NodeId> = p.emitters().into_iter().filter(|&id| judged(id)).collect();
+    let Some(mut q) = project_at(p, target, supply_c, min_drop_k) else {
         return SweepPoint {
             supply_c,
             emitters: emitters
@@ -354,8 +449,6 @@ fn point_at(p: &Project, supply_c: f64, frozen: bool, min_drop_k: f64, ws: &mut 
             system: None,
         };
     };
-    let mut q = p.clone();
-    q.settings = settings;
     if frozen {
         q.settings.mode = Mode::Installed;
     }
@@ -363,6 +456,7 @@ fn point_at(p: &Project, supply_c: f64, frozen: bool, min_drop_k: f64, ws: &mut 
     let emitters = sol
         .emitters
         .iter()
+        .filter(|e| judged(e.id))
         .map(|e| {
             let (out, flow) = if frozen { (e.output_w, e.flow_l_h) } else { (e.design_output_w, e.design_flow_l_h) };
             let fraction = if e.load_w > 0.0 { (out / e.load_w).clamp(0.0, 1.0) } else { 1.0 };
@@ -437,11 +531,11 @@ fn system_constraint(p: &Project, sol: &Solution) -> Option<(LimitingConstraint,
 
 /// Radiators short at `target_c` and the nominal output each would need
 /// (EN 442 characteristic at θs = target, θr = target − the minimum drop).
-fn upgrades_at(existing: &Project, target_c: f64, min_drop_k: f64) -> (Vec<Upgrade>, Vec<String>) {
+fn upgrades_at(existing: &Project, target: &Target, target_c: f64, min_drop_k: f64) -> (Vec<Upgrade>, Vec<String>) {
     let mut ups = Vec::new();
     let mut other = Vec::new();
     let mut ws = Workspace::default();
-    let pt = point_at(existing, target_c, false, min_drop_k, &mut ws);
+    let pt = point_at(existing, target, target_c, false, min_drop_k, &mut ws);
     for ep in pt.emitters.iter().filter(|e| e.fraction < 1.0 - 1e-9) {
         let Some(node) = existing.nodes().find(|n| n.id.to_string() == ep.id) else { continue };
         let NodeKind::Emitter(em) = &node.kind else { continue };
@@ -492,6 +586,25 @@ pub struct PartLoadCase {
     pub max_valve_dp_kpa: f64,
     /// Findings of this case (noise risk, non-convergence).
     pub warnings: Vec<String>,
+    /// Per pumped circuit (empty without): its pump's operating point and
+    /// its rooms' worst over-supply. The pump control of the case is the
+    /// heat source's; each circuit's pump keeps its own.
+    pub circuits: Vec<PartLoadCircuit>,
+}
+
+/// One pumped circuit in a part-load case.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PartLoadCircuit {
+    /// The circuit's root (source or circuit node).
+    pub root: String,
+    /// Its name.
+    pub name: String,
+    /// Its pump's operating flow, l/h.
+    pub pump_flow_l_h: f64,
+    /// Its pump's operating head, kPa.
+    pub pump_head_kpa: f64,
+    /// The worst over-supply of its open rooms.
+    pub worst_over_supply: f64,
 }
 
 impl PartLoadCase {
@@ -628,8 +741,25 @@ fn part_load_cases(
                 valve_dp_kpa: dp / 1000.0,
             });
         }
+        let circuits = sol
+            .circuits
+            .iter()
+            .map(|c| PartLoadCircuit {
+                root: c.root.to_string(),
+                name: c.name.clone(),
+                pump_flow_l_h: c.pump.as_ref().map_or(0.0, |x| x.operating_flow_m3_h * 1000.0),
+                pump_head_kpa: c.pump.as_ref().map_or(0.0, |x| x.operating_head_pa / 1000.0),
+                worst_over_supply: sol
+                    .emitters
+                    .iter()
+                    .filter(|e| !e.closed && c.nodes.contains(&e.id))
+                    .map(|e| e.flow_deviation)
+                    .fold(0.0_f64, f64::max),
+            })
+            .collect();
         let pump = sol.pump.as_ref();
         out.push(PartLoadCase {
+            circuits,
             control: name.to_owned(),
             branch_controllers,
             pump_flow_l_h: pump.map_or(0.0, |x| x.operating_flow_m3_h * 1000.0),

@@ -7,7 +7,7 @@
 #![allow(clippy::unwrap_used)] // reason: a generator run by hand; a failure should stop it loudly
 
 use flowrise_core::emitters::floor::FloorZone;
-use flowrise_core::project::{CircuitConnection, DesignSettings, Edit, LevelId, Project, ReturnLayout};
+use flowrise_core::project::{CircuitConnection, DesignSettings, Edit, LevelId, NodeKind, Project, ReturnLayout};
 use flowrise_core::pump::PumpControl;
 use flowrise_tests::builder::{Builder, SMALL_PUMP};
 
@@ -152,6 +152,11 @@ pub fn house() -> Project {
     // Ground floor: the mixing circuit and its header of floor loops.
     let mix = b.circuit(g, 2.0, 3.0, "Floor heating, ground floor", CircuitConnection::MixingValve, (35.0, 30.0));
     b.run(tee, mix);
+    // A mixing valve sized for the circuit's flow (about 5 kPa through it).
+    if let Some(NodeKind::Circuit(mut c)) = b.p.node(mix).map(|n| n.kind.clone()) {
+        c.valve_kvs_m3_h = 1.6;
+        b.p.apply(Edit::SetNodeKind { id: mix, kind: NodeKind::Circuit(c) }).unwrap();
+    }
     let header = b.header(g, 4.5, 3.0, "Ground-floor header", 6);
     b.run(mix, header);
     for (name, load, room, area, zone, x, y) in [

@@ -181,3 +181,24 @@ fn a_pump_only_circuit_off_the_network_is_refused_with_a_finding() {
     assert!(sol.findings.iter().any(|x| x.kind == flowrise_core::design::FindingKind::CircuitConnectionInvalid
         && x.item == flowrise_core::design::ItemRef::Node(c)));
 }
+
+/// Part load works per circuit: each case reports every circuit's pump
+/// and its rooms' worst over-supply, and closing the floor loops changes the
+/// floor circuit's pump point but not the primary's heat balance rules.
+#[test]
+fn part_load_reports_each_circuit() {
+    let (p, m, _) = mixed_project();
+    let sol = solve(&p);
+    let loops: std::collections::BTreeSet<NodeId> =
+        sol.emitters.iter().filter(|e| circuit(&sol, m).nodes.contains(&e.id)).map(|e| e.id).take(2).collect();
+    let cases = flowrise_core::sweep::part_load(&p, &loops).unwrap();
+    assert_eq!(cases.len(), 3);
+    for c in &cases {
+        assert_eq!(c.circuits.len(), 2, "{}", c.control);
+        let floor = c.circuits.iter().find(|x| x.root == m.to_string()).unwrap();
+        let design = circuit(&sol, m).pump.as_ref().unwrap();
+        // Two of four loops shut: the circuit pump moves less water.
+        assert!(floor.pump_flow_l_h < design.operating_flow_m3_h * 1000.0, "{floor:?}");
+        assert!(floor.worst_over_supply > 0.0);
+    }
+}

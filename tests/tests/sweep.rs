@@ -23,6 +23,7 @@ fn spec() -> SweepSpec {
         frozen_presettings: false,
         target_c: Some(45.0),
         min_drop_k: flowrise_core::sweep::UPGRADE_DELTA_K,
+        circuit: None,
     }
 }
 
@@ -240,4 +241,40 @@ fn a_retrofit_radiator_holds_the_minimum_water_drop() {
     // With the old 1 K practical cap the same radiator reads as covered lower.
     let loose = sweep::sweep(&p, &SweepSpec { min_drop_k: 1.0, ..spec }).unwrap();
     assert!(loose.lowest_supply_c.unwrap() < lowest - 1.0, "{:?}", loose.lowest_supply_c);
+}
+
+/// The sweep works per pumped circuit: sweeping the floor-heating circuit of
+/// the house judges only its loops (the radiators upstairs keep the
+/// primary's 55 °C), and its lowest supply lies below the primary's own.
+#[test]
+fn a_sweep_per_circuit_varies_that_circuit_and_judges_its_rooms() {
+    let p = demo("house-floor-heating-circuit.ron");
+    let sol = flowrise_core::design::solve_project(
+        &p,
+        &flowrise_core::design::SolveOptions::default(),
+        &mut flowrise_core::design::Workspace::default(),
+    );
+    let floor = sol.circuits.iter().find(|c| c.connection.is_some()).unwrap();
+    let rooms: Vec<String> =
+        sol.emitters.iter().filter(|e| floor.nodes.contains(&e.id)).map(|e| e.id.to_string()).collect();
+    let circuit = SweepSpec { from_c: 45.0, to_c: 25.0, circuit: Some(floor.root), ..spec() };
+    let r = sweep::sweep(&p, &circuit).unwrap();
+    for pt in &r.points {
+        let ids: Vec<&String> = pt.emitters.iter().map(|e| &e.id).collect();
+        assert_eq!(ids.len(), rooms.len(), "{} °C: {ids:?}", pt.supply_c);
+        assert!(ids.iter().all(|id| rooms.contains(id)));
+    }
+    // At its design 35 °C its rooms are covered; far below they are not.
+    let at = |t: f64| r.points.iter().find(|x| (x.supply_c - t).abs() < 1e-9).unwrap();
+    assert!(at(35.0).emitters.iter().all(|e| e.fraction >= 1.0 - 1e-9));
+    assert!(at(25.0).emitters.iter().any(|e| e.fraction < 1.0));
+    let lowest = r.lowest_supply_c.unwrap();
+    assert!((25.0..=35.0).contains(&lowest), "{lowest}");
+    // The primary's sweep below the circuit's 35 °C: the circuit runs at the
+    // feed's temperature and its rooms are judged with the rest.
+    let primary = sweep::sweep(&p, &SweepSpec { from_c: 55.0, to_c: 30.0, ..spec() }).unwrap();
+    assert_eq!(primary.points[0].emitters.len(), sol.emitters.len());
+    // A junction is refused by name.
+    let bad = SweepSpec { circuit: Some(flowrise_core::project::NodeId(2)), ..spec() };
+    assert!(sweep::sweep(&p, &bad).unwrap_err().to_string().contains("N2"));
 }

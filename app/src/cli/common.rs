@@ -58,7 +58,7 @@ pub fn count_from_to(
 pub fn parse_node_id(text: &str) -> Result<NodeId, String> {
     let t = text.trim();
     let digits = t.strip_prefix('N').or_else(|| t.strip_prefix('n')).unwrap_or(t);
-    digits.parse::<u32>().map(NodeId).map_err(|_| format!("\"{t}\" is not an emitter id — give ids like N12 or 12"))
+    digits.parse::<u32>().map(NodeId).map_err(|_| format!("\"{t}\" is not a node id — give ids like N12 or 12"))
 }
 
 /// Load a project or print the error and return the exit code.

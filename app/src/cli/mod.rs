@@ -68,6 +68,9 @@ enum Command {
         /// Keep the design's presettings and pump set-point instead of re-balancing.
         #[arg(long)]
         frozen: bool,
+        /// Sweep this pumped circuit's supply (its node id, e.g. N3) and judge its rooms only.
+        #[arg(long, value_parser = common::parse_node_id)]
+        circuit: Option<flowrise_core::project::NodeId>,
         /// Print JSON.
         #[arg(long)]
         json: bool,
@@ -162,7 +165,7 @@ pub fn main() -> ExitCode {
         Some(Command::Generate(args)) => perf::generate(&args),
         Some(Command::ExportNetwork(args)) => perf::export_network(&args),
         Some(Command::BenchSolve(args)) => perf::bench_solve(&args),
-        Some(Command::Sweep { file, from, to, step, target, min_drop, frozen, json, csv }) => {
+        Some(Command::Sweep { file, from, to, step, target, min_drop, frozen, circuit, json, csv }) => {
             let spec = flowrise_core::sweep::SweepSpec {
                 from_c: from,
                 to_c: to,
@@ -170,6 +173,7 @@ pub fn main() -> ExitCode {
                 frozen_presettings: frozen,
                 target_c: target,
                 min_drop_k: min_drop,
+                circuit,
             };
             studies::run_sweep(&file, &spec, json, csv.as_deref())
         }

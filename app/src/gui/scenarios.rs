@@ -36,6 +36,7 @@ impl Default for ScenarioState {
                 frozen_presettings: false,
                 target_c: Some(45.0),
                 min_drop_k: flowrise_core::sweep::UPGRADE_DELTA_K,
+                circuit: None,
             },
             sweep: None,
             closed_fraction: 0.5,

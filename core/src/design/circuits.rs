@@ -119,30 +119,23 @@ fn plan(p: &Project, t: &Topology, out: &mut Vec<Finding>) -> Vec<Part> {
             (NodeKind::Circuit(c), _) => {
                 let feed_supply = parts[ci].supply_c;
                 let mut valid = true;
-                let mut invalid = |why: String| {
-                    out.push(findings::circuit_connection_invalid(down, &why));
-                    valid = false;
-                };
                 if c.connection == CircuitConnection::Direct && !from_separator {
-                    invalid(
+                    out.push(findings::circuit_connection_invalid(
+                        down,
                         "a pump-only circuit hangs from a hydraulic separator, this one from the network itself — \
-                         connect it to a separator or give it a mixing or injection valve"
-                            .to_owned(),
-                    );
-                }
-                let supply_c = if c.connection == CircuitConnection::Direct { feed_supply } else { c.supply_c };
-                if supply_c > feed_supply + 1e-9 {
-                    invalid(format!(
-                        "its supply {supply_c} °C is above the {feed_supply} °C it is fed with — a mixing or injection \
-                         valve only lowers the temperature; lower its supply or raise the feed's"
+                         connect it to a separator or give it a mixing or injection valve",
                     ));
+                    valid = false;
                 }
-                if c.return_c >= supply_c {
-                    invalid(format!(
-                        "its return {} °C is not below its supply {supply_c} °C — give it a lower return",
-                        c.return_c
-                    ));
+                // Fed colder than its set supply, the valve stands fully open
+                // and the circuit runs at the feed's temperature (its return
+                // at least the minimum water drop below).
+                let set_supply = if c.connection == CircuitConnection::Direct { feed_supply } else { c.supply_c };
+                if set_supply > feed_supply + 1e-9 {
+                    out.push(findings::circuit_fed_too_cold(down, set_supply, feed_supply));
                 }
+                let supply_c = set_supply.min(feed_supply);
+                let return_c = if c.return_c < supply_c { c.return_c } else { supply_c - s.min_water_drop_k.max(0.5) };
                 if from_separator {
                     // The run from the separator is part of the separator.
                 } else {
@@ -158,7 +151,7 @@ fn plan(p: &Project, t: &Topology, out: &mut Vec<Finding>) -> Vec<Part> {
                     runs: Vec::new(),
                     feeds: Vec::new(),
                     supply_c,
-                    return_c: c.return_c,
+                    return_c,
                     valid: valid && parts[ci].valid,
                 });
                 owner.insert(tr.down, Some(parts.len() - 1));

@@ -154,6 +154,9 @@ pub enum FindingKind {
     /// A hydraulic separator gets less primary flow than its circuits draw:
     /// their supply is mixed down.
     SeparatorFlowShort,
+    /// A mixing or injection circuit is set warmer than the water it is fed
+    /// with: it runs at the feed's temperature.
+    CircuitFedTooCold,
 }
 
 impl FindingKind {
@@ -175,7 +178,7 @@ impl FindingKind {
     ];
 
     /// Every kind, in declaration order.
-    pub const ALL: [Self; 56] = [
+    pub const ALL: [Self; 57] = [
         Self::NoSource,
         Self::SourceUnconnected,
         Self::LoopClosed,
@@ -232,6 +235,7 @@ impl FindingKind {
         Self::CircuitConnectionInvalid,
         Self::CircuitFeedShort,
         Self::SeparatorFlowShort,
+        Self::CircuitFedTooCold,
     ];
 
     /// Position in [`Self::ALL`] (an exhaustive match: a new kind does not
@@ -296,6 +300,7 @@ impl FindingKind {
             Self::CircuitConnectionInvalid => 53,
             Self::CircuitFeedShort => 54,
             Self::SeparatorFlowShort => 55,
+            Self::CircuitFedTooCold => 56,
         }
     }
 

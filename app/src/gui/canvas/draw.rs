@@ -421,10 +421,8 @@ fn node_label(s: &PlanScene<'_>, n: &Node, at: Pos2, must: bool, labels: &mut La
         }
         NodeKind::Header(h) => (h.name.clone(), 12.0),
         NodeKind::Source(src) => (src.name.clone(), 15.0),
-        NodeKind::Circuit(c) => {
-            let supply = s.sol.circuits.iter().find(|x| x.root == n.id).map_or(c.supply_c, |x| x.supply_c);
-            (format!("{}  {supply:.0}/{:.0} °C", c.name, c.return_c), 14.0)
-        }
+        // Its temperatures label the circuit's outline (draw_circuits).
+        NodeKind::Circuit(c) => (c.name.clone(), 14.0),
         NodeKind::Separator(x) => (x.name.clone(), 17.0),
         NodeKind::Junction => return,
     };

@@ -636,3 +636,15 @@ pub(crate) fn separator_flow_short(node: &Node, primary_l_h: f64, drawn_l_h: f64
         ),
     )
 }
+
+pub(crate) fn circuit_fed_too_cold(node: &Node, supply_c: f64, feed_c: f64) -> Finding {
+    Finding::warning(
+        FindingKind::CircuitFedTooCold,
+        ItemRef::Node(node.id),
+        format!(
+            "{}: set for a {supply_c} °C supply but fed at {feed_c} °C — its valve stands fully open and it runs at \
+             {feed_c} °C; lower its supply or raise the feed's",
+            node.label()
+        ),
+    )
+}
