@@ -25,6 +25,8 @@ export FLOWRISE_WINDOW_SIZE="$size" FLOWRISE_RECOVERY_DIR="$(mktemp -d)"
 xvfb-run -a -s "-screen 0 ${size}x24 -nolisten tcp" bash -c "
     '$bin' '$project' & pid=\$!
     sleep '$wait_s'
+    # The pointer off the window's tooltips, when xdotool is there.
+    command -v xdotool >/dev/null && xdotool mousemove 1 1 && sleep 1
     import -window root '$out'
     kill \$pid
     wait \$pid 2>/dev/null || true

@@ -228,7 +228,8 @@ fn cli_flowrise_file_opens_the_file() {
     }
     let name = flowrise_core::project::Project::load(&demo).unwrap().name;
     let script = format!(
-        "'{bin}' '{file}' & pid=$!; found=1; for i in $(seq 1 120); do \
+        "for i in $(seq 1 40); do xdotool getdisplaygeometry >/dev/null 2>&1 && break; sleep 0.25; done; \
+         '{bin}' '{file}' & pid=$!; found=1; for i in $(seq 1 120); do \
          if xdotool search --name 'flat-six-radiators.ron' >/dev/null 2>&1; then \
          xdotool getwindowname $(xdotool search --name 'flat-six-radiators.ron' | head -n1); found=0; break; fi; \
          sleep 0.5; done; kill $pid; wait $pid 2>/dev/null; exit $found",
@@ -243,6 +244,7 @@ fn cli_flowrise_file_opens_the_file() {
         .output()
         .unwrap();
     let title = String::from_utf8_lossy(&out.stdout);
+    eprintln!("window title under Xvfb: {}", title.trim());
     assert!(out.status.success(), "no window titled with the file: {title} {}", String::from_utf8_lossy(&out.stderr));
     assert!(title.contains(&name), "the title names the project: {title}");
     std::fs::remove_dir_all(&dir).ok();

@@ -683,7 +683,7 @@ fn the_in_window_dialog_saves_opens_and_exports_to_chosen_paths() {
     // Save (no file yet): the in-window dialog opens and says why.
     h.key_press_modifiers(Modifiers::COMMAND, Key::S);
     h.run();
-    assert!(h.query_by_label_contains("the desktop offers none here").is_some(), "the dialog says why it is used");
+    assert!(h.query_by_label_contains("offers no file dialog here").is_some(), "the dialog says why it is used");
     assert!(h.query_by_label_contains("D-Bus").is_some(), "… naming the reason");
     dialog_type(&mut h, "Save as (file name or path)", "plant");
     let saved = dir.join("plant.ron");
@@ -1141,7 +1141,7 @@ fn charts_and_the_pump_explain_themselves() {
     let mut h = harness(demo(FLAT));
     h.get_by_label("Index circuit profile").click();
     h.run();
-    for entry in ["supply leg", "return leg", "index valve", "pump (outlet and inlet)"] {
+    for entry in ["supply leg", "return leg", "index emitter and its valve", "pump outlet and inlet"] {
         assert!(h.query_all_by_label_contains(entry).next().is_some(), "profile legend: {entry}");
     }
     h.get_by_label("Supply temperature sweep").click();

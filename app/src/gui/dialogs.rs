@@ -139,7 +139,7 @@ pub fn detect(
     match (portal, zenity) {
         (Ok(()), _) => Availability::Desktop("the desktop portal's file dialog".to_owned()),
         (Err(why), Some(z)) => Availability::Desktop(format!("{} ({why})", z.display())),
-        (Err(why), None) => Availability::None(format!("{why}, and zenity is not installed")),
+        (Err(why), None) => Availability::None(format!("{why}; zenity is not installed")),
     }
 }
 
@@ -150,7 +150,7 @@ fn portal_file_chooser(bus_address: Option<String>, runtime_dir: Option<PathBuf>
         runtime_dir.map(|d| d.join("bus")).filter(|p| p.exists()).map(|p| format!("unix:path={}", p.display()))
     });
     let Some(address) = address else {
-        return Err("no D-Bus session bus (DBUS_SESSION_BUS_ADDRESS is not set)".to_owned());
+        return Err("no D-Bus session bus: DBUS_SESSION_BUS_ADDRESS is not set".to_owned());
     };
     zbus::block_on(async {
         let conn = zbus::connection::Builder::address(address.as_str())

@@ -385,7 +385,7 @@ fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
         ("Load W", 60.0),
         ("Output W", 68.0),
         ("Design l/h", 72.0),
-        ("Flow l/h", 62.0),
+        ("Flow l/h", 104.0),
         ("Return °C", 70.0),
         ("Presetting", 72.0),
         ("Lockshield", 72.0),
@@ -508,6 +508,28 @@ fn pump_chart(ui: &mut Ui, sol: &Solution, scenarios: &super::scenarios::Scenari
         });
 }
 
+/// How a key entry is drawn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Mark {
+    Line,
+    Dot,
+}
+
+/// One entry of a chart's key: a swatch and its words (also the
+/// accessible label).
+fn key(ui: &mut Ui, words: &str, colour: egui::Color32, mark: Mark) {
+    let (rect, _) = ui.allocate_exact_size(egui::vec2(18.0, 12.0), egui::Sense::hover());
+    match mark {
+        Mark::Line => {
+            ui.painter().line_segment([rect.left_center(), rect.right_center()], egui::Stroke::new(2.5, colour));
+        }
+        Mark::Dot => {
+            ui.painter().circle_filled(rect.center(), 4.5, colour);
+        }
+    }
+    ui.label(RichText::new(words).small());
+}
+
 /// One leg of the index-circuit profile, for its colour and legend entry.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Leg {
@@ -533,24 +555,41 @@ fn index_profile(sol: &Solution) -> Option<Profile> {
         return None;
     }
     let lengths: BTreeMap<usize, f64> = sol.pipes.iter().map(|p| (p.link, p.length_m)).collect();
-    let kpa = |n: usize| sol.node_pressures_pa.get(n).copied().unwrap_or(0.0) / 1000.0;
+    let p_at = |n: usize| sol.node_pressures_pa.get(n).copied().unwrap_or(0.0);
+    let z_at = |n: usize| sol.network.nodes.get(n).map_or(0.0, |x| x.elevation_m);
+    // Each link's loss with the static head taken out (what friction,
+    // fittings, valves and the emitter cost): p_from - p_to + rho g (z_from - z_to).
+    let losses: Vec<(usize, f64)> = sol
+        .index_path
+        .iter()
+        .filter_map(|&l| {
+            // The pump is the lift, drawn on its own.
+            if matches!(sol.roles.get(l), Some(LinkRole::Pump(_))) {
+                return None;
+            }
+            let link = sol.network.links.get(l)?;
+            let stat =
+                flowrise_core::network::solver::static_term_pa(link.density_kg_m3, z_at(link.from), z_at(link.to))
+                    .unwrap_or(0.0);
+            Some((l, (p_at(link.from) - p_at(link.to) + stat) / 1000.0))
+        })
+        .collect();
+    // From the pump outlet (all the losses still ahead) down to its inlet (0).
+    let mut y: f64 = losses.iter().map(|(_, d)| d).sum();
+    let mut x = 0.0;
+    let pump_out = [0.0, y];
     let mut segments: Vec<(Leg, Vec<[f64; 2]>)> = Vec::new();
     let mut valve = None;
-    let mut x = 0.0;
-    let mut first = None;
-    let mut last = [0.0, 0.0];
-    for &l in &sol.index_path {
-        let Some(link) = sol.network.links.get(l) else { continue };
+    for (l, loss) in losses {
         let leg = match sol.roles.get(l) {
             Some(LinkRole::Pipe { side: Side::Supply, .. }) => Leg::Supply,
             Some(LinkRole::Pipe { side: Side::Return, .. }) => Leg::Return,
             _ => Leg::Plant,
         };
-        let a = [x, kpa(link.from)];
+        let a = [x, y];
         x += lengths.get(&l).copied().unwrap_or(0.0);
-        let b = [x, kpa(link.to)];
-        first.get_or_insert(a);
-        last = b;
+        y -= loss;
+        let b = [x, y];
         if matches!(sol.roles.get(l), Some(LinkRole::EmitterValves(_))) {
             valve = Some((a, b));
         }
@@ -559,7 +598,7 @@ fn index_profile(sol: &Solution) -> Option<Profile> {
             _ => segments.push((leg, vec![a, b])),
         }
     }
-    Some(Profile { segments, valve, pump_out: first?, pump_in: last })
+    Some(Profile { segments, valve, pump_out, pump_in: [x, y] })
 }
 
 /// The index-circuit pressure profile: supply leg, return leg and the drops
@@ -571,17 +610,25 @@ fn profile_chart(ui: &mut Ui, sol: &Solution) {
     };
     ui.label(
         RichText::new(
-            "Pressure along the index circuit: out along the supply (red), through the index emitter, back along the \
-             return (blue); the pump lifts the pressure from its inlet back to its outlet.",
+            "What the pump's head still has to give along the index circuit: friction, fittings, valves (static head \
+             of risers taken out), from the pump outlet to its inlet.",
         )
         .small(),
     );
+    // The key above the chart: a legend inside it would cover the curve.
+    ui.horizontal_wrapped(|ui| {
+        key(ui, "supply leg", theme::SUPPLY, Mark::Line);
+        key(ui, "index emitter and its valve (diamonds)", theme::SELECT, Mark::Dot);
+        key(ui, "source and emitter body", theme::NO_RESULT, Mark::Line);
+        key(ui, "return leg", theme::RETURN, Mark::Line);
+        key(ui, "pump outlet and inlet (squares), its lift dashed", theme::ACCENT, Mark::Dot);
+    });
     Plot::new("index_profile")
-        .legend(Legend::default().position(egui_plot::Corner::RightTop))
         .x_axis_label("distance along the index circuit, m")
-        .y_axis_label("pressure, kPa (gauge)")
+        .y_axis_label("pressure, kPa")
         .y_axis_formatter(|mark, _| format!("{:.0}", mark.value))
-        .y_axis_min_width(40.0)
+        .y_axis_min_width(36.0)
+        .grid_spacing(egui::Rangef::new(6.0, 60.0))
         .include_y(0.0)
         .allow_scroll(false)
         .show(ui, |pu| {

@@ -120,8 +120,12 @@ pub struct InWindowDialog {
     message: Option<String>,
     /// Waiting for "Replace?" about this file.
     confirm_replace: Option<PathBuf>,
-    /// Select the whole field on the next frame (after a completion).
+    /// Focus the field on the next frame.
     focus_field: bool,
+    /// Put the field's selection here on the next frame (characters):
+    /// the proposed name selected, so typing replaces it; the cursor at
+    /// the end after a completion.
+    select: Option<(usize, usize)>,
 }
 
 fn home_dir() -> Option<PathBuf> {
@@ -183,6 +187,9 @@ impl InWindowDialog {
             std::env::current_dir().ok().or_else(home_dir).unwrap_or_else(|| PathBuf::from("/"))
         };
         let path_text = spec.file_name.clone().unwrap_or_default();
+        // The proposed name's stem selected (typing replaces it, the
+        // extension stays), as desktop dialogs do.
+        let stem_chars = Path::new(&path_text).file_stem().map_or(0, |s| s.to_string_lossy().chars().count());
         let mut d = Self {
             spec,
             why: why.into(),
@@ -194,6 +201,7 @@ impl InWindowDialog {
             message: None,
             confirm_replace: None,
             focus_field: true,
+            select: Some((0, stem_chars)),
         };
         d.enter(dir);
         d
@@ -253,8 +261,10 @@ impl InWindowDialog {
         let s = self.suggestions();
         let common = common_prefix(s.iter().map(String::as_str));
         if common.chars().count() > self.path_text.trim().chars().count() {
+            let n = common.chars().count();
             self.path_text = common;
             self.focus_field = true;
+            self.select = Some((n, n));
         }
     }
 
@@ -400,10 +410,16 @@ impl InWindowDialog {
                 .lock_focus(true)
                 .desired_width(ui.available_width())
                 .hint_text("name, or a path such as ~/projects/plant.ron");
-            let r = ui.add(edit).labelled_by(label.id);
+            let mut output = edit.show(ui);
+            let r = output.response.response.clone().labelled_by(label.id);
             if self.focus_field {
                 r.request_focus();
                 self.focus_field = false;
+            }
+            if let Some((a, b)) = self.select.take() {
+                let range = egui::text::CCursorRange::two(egui::text::CCursor::new(a), egui::text::CCursor::new(b));
+                output.state.cursor.set_char_range(Some(range));
+                output.state.store(ui.ctx(), r.id);
             }
             if r.changed() {
                 self.message = None;
@@ -424,6 +440,7 @@ impl InWindowDialog {
                     if ui.small_button(s).clicked() {
                         self.path_text.clone_from(s);
                         self.focus_field = true;
+                        self.select = Some((s.chars().count(), s.chars().count()));
                         if !s.ends_with('/') {
                             self.message = None;
                         }

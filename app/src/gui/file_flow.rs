@@ -93,9 +93,18 @@ pub struct Notice {
     pub retry: Option<FilePurpose>,
 }
 
-/// A file name from a project name (letters, digits and `-` kept).
+/// A file name from a project name: letters and digits kept, every run of
+/// other characters one `-` ("Rowan Court — block" gives "Rowan-Court-block").
 fn file_stem(name: &str) -> String {
-    let s: String = name.chars().map(|c| if c.is_alphanumeric() || c == '-' { c } else { '_' }).collect();
+    let mut s = String::new();
+    for c in name.chars() {
+        if c.is_alphanumeric() {
+            s.push(c);
+        } else if !s.is_empty() && !s.ends_with('-') {
+            s.push('-');
+        }
+    }
+    let s: String = s.trim_end_matches('-').chars().take(80).collect();
     if s.is_empty() { "project".to_owned() } else { s }
 }
 
@@ -369,7 +378,7 @@ impl FlowriseApp {
                 Availability::Desktop(_) => Stage::Desktop(Some(DesktopDialog::open(&spec))),
                 Availability::None(why) => Stage::InWindow(Box::new(InWindowDialog::new(
                     spec.clone(),
-                    format!("flowrise's own file dialog: the desktop offers none here ({why})."),
+                    format!("The desktop offers no file dialog here ({why}), so this is flowrise's own."),
                 ))),
             },
         };

@@ -93,7 +93,17 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
         (Some(c), None) => format!(" (limit: {})", c.words()),
         (None, _) => String::new(),
     };
-    let verdict = match (r.lowest_supply_c, &r.limiting_emitter) {
+    let rooms = room_lines(project, r);
+    // The room by its name and level, not only its id.
+    let named = |id: &String| {
+        r.points
+            .first()
+            .and_then(|p| p.emitters.iter().position(|e| &e.id == id))
+            .and_then(|i| rooms.get(i))
+            .map_or_else(|| id.clone(), |room| room.name.clone())
+    };
+    let limiting = r.limiting_emitter.as_ref().map(named);
+    let verdict = match (r.lowest_supply_c, &limiting) {
         (Some(t), Some(e)) => format!("Every room covered down to {t:.1} °C; {e} falls short first below it{why}."),
         (Some(t), None) => format!("Every room covered over the whole range, down to {t:.1} °C."),
         (None, Some(e)) => format!("{e} is short already at the top of the range{why}."),
@@ -109,7 +119,6 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
         .small()
         .weak(),
     );
-    let rooms = room_lines(project, r);
     ui.columns(2, |cols| {
         fraction_plot(&mut cols[0], r, &rooms);
         ScrollArea::vertical().id_salt("sweep_side").auto_shrink([false, false]).show(&mut cols[1], |ui| {
@@ -177,7 +186,7 @@ fn rooms_legend(ui: &mut Ui, rooms: &[RoomLine]) {
 fn fraction_plot(ui: &mut Ui, r: &SweepResult, rooms: &[RoomLine]) {
     Plot::new("sweep_plot")
         .x_axis_label("supply temperature, °C")
-        .y_axis_label("delivered share of load, %")
+        .y_axis_label("share of load, %")
         .height(ui.available_height().max(120.0))
         .show(ui, |plot| {
             for (i, room) in rooms.iter().enumerate() {

@@ -134,17 +134,33 @@ fn left(
         out.edit(settings_panel::mode_edit(project, sol, mode));
     }
     bar(ui);
+    // The label and its box stay together when the strip wraps: one
+    // allocation of their whole width, which the wrapping layout places.
     let mut colour_by = prefs.colour_by;
-    let label_id = ui.label("Colour by").id;
-    egui::ComboBox::from_id_salt("colour_by")
-        .selected_text(colour_by.name())
-        .show_ui(ui, |ui| {
-            for c in ColourBy::ALL {
-                ui.selectable_value(&mut colour_by, c, c.name());
-            }
-        })
-        .response
-        .labelled_by(label_id);
+    let combo_w = 130.0;
+    let label_w = ui.ctx().fonts_mut(|f| {
+        f.layout_no_wrap("Colour by".to_owned(), egui::TextStyle::Body.resolve(ui.style()), egui::Color32::BLACK)
+            .size()
+            .x
+    });
+    let group_w = label_w + ui.spacing().item_spacing.x * 2.0 + combo_w + ui.spacing().icon_width;
+    ui.allocate_ui_with_layout(
+        egui::vec2(group_w, ui.spacing().interact_size.y),
+        egui::Layout::left_to_right(egui::Align::Center),
+        |ui| {
+            let label_id = ui.label("Colour by").id;
+            egui::ComboBox::from_id_salt("colour_by")
+                .selected_text(colour_by.name())
+                .width(combo_w)
+                .show_ui(ui, |ui| {
+                    for c in ColourBy::ALL {
+                        ui.selectable_value(&mut colour_by, c, c.name());
+                    }
+                })
+                .response
+                .labelled_by(label_id);
+        },
+    );
     prefs.colour_by = colour_by;
     ui.toggle_value(&mut prefs.show_labels, "Labels").on_hover_text(Action::ToggleLabels.tooltip());
     let riser_tip = if m.has_risers {

@@ -103,10 +103,11 @@ pub fn draw(
     let x_min = xs.iter().copied().fold(f64::INFINITY, f64::min);
     let x_max = xs.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let x_span = (x_max - x_min).max(1.0);
-    let left = rect.left() + 60.0;
-    let right = rect.right() - 40.0;
+    // Risers right of the level names, their sizes right of them.
+    let left = rect.left() + (rect.width() * 0.55).min(115.0);
+    let right = (rect.right() - 45.0).max(left);
     let x_of = |x: f64| {
-        if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { 0.5 * (left + right) }
+        if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { right }
     };
     let limit = project.settings.gradient_limit_pa_m;
     for r in vertical {
@@ -120,7 +121,11 @@ pub fn draw(
         for y in [ya, yb] {
             painter.circle_filled(pos2(x, y), 3.5, theme::INK);
         }
-        if let Some(p) = sol.run_pipes(r.id).find(|p| p.side == Side::Supply) {
+        // The size where there is room for it (a riser a level high in a
+        // tall building is a few points long).
+        if (ya - yb).abs() >= 14.0
+            && let Some(p) = sol.run_pipes(r.id).find(|p| p.side == Side::Supply)
+        {
             painter.text(
                 pos2(x + 6.0, 0.5 * (ya + yb)),
                 Align2::LEFT_CENTER,

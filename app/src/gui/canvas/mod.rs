@@ -159,23 +159,27 @@ pub fn show(
     state.riser = None;
     if opts.show_elevation {
         let max = (ui.available_width() * 0.4).max(160.0);
-        egui::Panel::right("riser_strip").resizable(true).default_size(240.0).size_range(140.0..=max).show(ui, |ui| {
-            let rect = ui.available_rect_before_wrap();
-            let resp = ui.allocate_rect(rect, Sense::click());
-            let bands = elevation::draw(ui.painter(), rect, project, sol, opts.colour_by, state.level);
-            state.riser = Some((rect, bands.clone()));
-            let hovered = resp.hover_pos().and_then(|p| elevation::level_at(&bands, p.y));
-            if let Some(l) = hovered {
-                ui.ctx().set_cursor_icon(egui::CursorIcon::PointingHand);
-                let name = project.levels.iter().find(|x| x.id == l).map_or("", |x| x.name.as_str());
-                resp.clone().on_hover_text(format!("Show {name}"));
-            }
-            if resp.clicked()
-                && let Some(l) = resp.interact_pointer_pos().and_then(|p| elevation::level_at(&bands, p.y))
-            {
-                out.show_level = Some(l);
-            }
-        });
+        let default = (ui.available_width() * 0.3).clamp(150.0, 240.0);
+        egui::Panel::right("riser_strip").resizable(true).default_size(default).size_range(140.0..=max).show(
+            ui,
+            |ui| {
+                let rect = ui.available_rect_before_wrap();
+                let resp = ui.allocate_rect(rect, Sense::click());
+                let bands = elevation::draw(ui.painter(), rect, project, sol, opts.colour_by, state.level);
+                state.riser = Some((rect, bands.clone()));
+                let hovered = resp.hover_pos().and_then(|p| elevation::level_at(&bands, p.y));
+                if let Some(l) = hovered {
+                    ui.ctx().set_cursor_icon(egui::CursorIcon::PointingHand);
+                    let name = project.levels.iter().find(|x| x.id == l).map_or("", |x| x.name.as_str());
+                    resp.clone().on_hover_text(format!("Show {name}"));
+                }
+                if resp.clicked()
+                    && let Some(l) = resp.interact_pointer_pos().and_then(|p| elevation::level_at(&bands, p.y))
+                {
+                    out.show_level = Some(l);
+                }
+            },
+        );
     }
     let rect = ui.available_rect_before_wrap();
     let resp = ui.allocate_rect(rect, Sense::click_and_drag());
@@ -340,7 +344,9 @@ fn draw_draft(painter: &egui::Painter, project: &Project, state: &CanvasState) {
 fn level_tabs(ui: &mut Ui, project: &Project, state: &CanvasState, out: &mut Intents) {
     ui.horizontal(|ui| {
         ui.label("Level:");
-        let hint_w = (ui.available_width() * 0.3).clamp(0.0, 320.0);
+        // The tool's hint only where the tabs leave room for it.
+        let show_hint = ui.available_width() >= 760.0;
+        let hint_w = if show_hint { (ui.available_width() * 0.3).clamp(0.0, 320.0) } else { 0.0 };
         let tabs_w = (ui.available_width() - hint_w - 80.0).max(120.0);
         let mut levels: Vec<_> = project.levels.iter().collect();
         levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
@@ -355,30 +361,36 @@ fn level_tabs(ui: &mut Ui, project: &Project, state: &CanvasState, out: &mut Int
             changed
         });
         ui.allocate_ui(egui::vec2(tabs_w, ui.spacing().interact_size.y + 6.0), |ui| {
-            egui::ScrollArea::horizontal().id_salt("level_tabs_scroll").auto_shrink([false, true]).show(ui, |ui| {
-                ui.horizontal(|ui| {
-                    for l in levels {
-                        let count = counts.get(&l.id).copied().unwrap_or(0);
-                        let text = format!("{} ({count})", l.name);
-                        let r = ui
-                            .selectable_label(state.level == l.id, text)
-                            .on_hover_text(format!("elevation {:+.2} m, {count} items", l.elevation_m));
-                        if state.level == l.id && level_changed {
-                            r.scroll_to_me(Some(egui::Align::Center));
+            egui::ScrollArea::horizontal()
+                .id_salt("level_tabs_scroll")
+                .auto_shrink([false, true])
+                .scroll_bar_visibility(egui::scroll_area::ScrollBarVisibility::AlwaysVisible)
+                .show(ui, |ui| {
+                    ui.horizontal(|ui| {
+                        for l in levels {
+                            let count = counts.get(&l.id).copied().unwrap_or(0);
+                            let text = format!("{} ({count})", l.name);
+                            let r = ui
+                                .selectable_label(state.level == l.id, text)
+                                .on_hover_text(format!("elevation {:+.2} m, {count} items", l.elevation_m));
+                            if state.level == l.id && level_changed {
+                                r.scroll_to_me(Some(egui::Align::Center));
+                            }
+                            if r.clicked() {
+                                out.show_level = Some(l.id);
+                            }
                         }
-                        if r.clicked() {
-                            out.show_level = Some(l.id);
-                        }
-                    }
+                    });
                 });
-            });
         });
         if ui.button("+ Level").on_hover_text("Add a level 3 m above the highest one").clicked() {
             let top = project.levels.iter().map(|l| l.elevation_m).fold(0.0_f64, f64::max);
             let n = project.levels.len();
             out.edit(Edit::AddLevel { name: format!("Level {n}"), elevation_m: top + 3.0 });
         }
-        ui.separator();
-        ui.add(egui::Label::new(egui::RichText::new(state.tool.tooltip()).small().weak()).truncate());
+        if show_hint {
+            ui.separator();
+            ui.add(egui::Label::new(egui::RichText::new(state.tool.tooltip()).small().weak()).truncate());
+        }
     });
 }
