@@ -513,6 +513,7 @@ fn recovered_work_saves_to_its_own_file_from_any_folder() {
     demo(FLAT).save(&b.join("plan.ron")).unwrap();
     let b_before = std::fs::read(b.join("plan.ron")).unwrap();
     let cfg = RecoveryConfig { dir: root.join("recovery"), interval: Duration::from_secs(3600), every_edits: 1 };
+    let _cwd = CWD.lock().unwrap_or_else(std::sync::PoisonError::into_inner);
     let start_dir = std::env::current_dir().unwrap();
 
     // Session 1, started in folder a as `flowrise plan.ron`: draw, crash.

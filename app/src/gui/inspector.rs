@@ -30,9 +30,9 @@ pub fn show(
     out: &mut Intents,
 ) {
     // Both ways: a wide form scrolls sideways instead of widening the panel.
-    let width = ui.available_width();
-    ScrollArea::both().auto_shrink([false, false]).show(ui, |ui| {
-        ui.set_max_width(width);
+    ScrollArea::both().auto_shrink([false, false]).show_viewport(ui, |ui, viewport| {
+        // Text wraps at the visible width; only a wider form scrolls.
+        ui.set_max_width(viewport.width());
         match selection {
             Selection::None => {
                 level_summary(ui, project, sol, level);
@@ -675,10 +675,8 @@ fn node_results(ui: &mut Ui, project: &Project, sol: &Solution, id: NodeId) {
 fn control_words(c: PumpControl) -> String {
     match c {
         PumpControl::FixedSpeed => "fixed speed".to_owned(),
-        PumpControl::ConstantDp { setpoint_kpa } => format!("constant Δp, set-point {setpoint_kpa:.1} kPa"),
-        PumpControl::ProportionalDp { setpoint_kpa } => {
-            format!("proportional Δp, set-point {setpoint_kpa:.1} kPa at design flow")
-        }
+        PumpControl::ConstantDp { setpoint_kpa } => format!("constant Δp, {setpoint_kpa:.1} kPa"),
+        PumpControl::ProportionalDp { setpoint_kpa } => format!("proportional Δp, {setpoint_kpa:.1} kPa"),
     }
 }
 

@@ -138,9 +138,10 @@ struct RoomLine {
 }
 
 /// Distinct colours for up to a few dozen curves (hues a golden angle
-/// apart; dark enough to read on the light plot background).
+/// apart, kept away from the red of the room that falls short first; dark
+/// enough to read on the light plot background).
 fn curve_colour(i: usize) -> egui::Color32 {
-    let h = (i as f32 * 0.381_966).fract();
+    let h = 0.12 + 0.76 * (i as f32 * 0.381_966).fract();
     egui::Color32::from(egui::ecolor::Hsva::new(h, 0.8, 0.62, 1.0))
 }
 
