@@ -372,3 +372,58 @@ fn cli_unsized_vessel_is_null() {
     assert!(kinds.contains(&"vessel_not_sized"), "{kinds:?}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+fn on_path(program: &str) -> bool {
+    std::env::var_os("PATH").is_some_and(|p| std::env::split_paths(&p).any(|d| d.join(program).is_file()))
+}
+
+/// Issue 16: `flowrise FILE` opens FILE. Without a display the file is
+/// still read first: a missing or broken file is named with exit 2, a good
+/// one reaches the "no display" message. Under Xvfb (when `xvfb-run` and
+/// `xdotool` are installed) the real window opens with the project's name
+/// in its title.
+#[test]
+fn cli_flowrise_file_opens_the_file() {
+    let dir = scratch("open-file");
+    let missing = dir.join("missing.ron");
+    let out = flowrise().arg(&missing).env_remove("DISPLAY").env_remove("WAYLAND_DISPLAY").output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("missing.ron"), "{}", String::from_utf8_lossy(&out.stderr));
+    let broken = dir.join("broken.ron");
+    std::fs::write(&broken, "(format: \"flowrise-project\"").unwrap();
+    let out = flowrise().arg(&broken).env_remove("DISPLAY").env_remove("WAYLAND_DISPLAY").output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("broken.ron"));
+    let demo = repo_root().join("demo-projects/flat-six-radiators.ron");
+    let out = flowrise().arg(&demo).env_remove("DISPLAY").env_remove("WAYLAND_DISPLAY").output().unwrap();
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("no display found"), "the file loaded, then no display");
+
+    if !(on_path("xvfb-run") && on_path("xdotool")) {
+        eprintln!("notice: xvfb-run or xdotool missing; the real window is not opened");
+        std::fs::remove_dir_all(&dir).ok();
+        return;
+    }
+    let name = flowrise_core::project::Project::load(&demo).unwrap().name;
+    let script = format!(
+        "for i in $(seq 1 40); do xdotool getdisplaygeometry >/dev/null 2>&1 && break; sleep 0.25; done; \
+         '{bin}' '{file}' & pid=$!; found=1; for i in $(seq 1 120); do \
+         if xdotool search --name 'flat-six-radiators.ron' >/dev/null 2>&1; then \
+         xdotool getwindowname $(xdotool search --name 'flat-six-radiators.ron' | head -n1); found=0; break; fi; \
+         sleep 0.5; done; kill $pid; wait $pid 2>/dev/null; exit $found",
+        bin = env!("CARGO_BIN_EXE_flowrise"),
+        file = demo.display()
+    );
+    let out = std::process::Command::new("xvfb-run")
+        .args(["-a", "-s", "-screen 0 1280x800x24 -nolisten tcp", "bash", "-c", &script])
+        .env("XDG_CONFIG_HOME", &dir)
+        .env("XDG_DATA_HOME", &dir)
+        .env("FLOWRISE_RECOVERY_DIR", dir.join("recovery"))
+        .output()
+        .unwrap();
+    let title = String::from_utf8_lossy(&out.stdout);
+    eprintln!("window title under Xvfb: {}", title.trim());
+    assert!(out.status.success(), "no window titled with the file: {title} {}", String::from_utf8_lossy(&out.stderr));
+    assert!(title.contains(&name), "the title names the project: {title}");
+    std::fs::remove_dir_all(&dir).ok();
+}

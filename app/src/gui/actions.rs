@@ -38,12 +38,19 @@ pub enum Action {
     ExportParts,
     /// Export the design report as HTML.
     ExportReport,
+    /// Close the window (asks about unsaved changes).
+    Quit,
+    /// Look again for unsaved work of sessions that did not close cleanly.
+    RecoverWork,
+    /// Switch the preference for flowrise's own file dialog.
+    InWindowDialog,
 }
 
 impl Action {
     /// Actions that have a keyboard shortcut, in the order they are checked.
-    pub const WITH_KEYS: [Self; 16] = [
+    pub const WITH_KEYS: [Self; 17] = [
         Self::New,
+        Self::Quit,
         Self::Open,
         Self::SaveAs,
         Self::Save,
@@ -80,6 +87,9 @@ impl Action {
             Self::About => "About and cautions",
             Self::ExportParts => "Export parts list (CSV)…",
             Self::ExportReport => "Export design report (HTML)…",
+            Self::Quit => "Quit",
+            Self::RecoverWork => "Recover unsaved work…",
+            Self::InWindowDialog => "Use flowrise's own file dialog",
         }
     }
 
@@ -94,6 +104,7 @@ impl Action {
             Self::Save => cmd(Key::S),
             Self::SaveAs => Some(KeyboardShortcut::new(Modifiers::COMMAND | Modifiers::SHIFT, Key::S)),
             Self::Undo => cmd(Key::Z),
+            Self::Quit => cmd(Key::Q),
             Self::Redo => Some(KeyboardShortcut::new(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z)),
             Self::Tool(t) => plain(t.key()),
             Self::ToggleLabels => plain(Key::L),
@@ -103,7 +114,19 @@ impl Action {
             | Self::Settings
             | Self::About
             | Self::ExportParts
-            | Self::ExportReport => None,
+            | Self::ExportReport
+            | Self::RecoverWork
+            | Self::InWindowDialog => None,
+        }
+    }
+
+    /// A second shortcut for the same action (Ctrl+Y redoes as well as
+    /// Ctrl+Shift+Z).
+    #[must_use]
+    pub fn second_shortcut(self) -> Option<KeyboardShortcut> {
+        match self {
+            Self::Redo => Some(KeyboardShortcut::new(Modifiers::COMMAND, Key::Y)),
+            _ => None,
         }
     }
 
@@ -136,6 +159,11 @@ impl Action {
             Self::ExportReport => {
                 "Write the design report (drawings, tables, pump chart, parts, sources, cautions) as one HTML file"
             }
+            Self::Quit => "Close flowrise (asks first when there are unsaved changes)",
+            Self::RecoverWork => "Look again for unsaved work left by a flowrise that did not close cleanly",
+            Self::InWindowDialog => {
+                "Choose files in a dialog drawn by flowrise instead of the desktop's (used anyway when the desktop has none)"
+            }
         }
     }
 
@@ -155,7 +183,8 @@ mod tests {
 
     #[test]
     fn shortcuts_are_unique() {
-        let keys: Vec<_> = Action::WITH_KEYS.iter().filter_map(|a| a.shortcut()).collect();
+        let keys: Vec<_> =
+            Action::WITH_KEYS.iter().flat_map(|a| [a.shortcut(), a.second_shortcut()]).flatten().collect();
         for (i, a) in keys.iter().enumerate() {
             assert!(!keys[i + 1..].contains(a), "{a:?} is used twice");
         }

@@ -60,7 +60,7 @@ impl Tab {
 }
 
 /// Drawer state (transient).
-#[derive(Debug, Default)]
+#[derive(Debug)]
 pub struct DrawerState {
     /// Tab shown.
     pub tab: Tab,
@@ -71,6 +71,20 @@ pub struct DrawerState {
     parts: Option<((u64, u64), Result<flowrise_core::parts::PartsList, String>)>,
     /// Pumped circuit whose pump the pump tab shows (0: the primary).
     pub pump_circuit: usize,
+    /// Height of the closed drawer (its tab rows), measured each frame.
+    closed_height: f32,
+}
+
+impl Default for DrawerState {
+    fn default() -> Self {
+        Self {
+            tab: Tab::default(),
+            scenarios: super::scenarios::ScenarioState::default(),
+            parts: None,
+            pump_circuit: 0,
+            closed_height: 34.0,
+        }
+    }
 }
 
 impl DrawerState {
@@ -83,27 +97,89 @@ impl DrawerState {
     }
 }
 
-/// Show the drawer.
-pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, open: &mut bool, st: &mut DrawerState, out: &mut Intents) {
-    let panel = egui::Panel::bottom("drawer").resizable(*open).min_size(30.0);
-    let panel = if *open { panel.default_size(230.0) } else { panel.exact_size(30.0) };
-    panel.show(ui, |ui| {
-        ui.horizontal(|ui| {
-            let arrow = if *open { "Hide drawer" } else { "Show drawer" };
-            if ui.small_button(arrow).on_hover_text("Open or close the drawer").clicked() {
-                *open = !*open;
-            }
-            for t in Tab::ALL {
-                if ui.selectable_label(*open && st.tab == t, t.name()).clicked() {
-                    st.tab = t;
-                    *open = true;
+/// The drawer's preferences: open or closed, and its height.
+#[derive(Debug)]
+pub struct DrawerView<'a> {
+    /// Open.
+    pub open: &'a mut bool,
+    /// Height when open, points (kept across tabs and sessions).
+    pub height: &'a mut f32,
+}
+
+/// Smallest height of the open drawer, points.
+const MIN_OPEN_HEIGHT: f32 = 120.0;
+
+/// The resize grip along the drawer's top edge: always visible, drag to
+/// change the height.
+fn grip(ui: &mut Ui, height: &mut f32, max_h: f32) {
+    let (rect, resp) = ui.allocate_exact_size(egui::vec2(ui.available_width(), 9.0), egui::Sense::drag());
+    resp.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Splitter, true, "Drawer height"));
+    let resp = resp.on_hover_text("Drag to change the drawer's height");
+    if resp.hovered() || resp.dragged() {
+        ui.ctx().set_cursor_icon(egui::CursorIcon::ResizeVertical);
+    }
+    if resp.dragged() {
+        *height = (*height - resp.drag_delta().y).clamp(MIN_OPEN_HEIGHT, max_h);
+    }
+    let c = if resp.hovered() || resp.dragged() { theme::ACCENT } else { theme::NO_RESULT };
+    let mid = rect.center();
+    for dy in [-2.0, 1.0] {
+        ui.painter().line_segment(
+            [egui::pos2(mid.x - 22.0, mid.y + dy), egui::pos2(mid.x + 22.0, mid.y + dy)],
+            egui::Stroke::new(1.5, c),
+        );
+    }
+}
+
+/// Show the drawer. Its height is the user's (the grip), the same for every
+/// tab: a tab's contents scroll or fit, they never grow the drawer.
+pub fn show(
+    ui: &mut Ui,
+    project: &Project,
+    sol: &Solution,
+    view: &mut DrawerView<'_>,
+    st: &mut DrawerState,
+    out: &mut Intents,
+) {
+    let max_h = (ui.available_height() - 150.0).max(MIN_OPEN_HEIGHT);
+    let open = *view.open;
+    let h =
+        if open { view.height.clamp(MIN_OPEN_HEIGHT, max_h).max(st.closed_height + 60.0) } else { st.closed_height };
+    egui::Panel::bottom("drawer").resizable(false).exact_size(h).show(ui, |ui| {
+        let top = ui.max_rect().top();
+        if open {
+            grip(ui, view.height, max_h);
+        }
+        let tabs = ui
+            .horizontal_wrapped(|ui| {
+                let arrow = if open { "Hide drawer" } else { "Show drawer" };
+                if ui.small_button(arrow).on_hover_text("Open or close the drawer").clicked() {
+                    *view.open = !open;
                 }
-            }
-        });
-        if !*open {
+                for t in Tab::ALL {
+                    if ui.selectable_label(open && st.tab == t, t.name()).clicked() {
+                        st.tab = t;
+                        *view.open = true;
+                    }
+                }
+            })
+            .response
+            .rect;
+        let margin = egui::Frame::side_top_panel(ui.style()).total_margin().sum().y;
+        st.closed_height = (tabs.bottom() - top + margin + 2.0).max(24.0);
+        if !open {
             return;
         }
         ui.separator();
+        let rect = ui.available_rect_before_wrap();
+        let mut body = ui.new_child(
+            egui::UiBuilder::new()
+                .max_rect(rect)
+                .layout(egui::Layout::top_down(egui::Align::Min))
+                .id_salt("drawer_body"),
+        );
+        body.set_clip_rect(rect.intersect(ui.clip_rect()));
+        let ui = &mut body;
         match st.tab {
             Tab::Pipes => pipes_table(ui, project, sol, out),
             Tab::Emitters => emitters_table(ui, sol, out),
@@ -312,7 +388,7 @@ fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
         ("Load W", 60.0),
         ("Output W", 68.0),
         ("Design l/h", 72.0),
-        ("Flow l/h", 62.0),
+        ("Flow l/h", 104.0),
         ("Return °C", 70.0),
         ("Presetting", 72.0),
         ("Lockshield", 72.0),
@@ -462,35 +538,159 @@ fn pump_chart(
         });
 }
 
-fn profile_chart(ui: &mut Ui, sol: &Solution) {
+/// How a key entry is drawn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Mark {
+    Line,
+    Dot,
+}
+
+/// One entry of a chart's key: a swatch and its words (also the
+/// accessible label).
+fn key(ui: &mut Ui, words: &str, colour: egui::Color32, mark: Mark) {
+    let (rect, _) = ui.allocate_exact_size(egui::vec2(18.0, 12.0), egui::Sense::hover());
+    match mark {
+        Mark::Line => {
+            ui.painter().line_segment([rect.left_center(), rect.right_center()], egui::Stroke::new(2.5, colour));
+        }
+        Mark::Dot => {
+            ui.painter().circle_filled(rect.center(), 4.5, colour);
+        }
+    }
+    ui.label(RichText::new(words).small());
+}
+
+/// One leg of the index-circuit profile, for its colour and legend entry.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Leg {
+    Supply,
+    Return,
+    /// Source, emitter valves and body: drops with no pipe length.
+    Plant,
+}
+
+/// The index circuit as (distance m, pressure kPa) segments by leg, from
+/// the pump outlet to the pump inlet, with the index valve and the pump.
+struct Profile {
+    segments: Vec<(Leg, Vec<[f64; 2]>)>,
+    /// Pressure before and after the index emitter's valves.
+    valve: Option<([f64; 2], [f64; 2])>,
+    /// Pump outlet and inlet.
+    pump_out: [f64; 2],
+    pump_in: [f64; 2],
+}
+
+fn index_profile(sol: &Solution) -> Option<Profile> {
     if sol.index_path.is_empty() || sol.node_pressures_pa.is_empty() {
-        ui.label("No index circuit yet.");
-        return;
+        return None;
     }
     let lengths: BTreeMap<usize, f64> = sol.pipes.iter().map(|p| (p.link, p.length_m)).collect();
-    let mut pts = Vec::new();
-    let mut valves = Vec::new();
+    let p_at = |n: usize| sol.node_pressures_pa.get(n).copied().unwrap_or(0.0);
+    let z_at = |n: usize| sol.network.nodes.get(n).map_or(0.0, |x| x.elevation_m);
+    // Each link's loss with the static head taken out (what friction,
+    // fittings, valves and the emitter cost): p_from - p_to + rho g (z_from - z_to).
+    let losses: Vec<(usize, f64)> = sol
+        .index_path
+        .iter()
+        .filter_map(|&l| {
+            // The pump is the lift, drawn on its own.
+            if matches!(sol.roles.get(l), Some(LinkRole::Pump(_))) {
+                return None;
+            }
+            let link = sol.network.links.get(l)?;
+            let stat =
+                flowrise_core::network::solver::static_term_pa(link.density_kg_m3, z_at(link.from), z_at(link.to))
+                    .unwrap_or(0.0);
+            Some((l, (p_at(link.from) - p_at(link.to) + stat) / 1000.0))
+        })
+        .collect();
+    // From the pump outlet (all the losses still ahead) down to its inlet (0).
+    let mut y: f64 = losses.iter().map(|(_, d)| d).sum();
     let mut x = 0.0;
-    for (i, &l) in sol.index_path.iter().enumerate() {
-        let Some(link) = sol.network.links.get(l) else { continue };
-        let p_from = sol.node_pressures_pa.get(link.from).copied().unwrap_or(0.0) / 1000.0;
-        let p_to = sol.node_pressures_pa.get(link.to).copied().unwrap_or(0.0) / 1000.0;
-        if i == 0 {
-            pts.push([x, p_from]);
-        }
+    let pump_out = [0.0, y];
+    let mut segments: Vec<(Leg, Vec<[f64; 2]>)> = Vec::new();
+    let mut valve = None;
+    for (l, loss) in losses {
+        let leg = match sol.roles.get(l) {
+            Some(LinkRole::Pipe { side: Side::Supply, .. }) => Leg::Supply,
+            Some(LinkRole::Pipe { side: Side::Return, .. }) => Leg::Return,
+            _ => Leg::Plant,
+        };
+        let a = [x, y];
         x += lengths.get(&l).copied().unwrap_or(0.0);
-        pts.push([x, p_to]);
+        y -= loss;
+        let b = [x, y];
         if matches!(sol.roles.get(l), Some(LinkRole::EmitterValves(_))) {
-            valves.push([x, p_to]);
+            valve = Some((a, b));
+        }
+        match segments.last_mut() {
+            Some((g, pts)) if *g == leg => pts.push(b),
+            _ => segments.push((leg, vec![a, b])),
         }
     }
+    Some(Profile { segments, valve, pump_out, pump_in: [x, y] })
+}
+
+/// The index-circuit pressure profile: supply leg, return leg and the drops
+/// at the source and the emitter, with the pump and the index valve marked.
+fn profile_chart(ui: &mut Ui, sol: &Solution) {
+    let Some(p) = index_profile(sol) else {
+        ui.label("No index circuit yet — the network needs a source with a run to an emitter.");
+        return;
+    };
+    ui.label(
+        RichText::new(
+            "What the pump's head still has to give along the index circuit: friction, fittings, valves (static head \
+             of risers taken out), from the pump outlet to its inlet.",
+        )
+        .small(),
+    );
+    // The key above the chart: a legend inside it would cover the curve.
+    ui.horizontal_wrapped(|ui| {
+        key(ui, "supply leg", theme::SUPPLY, Mark::Line);
+        key(ui, "index emitter and its valve (diamonds)", theme::SELECT, Mark::Dot);
+        key(ui, "source and emitter body", theme::NO_RESULT, Mark::Line);
+        key(ui, "return leg", theme::RETURN, Mark::Line);
+        key(ui, "pump outlet and inlet (squares), its lift dashed", theme::ACCENT, Mark::Dot);
+    });
     Plot::new("index_profile")
-        .legend(Legend::default())
-        .x_axis_label("distance along the index circuit, m (supply out, return back)")
-        .y_axis_label("pressure kPa (gauge)")
+        .x_axis_label("distance along the index circuit, m")
+        .y_axis_label("pressure, kPa")
+        .y_axis_formatter(|mark, _| format!("{:.0}", mark.value))
+        .y_axis_min_width(36.0)
+        .grid_spacing(egui::Rangef::new(6.0, 60.0))
+        .include_y(0.0)
         .allow_scroll(false)
         .show(ui, |pu| {
-            pu.line(Line::new("pressure", pts).color(theme::ACCENT).width(2.0));
-            pu.points(Points::new("index emitter valve", valves).radius(5.0).color(theme::SELECT));
+            for (i, (leg, pts)) in p.segments.into_iter().enumerate() {
+                // allow_band off: a drop at one distance is a vertical line,
+                // not a shaded band.
+                let (name, colour) = match leg {
+                    Leg::Supply => ("supply leg", theme::SUPPLY),
+                    Leg::Return => ("return leg", theme::RETURN),
+                    Leg::Plant => ("source and emitter", theme::NO_RESULT),
+                };
+                pu.line(Line::new(name, pts).color(colour).width(2.0).allow_band(false).id(("index_profile_leg", i)));
+            }
+            pu.points(
+                Points::new("pump (outlet and inlet)", vec![p.pump_out, p.pump_in])
+                    .radius(6.0)
+                    .shape(egui_plot::MarkerShape::Square)
+                    .color(theme::ACCENT),
+            );
+            pu.line(
+                Line::new("pump lift", vec![p.pump_in, [p.pump_in[0], p.pump_out[1]]])
+                    .color(theme::ACCENT)
+                    .style(egui_plot::LineStyle::dashed_dense())
+                    .allow_band(false),
+            );
+            if let Some((a, b)) = p.valve {
+                pu.points(
+                    Points::new("index valve", vec![a, b])
+                        .radius(5.0)
+                        .shape(egui_plot::MarkerShape::Diamond)
+                        .color(theme::SELECT),
+                );
+            }
         });
 }

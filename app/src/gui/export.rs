@@ -2,12 +2,14 @@
 //! HTML, both straight from the solved design (nothing retyped), written
 //! atomically.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use flowrise_core::design::Solution;
 use flowrise_core::parts::{self, PartsList, PartsOptions};
 use flowrise_core::project::Project;
 use flowrise_core::report::Studies;
+
+use super::file_dialog::FileType;
 
 /// What to export.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -19,16 +21,28 @@ pub enum Kind {
 }
 
 impl Kind {
-    fn extension(self) -> &'static str {
+    /// The file type offered by the dialog.
+    #[must_use]
+    pub fn file_type(self) -> FileType {
         match self {
-            Self::Parts => "csv",
-            Self::Report => "html",
+            Self::Parts => FileType::CSV,
+            Self::Report => FileType::HTML,
         }
     }
-    fn filter(self) -> &'static str {
+    /// What it is, for people ("parts list").
+    #[must_use]
+    pub fn words(self) -> &'static str {
         match self {
-            Self::Parts => "parts list (CSV)",
-            Self::Report => "design report (HTML)",
+            Self::Parts => "parts list",
+            Self::Report => "design report",
+        }
+    }
+    /// Added to the project's name for the proposed file name.
+    #[must_use]
+    pub fn suffix(self) -> &'static str {
+        match self {
+            Self::Parts => "-parts",
+            Self::Report => "-report",
         }
     }
 }
@@ -63,19 +77,6 @@ pub fn text(kind: Kind, project: &Project, sol: &Solution, studies: Studies<'_>)
 pub fn write(kind: Kind, project: &Project, sol: &Solution, studies: Studies<'_>, path: &Path) -> Result<(), String> {
     let t = text(kind, project, sol, studies)?;
     flowrise_core::project::file::write_atomic(path, t.as_bytes()).map_err(|e| e.to_string())
-}
-
-/// Ask where to write an export (native dialog).
-#[must_use]
-pub fn pick_path(kind: Kind, name: &str) -> Option<PathBuf> {
-    let stem: String = name.chars().map(|c| if c.is_alphanumeric() || c == '-' { c } else { '_' }).collect();
-    let suffix = if kind == Kind::Parts { "-parts" } else { "-report" };
-    rfd::FileDialog::new()
-        .add_filter(kind.filter(), &[kind.extension()])
-        .set_title(format!("Export the {}", kind.filter()))
-        .set_file_name(format!("{stem}{suffix}.{}", kind.extension()))
-        .save_file()
-        .map(|p| if p.extension().is_none() { p.with_extension(kind.extension()) } else { p })
 }
 
 #[cfg(test)]

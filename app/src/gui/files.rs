@@ -1,11 +1,14 @@
-//! Files and the native window: open/save dialogs, the unsaved-changes
-//! prompt and starting eframe.
+//! The native window and the unsaved-changes prompt: starting eframe
+//! (with the file-dialog detection and the logger that catches a failed
+//! desktop dialog, see [`super::dialogs`]) and the question asked before
+//! the document is replaced.
 
 use std::path::PathBuf;
 
 use flowrise_core::project::Project;
 
 use super::FlowriseApp;
+use super::dialogs::{self, DIALOG_ENV};
 use super::prefs::{PREFS_KEY, Prefs};
 use super::recovery::{self, RecoveryConfig};
 use super::theme;
@@ -54,12 +57,13 @@ pub fn run_window(start: StartProject) -> Result<(), WindowError> {
         return Err(WindowError::NoDisplay);
     }
     recovery::install_crash_hook();
+    dialogs::install_logger();
     let recovery_dir =
         std::env::var_os("FLOWRISE_RECOVERY_DIR").map(PathBuf::from).or_else(RecoveryConfig::default_dir);
     let options = eframe::NativeOptions {
         viewport: egui::ViewportBuilder::default()
-            .with_inner_size([1440.0, 900.0])
-            .with_min_inner_size([900.0, 600.0])
+            .with_inner_size(window_size())
+            .with_min_inner_size([800.0, 560.0])
             .with_title("flowrise"),
         ..eframe::NativeOptions::default()
     };
@@ -69,6 +73,12 @@ pub fn run_window(start: StartProject) -> Result<(), WindowError> {
         Box::new(move |cc| {
             theme::apply_style(&cc.egui_ctx);
             let mut app = FlowriseApp::new(start.project, start.path);
+            let forced = std::env::var(DIALOG_ENV).is_ok_and(|v| v == "in-window");
+            app.set_dialog_probe(if forced {
+                dialogs::Probe::none(&format!("{DIALOG_ENV}=in-window is set"))
+            } else {
+                dialogs::Probe::start()
+            });
             if let Some(dir) = recovery_dir {
                 app = app.with_recovery(RecoveryConfig::in_dir(dir), true);
             }
@@ -81,22 +91,17 @@ pub fn run_window(start: StartProject) -> Result<(), WindowError> {
     .map_err(|e| WindowError::Platform(e.to_string()))
 }
 
-/// Ask for a project file to open.
-#[must_use]
-pub fn pick_open() -> Option<PathBuf> {
-    rfd::FileDialog::new().add_filter("flowrise project", &["ron"]).set_title("Open a flowrise project").pick_file()
-}
-
-/// Ask where to save.
-#[must_use]
-pub fn pick_save(name: &str) -> Option<PathBuf> {
-    let file: String = name.chars().map(|c| if c.is_alphanumeric() || c == '-' { c } else { '_' }).collect();
-    rfd::FileDialog::new()
-        .add_filter("flowrise project", &["ron"])
-        .set_title("Save the flowrise project")
-        .set_file_name(format!("{file}.ron"))
-        .save_file()
-        .map(|p| if p.extension().is_none() { p.with_extension("ron") } else { p })
+/// The window's first size: `FLOWRISE_WINDOW_SIZE=WIDTHxHEIGHT` (for
+/// screenshots at a given size), else 1440 × 900.
+fn window_size() -> [f32; 2] {
+    std::env::var("FLOWRISE_WINDOW_SIZE")
+        .ok()
+        .and_then(|v| {
+            let (w, h) = v.split_once('x')?;
+            Some([w.trim().parse::<f32>().ok()?, h.trim().parse::<f32>().ok()?])
+        })
+        .filter(|[w, h]| (320.0..=10_000.0).contains(w) && (240.0..=10_000.0).contains(h))
+        .unwrap_or([1440.0, 900.0])
 }
 
 /// Answer of the unsaved-changes prompt.
@@ -110,12 +115,14 @@ pub enum PromptChoice {
     Cancel,
 }
 
-/// The unsaved-changes prompt; returns the choice once made.
-pub fn unsaved_prompt(ctx: &egui::Context, name: &str) -> Option<PromptChoice> {
+/// The unsaved-changes prompt (`what`: "before closing", …); returns the
+/// choice once made.
+pub fn unsaved_prompt(ctx: &egui::Context, name: &str, what: &str) -> Option<PromptChoice> {
     let mut choice = None;
     egui::Modal::new(egui::Id::unique("unsaved_prompt")).show(ctx, |ui| {
+        ui.set_max_width(520.0);
         ui.heading("Unsaved changes");
-        ui.label(format!("“{name}” has changes that are not saved."));
+        ui.label(format!("“{name}” has changes that are not saved. Save them {what}?"));
         ui.horizontal(|ui| {
             if ui.button("Save").clicked() {
                 choice = Some(PromptChoice::Save);

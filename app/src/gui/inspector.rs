@@ -13,7 +13,8 @@ use flowrise_core::emitters::{
 };
 use flowrise_core::pipes;
 use flowrise_core::project::limits as L;
-use flowrise_core::project::{Edit, NodeId, NodeKind, PipeClass, Project, ReturnLayout, Run, RunId, RunProps};
+use flowrise_core::project::{Edit, LevelId, NodeId, NodeKind, PipeClass, Project, ReturnLayout, Run, RunId, RunProps};
+use flowrise_core::pump::PumpControl;
 use flowrise_core::valves::{self, ValveKind};
 
 use super::fields::FieldState;
@@ -27,12 +28,17 @@ pub fn show(
     project: &Project,
     sol: &Solution,
     selection: Selection,
+    level: LevelId,
     fs: &mut FieldState,
     out: &mut Intents,
 ) {
-    ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| {
+    // Both ways: a wide form scrolls sideways instead of widening the panel.
+    ScrollArea::both().auto_shrink([false, false]).show_viewport(ui, |ui, viewport| {
+        // Text wraps at the visible width; only a wider form scrolls.
+        ui.set_max_width(viewport.width());
         match selection {
             Selection::None => {
+                level_summary(ui, project, sol, level);
                 ui.heading("Project");
                 Grid::new("project_fields").num_columns(3).show(ui, |ui| {
                     if let Some(name) = fs.text(ui, "project.name", "Name", &project.name) {
@@ -80,6 +86,22 @@ pub fn show(
     });
 }
 
+/// The level shown on the canvas: what is on it (the inspector follows
+/// the level tabs).
+fn level_summary(ui: &mut Ui, project: &Project, sol: &Solution, level: LevelId) {
+    let Some(l) = project.levels.iter().find(|l| l.id == level) else { return };
+    ui.heading(format!("Level: {}", l.name));
+    let emitters: Vec<_> =
+        sol.emitters.iter().filter(|e| project.node(e.id).is_some_and(|n| n.level == level)).collect();
+    let load: f64 = emitters.iter().map(|e| e.load_w).sum();
+    Grid::new("level_summary").num_columns(2).striped(true).show(ui, |ui| {
+        row(ui, "Elevation", format!("{:+.2} m", l.elevation_m));
+        row(ui, "Emitters", emitters.len().to_string());
+        row(ui, "Heat load", format!("{:.2} kW", load / 1000.0));
+    });
+    ui.separator();
+}
+
 fn label_of(p: &Project, id: NodeId) -> String {
     p.node(id).map_or_else(|| id.to_string(), flowrise_core::project::Node::label)
 }
@@ -97,6 +119,7 @@ fn totals(ui: &mut Ui, sol: &Solution) {
                 "Operating point",
                 format!("{:.2} m³/h at {:.1} kPa", p.operating_flow_m3_h, p.operating_head_pa / 1000.0),
             );
+            row(ui, "Pump control", control_words(p.control));
         }
         if let Some(v) = &sol.vessel {
             let chosen = flowrise_core::parts::vessel_nominal_size_l(v.nominal_volume_l)
@@ -110,6 +133,9 @@ fn totals(ui: &mut Ui, sol: &Solution) {
             );
         }
     });
+    if let Some(p) = &sol.pump {
+        ui.add(egui::Label::new(RichText::new(pump_explanation(p)).small()).wrap());
+    }
 }
 
 fn row(ui: &mut Ui, name: &str, value: String) {
@@ -551,6 +577,8 @@ fn node_results(ui: &mut Ui, project: &Project, sol: &Solution, id: NodeId) {
                 row(ui, "Design flow", format!("{:.2} m³/h", p.design_flow_m3_h));
                 row(ui, "Index circuit Δp", format!("{:.1} kPa", p.index_dp_pa / 1000.0));
                 row(ui, "Duty head (+ margin)", format!("{:.1} kPa", p.duty_head_pa / 1000.0));
+                row(ui, "Control", control_words(p.control));
+                row(ui, "Head at design flow", format!("{:.1} kPa", p.available_pa / 1000.0));
                 row(
                     ui,
                     "Operating point",
@@ -564,6 +592,88 @@ fn node_results(ui: &mut Ui, project: &Project, sol: &Solution, id: NodeId) {
             row(ui, "Runs here", runs.iter().map(ToString::to_string).collect::<Vec<_>>().join(", "));
         }
     });
+    if matches!(project.node(id).map(|n| &n.kind), Some(NodeKind::Source(_)))
+        && let Some(p) = &sol.pump
+    {
+        ui.add(egui::Label::new(RichText::new(pump_explanation(p)).small()).wrap());
+    }
+}
+
+/// The pump's control in words, with its set-point.
+fn control_words(c: PumpControl) -> String {
+    match c {
+        PumpControl::FixedSpeed => "fixed speed".to_owned(),
+        PumpControl::ConstantDp { setpoint_kpa } => format!("constant Δp, {setpoint_kpa:.1} kPa"),
+        PumpControl::ProportionalDp { setpoint_kpa } => format!("proportional Δp, {setpoint_kpa:.1} kPa"),
+    }
+}
+
+/// Why the set-point, the duty head and the operating point agree or
+/// differ, in sentences.
+#[must_use]
+pub fn pump_explanation(p: &flowrise_core::design::PumpResult) -> String {
+    let kpa = |pa: f64| pa / 1000.0;
+    let (duty, avail, op) = (kpa(p.duty_head_pa), kpa(p.available_pa), kpa(p.operating_head_pa));
+    let close = |a: f64, b: f64| (a - b).abs() <= 0.05 * a.abs().max(b.abs()).max(0.1);
+    let flows_differ = !close(p.operating_flow_m3_h, p.design_flow_m3_h);
+    let mut s = String::from("The duty head is what the index circuit needs at the design flow, plus the margin. ");
+    if p.on_max_curve {
+        s.push_str(&format!(
+            "The pump cannot reach its set-point here: it runs on its maximum curve, giving {op:.1} kPa at \
+             {:.2} m³/h.",
+            p.operating_flow_m3_h
+        ));
+        return s;
+    }
+    match p.control {
+        PumpControl::FixedSpeed => s.push_str(&format!(
+            "At fixed speed the pump gives what its curve gives: {avail:.1} kPa at the design flow{}. The \
+             operating point is where its curve meets the network's resistance.",
+            if close(avail, duty) {
+                String::new()
+            } else {
+                format!(", {:.1} kPa more than the duty; the presettings take up the difference", avail - duty)
+            }
+        )),
+        PumpControl::ConstantDp { setpoint_kpa } => {
+            s.push_str(&format!("Under constant Δp the pump holds {setpoint_kpa:.1} kPa at every flow"));
+            if close(setpoint_kpa, duty) {
+                s.push_str(", the duty head.");
+            } else if setpoint_kpa > duty {
+                s.push_str(&format!(
+                    ", {:.1} kPa above the duty head; the presettings take up the difference.",
+                    setpoint_kpa - duty
+                ));
+            } else {
+                s.push_str(&format!(
+                    ", {:.1} kPa below the duty head: the index circuit gets less than it needs.",
+                    duty - setpoint_kpa
+                ));
+            }
+            if !close(op, setpoint_kpa) {
+                s.push_str(&format!(" The operating head is {op:.1} kPa."));
+            }
+        }
+        PumpControl::ProportionalDp { setpoint_kpa } => {
+            s.push_str(&format!(
+                "Under proportional Δp the pump gives {setpoint_kpa:.1} kPa at the design flow and less at lower \
+                 flows (half at no flow)"
+            ));
+            if close(setpoint_kpa, duty) {
+                s.push_str(", the duty head at the design flow.");
+            } else {
+                s.push_str(&format!(" (the duty head is {duty:.1} kPa)."));
+            }
+            if flows_differ {
+                s.push_str(&format!(
+                    " The network runs at {:.2} m³/h, not the design {:.2} m³/h, so the operating head is the \
+                     control law at that flow: {op:.1} kPa.",
+                    p.operating_flow_m3_h, p.design_flow_m3_h
+                ));
+            }
+        }
+    }
+    s
 }
 
 fn run_inputs(ui: &mut Ui, project: &Project, sol: &Solution, run: &Run, fs: &mut FieldState, out: &mut Intents) {

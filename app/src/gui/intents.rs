@@ -54,6 +54,21 @@ pub struct Status {
     pub text: String,
     /// Shown in red.
     pub error: bool,
+    /// A tool's hint or complaint: cleared when the tool changes.
+    pub hint: bool,
+}
+
+impl Status {
+    /// A note.
+    #[must_use]
+    pub fn note(text: impl Into<String>) -> Self {
+        Self { text: text.into(), error: false, hint: false }
+    }
+    /// An error.
+    #[must_use]
+    pub fn error(text: impl Into<String>) -> Self {
+        Self { text: text.into(), error: true, hint: false }
+    }
 }
 
 /// What the panels ask for during one frame; applied after drawing.
@@ -75,6 +90,10 @@ pub struct Intents {
     pub status: Option<Status>,
     /// Open this file (recent files menu).
     pub open_path: Option<PathBuf>,
+    /// Show this level on the canvas (riser view, level tabs).
+    pub show_level: Option<flowrise_core::project::LevelId>,
+    /// Show this drawer tab (the findings count in the top strip).
+    pub drawer_tab: Option<super::drawer::Tab>,
 }
 
 impl Intents {
@@ -106,12 +125,12 @@ impl Intents {
     pub fn edit_during_drag(&mut self, edit: Edit) {
         self.edits.push(QueuedEdit { edit, field: None, during_drag: true, select_new: SelectNew::Nothing });
     }
-    /// Show an error in the status line.
+    /// Show a tool's complaint in the status line (cleared with the tool).
     pub fn status_error(&mut self, text: impl Into<String>) {
-        self.status = Some(Status { text: text.into(), error: true });
+        self.status = Some(Status { text: text.into(), error: true, hint: true });
     }
-    /// Show a note in the status line.
+    /// Show a tool's hint in the status line (cleared with the tool).
     pub fn status_note(&mut self, text: impl Into<String>) {
-        self.status = Some(Status { text: text.into(), error: false });
+        self.status = Some(Status { text: text.into(), error: false, hint: true });
     }
 }

@@ -23,9 +23,12 @@
 
 pub mod actions;
 pub mod canvas;
+pub mod dialogs;
 mod drawer;
 mod export;
 mod fields;
+pub mod file_dialog;
+mod file_flow;
 mod files;
 mod findings_view;
 mod history;
@@ -58,14 +61,8 @@ pub use theme::ColourBy;
 /// The caution shown in the status line and the About window (the same words as the report and the README).
 pub const CAUTION: &str = "Design aid only — pressures, temperatures, materials and safety devices must follow local codes and licensed practice (EN 12828 or the local equivalent). Hot surfaces can burn.";
 
-/// Why the unsaved-changes prompt is open.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum Pending {
-    Close,
-    New,
-    NewFromOutline,
-    Open,
-}
+pub use drawer::Tab as DrawerTab;
+pub use file_flow::{FilePurpose, Notice, Pending};
 
 /// The flowrise application.
 #[derive(Debug)]
@@ -89,8 +86,21 @@ pub struct FlowriseApp {
     show_about: bool,
     show_settings: bool,
     outline: Option<outline::OutlineForm>,
+    /// What waits behind the unsaved-changes question.
     pending: Option<Pending>,
     allow_close: bool,
+    /// A file being chosen (desktop or in-window dialog).
+    file_request: Option<file_flow::FileRequest>,
+    /// Whether the desktop offers a file dialog.
+    probe: dialogs::Probe,
+    /// A failure or a finished export waiting for an answer.
+    notice: Option<Notice>,
+    /// What waits for the save behind the conflict question.
+    conflict_then: Option<Pending>,
+    /// The window title last sent.
+    title: String,
+    /// Height of the top strip, measured on the last frame.
+    top_height: f32,
     /// The document's file as this session last read or wrote it.
     disk_stamp: Option<recovery::FileStamp>,
     /// Recovered work whose file changed or moved since: saving over it asks.
@@ -129,6 +139,12 @@ impl FlowriseApp {
             outline: None,
             pending: None,
             allow_close: false,
+            file_request: None,
+            probe: dialogs::Probe::none("no desktop dialog was looked for"),
+            notice: None,
+            conflict_then: None,
+            title: String::new(),
+            top_height: 32.0,
             autosave: None,
             orphans: Vec::new(),
         }
@@ -139,13 +155,14 @@ impl FlowriseApp {
     /// frame). A folder that cannot be used is reported in the status line.
     #[must_use]
     pub fn with_recovery(mut self, cfg: recovery::RecoveryConfig, background: bool) -> Self {
+        recovery::remove_stale_locks(&cfg.dir);
         self.orphans = recovery::find_orphans(&cfg.dir);
         match recovery::Autosaver::start(cfg, self.project.revision) {
             Ok(mut a) => {
                 a.background = background;
                 self.autosave = Some(a);
             }
-            Err(e) => self.status = Some(Status { text: format!("no autosave: {e}"), error: true }),
+            Err(e) => self.status = Some(Status::error(format!("no autosave: {e}"))),
         }
         self
     }
@@ -211,14 +228,11 @@ impl FlowriseApp {
                     }
                     (None, _) => String::new(),
                 };
-                self.status = Some(Status {
-                    text: format!("recovered “{}”{belongs} — save it to keep it", self.project.name),
-                    error: self.save_conflict.is_some(),
-                });
+                let text = format!("recovered “{}”{belongs} — save it to keep it", self.project.name);
+                self.status = Some(if self.save_conflict.is_some() { Status::error(text) } else { Status::note(text) });
             }
             Err(e) => {
-                self.status =
-                    Some(Status { text: format!("cannot recover {}: {e}", o.project_path.display()), error: true });
+                self.status = Some(Status::error(format!("cannot recover {}: {e}", o.project_path.display())));
                 self.orphans.insert(i, o);
             }
         }
@@ -250,6 +264,12 @@ impl FlowriseApp {
     #[must_use]
     pub fn path(&self) -> Option<&std::path::Path> {
         self.path.as_deref()
+    }
+
+    /// The status line's message, if any.
+    #[must_use]
+    pub fn status(&self) -> Option<&Status> {
+        self.status.as_ref()
     }
 
     /// The current selection.
@@ -318,7 +338,13 @@ impl FlowriseApp {
         let stale = sol.revision != self.project.revision;
 
         let recent = self.prefs.recent.clone();
-        egui::Panel::top("top_strip").show(ui, |ui| {
+        let has_risers = self.project.runs().any(|r| self.project.is_vertical(r));
+        let width = ui.available_width();
+        // Sized to its contents of the last frame: it wraps onto a second
+        // row in a narrow window and shrinks back in a wide one.
+        let top_height = self.top_height;
+        let mut used = top_height;
+        egui::Panel::top("top_strip").exact_size(top_height).show(ui, |ui| {
             let model = top_bar::TopBar {
                 name: &self.project.name,
                 dirty: self.is_dirty(),
@@ -328,30 +354,69 @@ impl FlowriseApp {
                 stale,
                 solve_ms: self.solver.last_ms(),
                 recent: &recent,
+                has_risers,
             };
-            top_bar::show(ui, &model, &self.project, &sol, &mut self.prefs, &mut out);
+            used = top_bar::show(ui, &model, &self.project, &sol, &mut self.prefs, &mut out);
         });
+        let margin = egui::Frame::side_top_panel(ui.style()).total_margin().sum().y;
+        let wanted = (used + margin).max(24.0).ceil();
+        if (wanted - self.top_height).abs() > 0.5 {
+            self.top_height = wanted;
+            ctx.request_repaint();
+        }
         egui::Panel::bottom("status_line").show(ui, |ui| status_line(ui, self.status.as_ref()));
         egui::Panel::left("tool_column").resizable(false).exact_size(112.0).show(ui, |ui| {
             tool_column::show(ui, &mut self.canvas.tool, &mut self.canvas.header_outlets, &mut out);
         });
-        egui::Panel::right("inspector").resizable(true).default_size(330.0).show(ui, |ui| {
-            inspector::show(ui, &self.project, &sol, self.selection, &mut self.inspector, &mut out);
-        });
-        drawer::show(ui, &self.project, &sol, &mut self.prefs.drawer_open, &mut self.drawer, &mut out);
+        // The inspector never widens itself to its contents (they scroll),
+        // so opening a section cannot squeeze the plan.
+        let inspector_max = (width * 0.4).max(280.0);
+        egui::Panel::right("inspector").resizable(true).default_size(330.0).size_range(260.0..=inspector_max).show(
+            ui,
+            |ui| {
+                inspector::show(
+                    ui,
+                    &self.project,
+                    &sol,
+                    self.selection,
+                    self.canvas.level,
+                    &mut self.inspector,
+                    &mut out,
+                );
+            },
+        );
+        let mut drawer_view =
+            drawer::DrawerView { open: &mut self.prefs.drawer_open, height: &mut self.prefs.drawer_height };
+        drawer::show(ui, &self.project, &sol, &mut drawer_view, &mut self.drawer, &mut out);
         egui::CentralPanel::no_frame().show(ui, |ui| {
             let opts = canvas::CanvasOptions {
                 colour_by: self.prefs.colour_by,
                 show_labels: self.prefs.show_labels,
-                show_elevation: self.prefs.show_elevation,
+                show_elevation: self.prefs.show_elevation && has_risers,
             };
             canvas::show(ui, &self.project, &sol, opts, &mut self.canvas, self.selection, &mut out);
         });
         self.windows(&ctx, &mut out);
         self.apply(out, &ctx);
         self.autosave_tick(&ctx);
+        self.update_title(&ctx);
         if busy {
             ctx.request_repaint_after(std::time::Duration::from_millis(30));
+        }
+    }
+
+    /// The window title: the project, its file and the unsaved mark.
+    fn update_title(&mut self, ctx: &egui::Context) {
+        let file = self
+            .path
+            .as_deref()
+            .and_then(std::path::Path::file_name)
+            .map_or_else(|| "not saved to a file".to_owned(), |f| f.to_string_lossy().into_owned());
+        let mark = if self.is_dirty() { " •" } else { "" };
+        let title = format!("{}{mark} ({file}) — flowrise", self.project.name);
+        if title != self.title {
+            ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
+            self.title = title;
         }
     }
 
@@ -364,13 +429,14 @@ impl FlowriseApp {
             ctx.request_repaint_after(wait);
         }
         if let Some(e) = a.error.take() {
-            self.status = Some(Status { text: e, error: true });
+            self.status = Some(Status::error(e));
         }
     }
 
     /// The recovery offer, while there is work to offer.
     fn recovery_offer(&mut self, ctx: &egui::Context) {
-        if self.orphans.is_empty() {
+        // Hidden while the unsaved-changes question about it is open.
+        if self.orphans.is_empty() || self.pending.is_some() {
             return;
         }
         enum Choice {
@@ -417,11 +483,7 @@ impl FlowriseApp {
             }
         });
         match choice {
-            Some(Choice::Recover(i)) => {
-                self.recover(i);
-                // One document at a time: the rest stay for the next start.
-                self.orphans.clear();
-            }
+            Some(Choice::Recover(i)) => self.replace_or_ask(Pending::Recover(i), ctx),
             Some(Choice::Discard(i)) => self.discard_orphan(i),
             Some(Choice::Later) => self.orphans.clear(),
             None => {}
@@ -431,6 +493,9 @@ impl FlowriseApp {
     fn windows(&mut self, ctx: &egui::Context, out: &mut Intents) {
         self.recovery_offer(ctx);
         self.conflict_question(ctx);
+        self.unsaved_question(ctx);
+        self.file_request_frame(ctx);
+        self.notice_window(ctx);
         if self.show_about {
             egui::Window::new("About flowrise").open(&mut self.show_about).collapsible(false).show(ctx, |ui| {
                 ui.heading("flowrise");
@@ -462,44 +527,14 @@ impl FlowriseApp {
                     p.name = format!("New building, {} floors", p.levels.len());
                     self.replace_project(*p, None);
                     self.outline = None;
-                    self.status = Some(Status {
-                        text: format!("new project with {n} emitters — replace the room loads with your own"),
-                        error: false,
-                    });
+                    self.status = Some(Status::note(format!(
+                        "new project with {n} emitters — replace the room loads with your own"
+                    )));
                 }
                 outline::OutlineOutcome::Cancelled => self.outline = None,
                 outline::OutlineOutcome::Open if !open => self.outline = None,
                 outline::OutlineOutcome::Open => {}
             }
-        }
-        if let Some(pending) = self.pending {
-            let choice = files::unsaved_prompt(ctx, &self.project.name);
-            match choice {
-                // A save that fails or is cancelled keeps the prompt open.
-                Some(files::PromptChoice::Save) if self.save(false) => {
-                    self.pending = None;
-                    self.after_prompt(pending, ctx);
-                }
-                Some(files::PromptChoice::Discard) => {
-                    self.pending = None;
-                    self.saved = self.project.clone();
-                    self.after_prompt(pending, ctx);
-                }
-                Some(files::PromptChoice::Cancel) => self.pending = None,
-                Some(files::PromptChoice::Save) | None => {}
-            }
-        }
-    }
-
-    fn after_prompt(&mut self, pending: Pending, ctx: &egui::Context) {
-        match pending {
-            Pending::Close => {
-                self.allow_close = true;
-                ctx.send_viewport_cmd(egui::ViewportCommand::Close);
-            }
-            Pending::New => self.replace_project(Project::new("Untitled project"), None),
-            Pending::NewFromOutline => self.outline = Some(outline::OutlineForm::default()),
-            Pending::Open => self.open_dialog(),
         }
     }
 
@@ -512,13 +547,19 @@ impl FlowriseApp {
 
     fn handle_keys(&mut self, ctx: &egui::Context, out: &mut Intents) {
         let typing = ctx.egui_wants_keyboard_input();
+        // No shortcuts under a dialog or question: it has the keyboard.
+        if self.file_request.is_some() || self.pending.is_some() || self.notice.is_some() {
+            return;
+        }
         for a in Action::WITH_KEYS {
             if typing && a.is_plain_key() {
                 continue;
             }
-            if let Some(sc) = a.shortcut()
-                && ctx.input_mut(|i| i.consume_shortcut(&sc))
-            {
+            let pressed = [a.shortcut(), a.second_shortcut()]
+                .into_iter()
+                .flatten()
+                .any(|sc| ctx.input_mut(|i| i.consume_shortcut(&sc)));
+            if pressed {
                 out.actions.push(a);
             }
         }
@@ -574,7 +615,7 @@ impl FlowriseApp {
                 }
                 Err(e) => match &q.field {
                     Some(f) => self.inspector.set_error(f, e.to_string()),
-                    None => self.status = Some(Status { text: e.to_string(), error: true }),
+                    None => self.status = Some(Status::error(e.to_string())),
                 },
             }
         }
@@ -588,14 +629,14 @@ impl FlowriseApp {
             self.centre_on(item);
         }
         if let Some(path) = out.open_path {
-            if self.is_dirty() {
-                self.status = Some(Status {
-                    text: "save or undo your changes before opening another file".to_owned(),
-                    error: true,
-                });
-            } else {
-                self.open_path(path);
-            }
+            self.replace_or_ask(Pending::OpenRecent(path), ctx);
+        }
+        if let Some(level) = out.show_level {
+            self.show_level(level);
+        }
+        if let Some(tab) = out.drawer_tab {
+            self.drawer.tab = tab;
+            self.prefs.drawer_open = true;
         }
         for a in out.actions {
             self.run_action(a, ctx);
@@ -636,62 +677,31 @@ impl FlowriseApp {
         }
     }
 
-    /// Export the parts list or the report of the current design (asks
-    /// where with a native dialog).
-    fn export(&mut self, kind: export::Kind) {
-        let sol = self.solution().clone();
-        // The report carries the sweep and part-load results shown in the
-        // drawer when they belong to this revision of the project.
-        let sc = &self.drawer.scenarios;
-        let rev = self.project.revision;
-        let sweep = match &sc.sweep {
-            Some((r, Ok(s))) if *r == rev => Some(s.clone()),
-            _ => None,
-        };
-        let part_load = match &sc.part_load {
-            Some((r, Ok(c))) if *r == rev => Some(c.clone()),
-            _ => None,
-        };
-        let closed = flowrise_core::sweep::random_closed_set(&self.project, sc.closed_fraction, sc.seed).len();
-        let studies = flowrise_core::report::Studies {
-            sweep: sweep.as_ref(),
-            part_load: part_load.as_ref().map(|c| (c.as_slice(), closed)),
-        };
-        if let Err(e) = export::text(kind, &self.project, &sol, studies) {
-            self.status = Some(Status { text: format!("export: {e}"), error: true });
-            return;
-        }
-        let Some(path) = export::pick_path(kind, &self.project.name) else { return };
-        match export::write(kind, &self.project, &sol, studies, &path) {
-            Ok(()) => self.status = Some(Status { text: format!("wrote {}", path.display()), error: false }),
-            Err(e) => self.status = Some(Status { text: format!("export: {e}"), error: true }),
-        }
-    }
-
     /// Carry out an action.
     pub fn run_action(&mut self, a: Action, ctx: &egui::Context) {
         match a {
-            Action::New | Action::NewFromOutline | Action::Open if self.is_dirty() => {
-                self.pending = Some(match a {
-                    Action::New => Pending::New,
-                    Action::NewFromOutline => Pending::NewFromOutline,
-                    _ => Pending::Open,
-                });
+            Action::New => self.replace_or_ask(Pending::New, ctx),
+            Action::NewFromOutline => self.replace_or_ask(Pending::NewFromOutline, ctx),
+            Action::Open => self.replace_or_ask(Pending::Open, ctx),
+            Action::Quit => self.replace_or_ask(Pending::Close, ctx),
+            Action::RecoverWork => self.look_for_work_to_recover(),
+            Action::InWindowDialog => {
+                self.prefs.file_dialog = match self.prefs.file_dialog {
+                    dialogs::DialogChoice::Automatic => dialogs::DialogChoice::InWindow,
+                    dialogs::DialogChoice::InWindow => dialogs::DialogChoice::Automatic,
+                };
             }
-            Action::New => self.replace_project(Project::new("Untitled project"), None),
-            Action::NewFromOutline => self.outline = Some(outline::OutlineForm::default()),
-            Action::Open => self.open_dialog(),
-            Action::Save => {
-                self.save(false);
-            }
-            Action::SaveAs => {
-                self.save(true);
-            }
+            Action::Save => self.save(false, None, ctx),
+            Action::SaveAs => self.save(true, None, ctx),
             Action::Undo => self.undo(),
             Action::Redo => self.redo(),
             Action::Tool(t) => {
                 self.canvas.tool = t;
                 self.canvas.cancel();
+                // A hint belongs to the tool it was given for.
+                if self.status.as_ref().is_some_and(|s| s.hint) {
+                    self.status = None;
+                }
             }
             Action::ToggleLabels => self.prefs.show_labels = !self.prefs.show_labels,
             Action::FitView => self.canvas.fit_pending = true,
@@ -726,53 +736,36 @@ impl FlowriseApp {
         }
     }
 
-    fn open_dialog(&mut self) {
-        if let Some(path) = files::pick_open() {
-            self.open_path(path);
+    /// Show a level on the canvas (level tabs, riser view). A selection on
+    /// another level is dropped, so the inspector shows what is on screen.
+    pub fn show_level(&mut self, level: flowrise_core::project::LevelId) {
+        if self.canvas.level == level {
+            return;
         }
-    }
-
-    /// Open a project file (errors go to the status line).
-    pub fn open_path(&mut self, path: PathBuf) {
-        match Project::load(&path) {
-            Ok(p) => {
-                let path = recovery::absolute_path(&path);
-                self.remember(&path);
-                self.replace_project(p, Some(path));
-            }
-            Err(e) => self.status = Some(Status { text: format!("cannot open {}: {e}", path.display()), error: true }),
-        }
-    }
-
-    /// Save; `as_new` asks for a file. Returns true when saved. Saving
-    /// recovered work over a file that changed or moved since asks first
-    /// ([`Self::save_conflict`]).
-    fn save(&mut self, as_new: bool) -> bool {
-        if !as_new && self.path.is_some() && self.save_conflict.is_some() {
-            self.conflict_prompt = true;
-            return false;
-        }
-        let path = match (&self.path, as_new) {
-            (Some(p), false) => p.clone(),
-            _ => match files::pick_save(&self.project.name) {
-                Some(p) => recovery::absolute_path(&p),
-                None => return false,
-            },
+        self.canvas.level = level;
+        self.canvas.draft = None;
+        self.canvas.fit_pending = true;
+        let on_level = |id| self.project.node(id).is_some_and(|n| n.level == level);
+        let keep = match self.selection {
+            Selection::Node(id) => on_level(id),
+            Selection::Run(id) => self.project.run(id).is_some_and(|r| on_level(r.a) || on_level(r.b)),
+            Selection::None => true,
         };
-        match self.project.save(&path) {
-            Ok(()) => {
-                self.saved = self.project.clone();
-                self.remember(&path);
-                self.status = Some(Status { text: format!("saved {}", path.display()), error: false });
-                self.disk_stamp = recovery::FileStamp::of(&path);
-                self.save_conflict = None;
-                self.path = Some(recovery::absolute_path(&path));
-                true
-            }
-            Err(e) => {
-                self.status = Some(Status { text: format!("cannot save {}: {e}", path.display()), error: true });
-                false
-            }
+        if !keep {
+            self.selection = Selection::None;
+        }
+    }
+
+    /// File → Recover unsaved work: look again for work left by sessions
+    /// that did not close cleanly (after "Decide later").
+    fn look_for_work_to_recover(&mut self) {
+        let Some(dir) = self.autosave.as_ref().map(|a| a.dir().to_path_buf()) else {
+            self.status = Some(Status::error("autosave is off in this session: there is no recovery folder"));
+            return;
+        };
+        self.orphans = recovery::find_orphans(&dir);
+        if self.orphans.is_empty() {
+            self.status = Some(Status::note(format!("no unsaved work of other sessions in {}", dir.display())));
         }
     }
 
@@ -801,14 +794,19 @@ impl FlowriseApp {
         match choice {
             Some(0) => {
                 self.conflict_prompt = false;
-                self.save(true);
+                let then = self.conflict_then.take();
+                self.save(true, then, ctx);
             }
             Some(1) => {
                 self.conflict_prompt = false;
                 self.save_conflict = None;
-                self.save(false);
+                let then = self.conflict_then.take();
+                self.save(false, then, ctx);
             }
-            Some(_) => self.conflict_prompt = false,
+            Some(_) => {
+                self.conflict_prompt = false;
+                self.conflict_then = None;
+            }
             None => {}
         }
     }
@@ -824,14 +822,22 @@ fn sol_ref(solver: &solve::SolveRunner) -> Arc<Solution> {
     Arc::clone(solver.latest())
 }
 
+/// The status line: the last message first (whole when it fits, elided
+/// with the full text on hover when not), then the caution.
 fn status_line(ui: &mut Ui, status: Option<&Status>) {
     ui.horizontal(|ui| {
         if let Some(s) = status {
             let c = if s.error { theme::ERROR } else { theme::INK };
-            ui.label(RichText::new(&s.text).color(c));
+            ui.add(egui::Label::new(RichText::new(&s.text).color(c)).truncate()).on_hover_text(&s.text);
             ui.separator();
         }
-        ui.label(RichText::new(format!("Caution: {CAUTION}")).small().color(Color32::from_rgb(0x7a, 0x5a, 0x10)));
+        ui.add(
+            egui::Label::new(
+                RichText::new(format!("Caution: {CAUTION}")).small().color(Color32::from_rgb(0x7a, 0x5a, 0x10)),
+            )
+            .truncate(),
+        )
+        .on_hover_text(CAUTION);
     });
 }
 

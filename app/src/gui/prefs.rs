@@ -5,6 +5,7 @@ use std::path::PathBuf;
 
 use serde::{Deserialize, Serialize};
 
+use super::dialogs::DialogChoice;
 use super::theme::ColourBy;
 
 /// UI preferences, kept in eframe storage between sessions.
@@ -21,6 +22,12 @@ pub struct Prefs {
     pub show_elevation: bool,
     /// Bottom drawer open.
     pub drawer_open: bool,
+    /// Height of the open drawer, points.
+    pub drawer_height: f32,
+    /// Which file dialog to use.
+    pub file_dialog: DialogChoice,
+    /// The folder of the last file chosen in a dialog.
+    pub last_dir: Option<PathBuf>,
 }
 
 impl Default for Prefs {
@@ -31,9 +38,15 @@ impl Default for Prefs {
             colour_by: ColourBy::default(),
             show_elevation: true,
             drawer_open: true,
+            drawer_height: DEFAULT_DRAWER_HEIGHT,
+            file_dialog: DialogChoice::default(),
+            last_dir: None,
         }
     }
 }
+
+/// Height of the drawer when first opened, points.
+pub const DEFAULT_DRAWER_HEIGHT: f32 = 240.0;
 
 /// Storage key of [`Prefs`].
 pub const PREFS_KEY: &str = "flowrise-prefs";

@@ -229,6 +229,29 @@ pub fn find_orphans(dir: &Path) -> Vec<Orphan> {
     out
 }
 
+/// Remove the files of sessions that ended without closing cleanly and
+/// left no work behind: a `session-*.lock` (and its `.meta.json`) whose
+/// lock nobody holds and that has no `.ron` beside it. Work that is there
+/// stays for the recovery offer. Returns how many sessions were cleaned.
+pub fn remove_stale_locks(dir: &Path) -> usize {
+    let Ok(entries) = std::fs::read_dir(dir) else { return 0 };
+    let mut cleaned = 0;
+    for e in entries.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        let Some(stem) = name.strip_suffix(".lock") else { continue };
+        if !stem.starts_with("session-") || dir.join(format!("{stem}.ron")).exists() {
+            continue;
+        }
+        if session_is_alive(&e.path()) {
+            continue;
+        }
+        std::fs::remove_file(e.path()).ok();
+        std::fs::remove_file(dir.join(format!("{stem}.meta.json"))).ok();
+        cleaned += 1;
+    }
+    cleaned
+}
+
 /// True when another open session holds the lock file.
 fn session_is_alive(lock_path: &Path) -> bool {
     let Ok(f) = OpenOptions::new().read(true).write(true).open(lock_path) else { return false };
@@ -601,6 +624,26 @@ mod tests {
         std::fs::write(&original, "changed by someone else").unwrap();
         let conflict = found[0].save_conflict().expect("changed");
         assert!(conflict.reason.contains("changed on disk"), "{conflict:?}");
+        std::fs::remove_dir_all(&dir).ok();
+    }
+
+    /// Issue 20 item 11: a lock left by a killed session with nothing to
+    /// recover is removed; a live session's lock and an orphan's files stay.
+    #[test]
+    fn stale_locks_are_removed_and_live_ones_kept() {
+        let dir = temp_dir("stale-locks");
+        std::fs::create_dir_all(&dir).unwrap();
+        std::fs::write(dir.join("session-1-dead.lock"), "").unwrap();
+        std::fs::write(dir.join("session-1-dead.meta.json"), "{}").unwrap();
+        std::fs::write(dir.join("session-2-work.lock"), "").unwrap();
+        std::fs::write(dir.join("session-2-work.ron"), "(").unwrap();
+        let cfg = RecoveryConfig { dir: dir.clone(), interval: Duration::ZERO, every_edits: 1 };
+        let live = Autosaver::start(cfg, 0).unwrap();
+        assert_eq!(remove_stale_locks(&dir), 1);
+        assert!(!dir.join("session-1-dead.lock").exists() && !dir.join("session-1-dead.meta.json").exists());
+        assert!(dir.join("session-2-work.lock").exists(), "work to recover keeps its files");
+        assert!(dir.join(format!("{}.lock", live.stem)).exists(), "a running session keeps its lock");
+        drop(live);
         std::fs::remove_dir_all(&dir).ok();
     }
 

@@ -5,7 +5,7 @@
 //! changes.
 
 use egui::{Grid, RichText, ScrollArea, Ui};
-use egui_plot::{Legend, Line, Plot};
+use egui_plot::{Line, Plot};
 use flowrise_core::project::Project;
 use flowrise_core::sweep::{self, PartLoadCase, SweepResult, SweepSpec};
 
@@ -48,7 +48,7 @@ impl Default for ScenarioState {
 
 /// The supply-temperature sweep view.
 pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
-    ui.horizontal(|ui| {
+    ui.horizontal_wrapped(|ui| {
         ui.label("from");
         ui.add(egui::DragValue::new(&mut st.spec.from_c).range(20.0..=95.0).suffix(" °C").speed(0.5));
         ui.label("to");
@@ -94,7 +94,17 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
         (Some(c), None) => format!(" (limit: {})", c.words()),
         (None, _) => String::new(),
     };
-    let verdict = match (r.lowest_supply_c, &r.limiting_emitter) {
+    let rooms = room_lines(project, r);
+    // The room by its name and level, not only its id.
+    let named = |id: &String| {
+        r.points
+            .first()
+            .and_then(|p| p.emitters.iter().position(|e| &e.id == id))
+            .and_then(|i| rooms.get(i))
+            .map_or_else(|| id.clone(), |room| room.name.clone())
+    };
+    let limiting = r.limiting_emitter.as_ref().map(named);
+    let verdict = match (r.lowest_supply_c, &limiting) {
         (Some(t), Some(e)) => format!("Every room covered down to {t:.1} °C; {e} falls short first below it{why}."),
         (Some(t), None) => format!("Every room covered over the whole range, down to {t:.1} °C."),
         (None, Some(e)) => format!("{e} is short already at the top of the range{why}."),
@@ -111,34 +121,89 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
         .weak(),
     );
     ui.columns(2, |cols| {
-        fraction_plot(&mut cols[0], project, r);
-        upgrades_table(&mut cols[1], r);
+        fraction_plot(&mut cols[0], r, &rooms);
+        ScrollArea::vertical().id_salt("sweep_side").auto_shrink([false, false]).show(&mut cols[1], |ui| {
+            rooms_legend(ui, &rooms);
+            ui.add_space(6.0);
+            upgrades_table(ui, r);
+        });
     });
 }
 
-fn fraction_plot(ui: &mut Ui, project: &Project, r: &SweepResult) {
-    let Some(first) = r.points.first() else { return };
+/// A room's curve in the sweep chart: its name with its level, colour and
+/// whether it is the room that falls short first.
+struct RoomLine {
+    name: String,
+    colour: egui::Color32,
+    limiting: bool,
+}
+
+/// Distinct colours for up to a few dozen curves (hues a golden angle
+/// apart, kept away from the red of the room that falls short first; dark
+/// enough to read on the light plot background).
+fn curve_colour(i: usize) -> egui::Color32 {
+    let h = 0.12 + 0.76 * (i as f32 * 0.381_966).fract();
+    egui::Color32::from(egui::ecolor::Hsva::new(h, 0.8, 0.62, 1.0))
+}
+
+fn room_lines(project: &Project, r: &SweepResult) -> Vec<RoomLine> {
+    let Some(first) = r.points.first() else { return Vec::new() };
     let limiting = r.limiting_emitter.as_deref();
+    first
+        .emitters
+        .iter()
+        .enumerate()
+        .map(|(i, e)| {
+            let node = project.nodes().find(|n| n.id.to_string() == e.id);
+            let level = node.and_then(|n| project.levels.iter().find(|l| l.id == n.level)).map(|l| l.name.clone());
+            let label = node.map_or_else(|| e.id.clone(), flowrise_core::project::Node::label);
+            let name = match level {
+                Some(l) => format!("{label}, {l}"),
+                None => label,
+            };
+            let lim = Some(e.id.as_str()) == limiting;
+            RoomLine { name, colour: if lim { theme::ERROR } else { curve_colour(i) }, limiting: lim }
+        })
+        .collect()
+}
+
+/// The rooms' colours, beside the chart (a legend inside it would cover
+/// the curves).
+fn rooms_legend(ui: &mut Ui, rooms: &[RoomLine]) {
+    ui.label(RichText::new("Rooms (curves of the chart)").strong());
+    for room in rooms {
+        ui.horizontal(|ui| {
+            let (rect, _) = ui.allocate_exact_size(egui::vec2(18.0, 10.0), egui::Sense::hover());
+            ui.painter().line_segment(
+                [rect.left_center(), rect.right_center()],
+                egui::Stroke::new(if room.limiting { 3.5 } else { 2.0 }, room.colour),
+            );
+            let text = RichText::new(&room.name);
+            ui.label(if room.limiting { text.strong().color(theme::ERROR) } else { text })
+                .on_hover_text(if room.limiting { "falls short first" } else { "" });
+        });
+    }
+}
+
+fn fraction_plot(ui: &mut Ui, r: &SweepResult, rooms: &[RoomLine]) {
     Plot::new("sweep_plot")
-        .legend(Legend::default().position(egui_plot::Corner::LeftTop))
-        .x_axis_label("supply temperature °C")
-        .y_axis_label("delivered share of load %")
-        .height(ui.available_height().max(150.0))
+        .x_axis_label("supply temperature, °C")
+        .y_axis_label("share of load, %")
+        .height(ui.available_height().max(120.0))
         .show(ui, |plot| {
-            for (i, e) in first.emitters.iter().enumerate() {
+            for (i, room) in rooms.iter().enumerate() {
                 let pts: Vec<[f64; 2]> = r
                     .points
                     .iter()
                     .filter_map(|p| p.emitters.get(i).map(|x| [p.supply_c, x.fraction * 100.0]))
                     .collect();
-                let name = project
-                    .nodes()
-                    .find(|n| n.id.to_string() == e.id)
-                    .map_or_else(|| e.id.clone(), flowrise_core::project::Node::label);
                 // The room that falls short first is the one to look at.
-                let highlight = Some(e.id.as_str()) == limiting;
-                let line = Line::new(name, pts).width(if highlight { 3.0 } else { 1.0 });
-                plot.line(if highlight { line.color(theme::ERROR) } else { line });
+                plot.line(
+                    Line::new(room.name.clone(), pts)
+                        .id(("sweep_room", i))
+                        .color(room.colour)
+                        .width(if room.limiting { 3.0 } else { 1.2 }),
+                );
             }
         });
 }
@@ -149,7 +214,7 @@ fn upgrades_table(ui: &mut Ui, r: &SweepResult) {
         ui.label("None — every room is covered at that temperature.");
         return;
     }
-    ScrollArea::vertical().id_salt("upgrades").show(ui, |ui| {
+    {
         Grid::new("upgrades_table").striped(true).num_columns(3).show(ui, |ui| {
             for h in ["Emitter", "Nominal now W", "Needed W (EN 442)"] {
                 ui.label(RichText::new(h).strong());
@@ -165,13 +230,13 @@ fn upgrades_table(ui: &mut Ui, r: &SweepResult) {
         for id in &r.short_other {
             ui.label(format!("{id}: short at the target but not a radiator — check it separately"));
         }
-    });
+    }
 }
 
 /// The part-load view: close a share of the valves, solve for each pump
 /// control mode.
 pub fn part_load_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
-    ui.horizontal(|ui| {
+    ui.horizontal_wrapped(|ui| {
         ui.add(egui::Slider::new(&mut st.closed_fraction, 0.0..=0.9).text("share of valves closed"));
         ui.add(egui::DragValue::new(&mut st.seed).range(0..=9999).prefix("seed "));
         if ui
@@ -200,7 +265,17 @@ pub fn part_load_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
             return;
         }
     };
-    // With branch controllers the same scenario follows without them.
+    ScrollArea::vertical()
+        .id_salt("part_load_body")
+        .auto_shrink([false, false])
+        .show(ui, |ui| part_load_table(ui, cases));
+}
+
+/// The cases of a part-load result and their warnings, as sentences in a
+/// colour and size that read on the light panel. With branch Δp
+/// controllers the same scenario follows without them; with pumped
+/// circuits each case lists every circuit's pump point.
+fn part_load_table(ui: &mut Ui, cases: &[PartLoadCase]) {
     let compare = cases.iter().any(|c| c.branch_controllers);
     Grid::new("part_load_table").striped(true).num_columns(6).show(ui, |ui| {
         if compare {
@@ -218,9 +293,22 @@ pub fn part_load_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
             ui.label(format!("{:.0}", c.pump_flow_l_h));
             ui.label(format!("{:.1}", c.pump_head_kpa));
             let dp = RichText::new(format!("{:.1}", c.max_valve_dp_kpa));
-            ui.label(if c.max_valve_dp_kpa * 1000.0 > sweep::NOISE_DP_PA { dp.color(theme::WARNING) } else { dp });
+            // Coloured only when the case carries the warning that says why.
+            let noisy = c.max_valve_dp_kpa * 1000.0 > sweep::NOISE_DP_PA && !c.warnings.is_empty();
+            ui.label(if noisy { dp.color(theme::WARNING_TEXT).strong() } else { dp });
             ui.label(format!("{:+.0}", c.worst_over_supply() * 100.0));
             ui.end_row();
+            for ci in c.circuits.iter().skip(1) {
+                if compare {
+                    ui.label("");
+                }
+                ui.label(RichText::new(format!("  circuit {}", ci.name)).weak());
+                ui.label(format!("{:.0}", ci.pump_flow_l_h));
+                ui.label(format!("{:.1}", ci.pump_head_kpa));
+                ui.label("");
+                ui.label(format!("{:+.0}", ci.worst_over_supply * 100.0));
+                ui.end_row();
+            }
         }
     });
     if compare {
@@ -228,22 +316,29 @@ pub fn part_load_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
             RichText::new(
                 "\"without\": the same building designed without its branch Δp controllers, same valves closed.",
             )
-            .weak()
-            .small(),
+            .weak(),
         );
     }
+    ui.add_space(4.0);
+    const SHOWN: usize = 12;
     for c in cases {
-        for w in &c.warnings {
-            let with = if compare && c.branch_controllers {
-                ", with branch controllers"
-            } else if compare {
-                ", without"
-            } else {
-                ""
-            };
-            ui.label(
-                RichText::new(format!("{}{with}: {}", c.control, w.replace('Δ', "d"))).color(theme::WARNING).small(),
-            );
+        let with = match (compare, c.branch_controllers) {
+            (false, _) => "",
+            (true, true) => ", with branch controllers",
+            (true, false) => ", without",
+        };
+        for w in c.warnings.iter().take(SHOWN) {
+            ui.horizontal_top(|ui| {
+                ui.label(RichText::new("Warning").strong().color(theme::WARNING_TEXT));
+                ui.add(egui::Label::new(RichText::new(format!("{}{with}: {w}", c.control)).color(theme::INK)).wrap());
+            });
+        }
+        if c.warnings.len() > SHOWN {
+            ui.label(format!(
+                "{}{with}: … and {} more warnings (`flowrise part-load FILE --csv` lists every room)",
+                c.control,
+                c.warnings.len() - SHOWN
+            ));
         }
     }
 }

@@ -25,6 +25,13 @@ pub const HOVER: Color32 = Color32::from_rgb(0x1f, 0x78, 0xc8);
 pub const ERROR: Color32 = Color32::from_rgb(0xd0, 0x30, 0x30);
 /// Warning text.
 pub const WARNING: Color32 = Color32::from_rgb(0xc0, 0x7a, 0x00);
+/// The supply leg in charts (warm).
+pub const SUPPLY: Color32 = Color32::from_rgb(0xc8, 0x3a, 0x2a);
+/// The return leg in charts (cool).
+pub const RETURN: Color32 = Color32::from_rgb(0x2a, 0x5c, 0xb8);
+/// Warning colour for running text: darker than [`WARNING`] so a sentence
+/// reads on the light panels (contrast about 6.8:1 on white).
+pub const WARNING_TEXT: Color32 = Color32::from_rgb(0x8a, 0x4b, 0x00);
 /// Accent of the flowrise look (top strip, active tool).
 pub const ACCENT: Color32 = Color32::from_rgb(0x0f, 0x6e, 0x6a);
 

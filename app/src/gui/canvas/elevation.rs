@@ -1,15 +1,43 @@
 //! The riser (elevation) strip: levels as horizontal bands, vertical runs as
 //! lines between them, placed by their plan x. A simple side view from the
-//! south; it shows what crosses the levels, not the plan.
+//! south; it shows what crosses the levels, not the plan. A click on a
+//! level shows that level's plan ([`level_at`]).
 
 use egui::{Align2, Color32, FontId, Painter, Rect, Stroke, pos2};
 use flowrise_core::design::{Side, Solution};
-use flowrise_core::project::Project;
+use flowrise_core::project::{LevelId, Project};
+
+/// Where each level is drawn: (level, y on screen).
+pub type Bands = Vec<(LevelId, f32)>;
+
+/// The level drawn nearest to `y`, within half the spacing to its
+/// neighbours (at least 6 points).
+#[must_use]
+pub fn level_at(bands: &[(LevelId, f32)], y: f32) -> Option<LevelId> {
+    let mut ys: Vec<f32> = bands.iter().map(|b| b.1).collect();
+    ys.sort_by(f32::total_cmp);
+    let gap = ys.windows(2).map(|w| w[1] - w[0]).fold(f32::INFINITY, f32::min);
+    let reach = if gap.is_finite() { (gap * 0.5).max(6.0) } else { 40.0 };
+    bands
+        .iter()
+        .map(|&(l, by)| (l, (by - y).abs()))
+        .filter(|&(_, d)| d <= reach)
+        .min_by(|a, b| a.1.total_cmp(&b.1))
+        .map(|(l, _)| l)
+}
 
 use crate::gui::theme::{self, ColourBy};
 
-/// Draw the elevation of all vertical runs into `rect`.
-pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, colour_by: ColourBy) {
+/// Draw the elevation of all vertical runs into `rect`, the shown level
+/// marked; returns where each level is drawn.
+pub fn draw(
+    painter: &Painter,
+    rect: Rect,
+    project: &Project,
+    sol: &Solution,
+    colour_by: ColourBy,
+    shown: LevelId,
+) -> Bands {
     painter.rect_filled(rect, 0, theme::PAPER);
     painter.text(
         rect.left_top() + egui::vec2(8.0, 6.0),
@@ -20,7 +48,7 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
     );
     let levels = &project.levels;
     if levels.is_empty() {
-        return;
+        return Vec::new();
     }
     let z_min = levels.iter().map(|l| l.elevation_m).fold(f64::INFINITY, f64::min);
     let z_max = levels.iter().map(|l| l.elevation_m).fold(f64::NEG_INFINITY, f64::max);
@@ -28,19 +56,37 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
     let top = rect.top() + 40.0;
     let bottom = rect.bottom() - 30.0;
     let y_of = |z: f64| bottom - ((z - z_min) / span) as f32 * (bottom - top);
-    for l in levels {
-        let y = y_of(l.elevation_m);
+    let bands: Bands = levels.iter().map(|l| (l.id, y_of(l.elevation_m))).collect();
+    // Labels only where they do not overlap (a tall building): from the
+    // bottom up, a label at least a text height above the last one; the
+    // shown level always.
+    let mut order: Vec<_> = levels.iter().zip(&bands).collect();
+    order.sort_by(|a, b| b.1.1.total_cmp(&a.1.1));
+    let shown_y = bands.iter().find(|b| b.0 == shown).map(|b| b.1);
+    let mut last_label_y = f32::INFINITY;
+    for (l, &(_, y)) in order {
+        let is_shown = l.id == shown;
+        if is_shown {
+            painter.rect_filled(
+                Rect::from_min_max(pos2(rect.left() + 2.0, y - 13.0), pos2(rect.right() - 2.0, y + 1.0)),
+                2,
+                Color32::from_rgba_unmultiplied(0x0f, 0x6e, 0x6a, 40),
+            );
+        }
         painter.line_segment(
             [pos2(rect.left() + 6.0, y), pos2(rect.right() - 6.0, y)],
-            Stroke::new(1.0, theme::GRID_MAJOR),
+            Stroke::new(if is_shown { 1.5 } else { 1.0 }, if is_shown { theme::ACCENT } else { theme::GRID_MAJOR }),
         );
-        painter.text(
-            pos2(rect.left() + 8.0, y - 2.0),
-            Align2::LEFT_BOTTOM,
-            format!("{}  {:+.1} m", l.name, l.elevation_m),
-            FontId::proportional(10.5),
-            theme::INK,
-        );
+        if is_shown || (last_label_y - y >= 13.0 && shown_y.is_none_or(|sy| (y - sy).abs() >= 13.0)) {
+            painter.text(
+                pos2(rect.left() + 8.0, y - 2.0),
+                Align2::LEFT_BOTTOM,
+                format!("{}  {:+.1} m", l.name, l.elevation_m),
+                FontId::proportional(10.5),
+                theme::INK,
+            );
+            last_label_y = y;
+        }
     }
     let vertical: Vec<_> = project.runs().filter(|r| project.is_vertical(r)).collect();
     if vertical.is_empty() {
@@ -51,16 +97,17 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
             FontId::proportional(12.0),
             theme::NO_RESULT,
         );
-        return;
+        return bands;
     }
     let xs: Vec<f64> = vertical.iter().filter_map(|r| project.node(r.a)).map(|n| n.pos.x_m).collect();
     let x_min = xs.iter().copied().fold(f64::INFINITY, f64::min);
     let x_max = xs.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let x_span = (x_max - x_min).max(1.0);
-    let left = rect.left() + 60.0;
-    let right = rect.right() - 40.0;
+    // Risers right of the level names, their sizes right of them.
+    let left = rect.left() + (rect.width() * 0.55).min(115.0);
+    let right = (rect.right() - 45.0).max(left);
     let x_of = |x: f64| {
-        if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { 0.5 * (left + right) }
+        if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { right }
     };
     let limit = project.settings.gradient_limit_pa_m;
     for r in vertical {
@@ -74,7 +121,11 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
         for y in [ya, yb] {
             painter.circle_filled(pos2(x, y), 3.5, theme::INK);
         }
-        if let Some(p) = sol.run_pipes(r.id).find(|p| p.side == Side::Supply) {
+        // The size where there is room for it (a riser a level high in a
+        // tall building is a few points long).
+        if (ya - yb).abs() >= 14.0
+            && let Some(p) = sol.run_pipes(r.id).find(|p| p.side == Side::Supply)
+        {
             painter.text(
                 pos2(x + 6.0, 0.5 * (ya + yb)),
                 Align2::LEFT_CENTER,
@@ -84,4 +135,5 @@ pub fn draw(painter: &Painter, rect: Rect, project: &Project, sol: &Solution, co
             );
         }
     }
+    bands
 }

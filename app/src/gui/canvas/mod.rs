@@ -52,6 +52,9 @@ pub struct CanvasState {
     pub pointer_plan: Option<PlanPoint>,
     /// Fit the view on the next frame (after open or on request).
     pub fit_pending: bool,
+    /// The riser view as last drawn: its rectangle and where each level
+    /// is (None when it is not shown).
+    pub riser: Option<(egui::Rect, elevation::Bands)>,
 }
 
 impl Default for CanvasState {
@@ -66,6 +69,7 @@ impl Default for CanvasState {
             hover: None,
             pointer_plan: None,
             fit_pending: true,
+            riser: None,
         }
     }
 }
@@ -151,12 +155,31 @@ pub fn show(
     out: &mut Intents,
 ) {
     egui::Panel::bottom("level_tabs").show(ui, |ui| level_tabs(ui, project, state, out));
+    // Only when there is a riser to show: an empty riser view takes no room.
+    state.riser = None;
     if opts.show_elevation {
-        egui::Panel::right("riser_strip").resizable(true).default_size(260.0).show(ui, |ui| {
-            let rect = ui.available_rect_before_wrap();
-            ui.allocate_rect(rect, Sense::hover());
-            elevation::draw(ui.painter(), rect, project, sol, opts.colour_by);
-        });
+        let max = (ui.available_width() * 0.4).max(160.0);
+        let default = (ui.available_width() * 0.3).clamp(150.0, 240.0);
+        egui::Panel::right("riser_strip").resizable(true).default_size(default).size_range(140.0..=max).show(
+            ui,
+            |ui| {
+                let rect = ui.available_rect_before_wrap();
+                let resp = ui.allocate_rect(rect, Sense::click());
+                let bands = elevation::draw(ui.painter(), rect, project, sol, opts.colour_by, state.level);
+                state.riser = Some((rect, bands.clone()));
+                let hovered = resp.hover_pos().and_then(|p| elevation::level_at(&bands, p.y));
+                if let Some(l) = hovered {
+                    ui.ctx().set_cursor_icon(egui::CursorIcon::PointingHand);
+                    let name = project.levels.iter().find(|x| x.id == l).map_or("", |x| x.name.as_str());
+                    resp.clone().on_hover_text(format!("Show {name}"));
+                }
+                if resp.clicked()
+                    && let Some(l) = resp.interact_pointer_pos().and_then(|p| elevation::level_at(&bands, p.y))
+                {
+                    out.show_level = Some(l);
+                }
+            },
+        );
     }
     let rect = ui.available_rect_before_wrap();
     let resp = ui.allocate_rect(rect, Sense::click_and_drag());
@@ -317,30 +340,59 @@ fn draw_draft(painter: &egui::Painter, project: &Project, state: &CanvasState) {
     }
 }
 
-fn level_tabs(ui: &mut Ui, project: &Project, state: &mut CanvasState, out: &mut Intents) {
+/// The level tabs: a row that scrolls sideways when the levels do not fit
+/// (a tall building), the shown level scrolled into view; "+ Level" and
+/// the tool's hint stay in sight on the right.
+fn level_tabs(ui: &mut Ui, project: &Project, state: &CanvasState, out: &mut Intents) {
     ui.horizontal(|ui| {
         ui.label("Level:");
+        // The tool's hint only where the tabs leave room for it.
+        let show_hint = ui.available_width() >= 760.0;
+        let hint_w = if show_hint { (ui.available_width() * 0.3).clamp(0.0, 320.0) } else { 0.0 };
+        let tabs_w = (ui.available_width() - hint_w - 80.0).max(120.0);
         let mut levels: Vec<_> = project.levels.iter().collect();
         levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
-        for l in levels {
-            let count = project.nodes().filter(|n| n.level == l.id).count();
-            let text = format!("{} ({count})", l.name);
-            if ui
-                .selectable_label(state.level == l.id, text)
-                .on_hover_text(format!("elevation {:+.2} m", l.elevation_m))
-                .clicked()
-            {
-                state.level = l.id;
-                state.draft = None;
-                state.fit_pending = true;
-            }
+        let mut counts = std::collections::HashMap::new();
+        for n in project.nodes() {
+            *counts.entry(n.level).or_insert(0_usize) += 1;
         }
+        let level_changed = ui.ctx().data_mut(|d| {
+            let last = d.get_temp_mut_or(egui::Id::unique("level_tabs_last"), None);
+            let changed = *last != Some(state.level);
+            *last = Some(state.level);
+            changed
+        });
+        ui.allocate_ui(egui::vec2(tabs_w, ui.spacing().interact_size.y + 6.0), |ui| {
+            egui::ScrollArea::horizontal()
+                .id_salt("level_tabs_scroll")
+                .auto_shrink([false, true])
+                .scroll_bar_visibility(egui::scroll_area::ScrollBarVisibility::AlwaysVisible)
+                .show(ui, |ui| {
+                    ui.horizontal(|ui| {
+                        for l in levels {
+                            let count = counts.get(&l.id).copied().unwrap_or(0);
+                            let text = format!("{} ({count})", l.name);
+                            let r = ui
+                                .selectable_label(state.level == l.id, text)
+                                .on_hover_text(format!("elevation {:+.2} m, {count} items", l.elevation_m));
+                            if state.level == l.id && level_changed {
+                                r.scroll_to_me(Some(egui::Align::Center));
+                            }
+                            if r.clicked() {
+                                out.show_level = Some(l.id);
+                            }
+                        }
+                    });
+                });
+        });
         if ui.button("+ Level").on_hover_text("Add a level 3 m above the highest one").clicked() {
             let top = project.levels.iter().map(|l| l.elevation_m).fold(0.0_f64, f64::max);
             let n = project.levels.len();
             out.edit(Edit::AddLevel { name: format!("Level {n}"), elevation_m: top + 3.0 });
         }
-        ui.separator();
-        ui.label(egui::RichText::new(state.tool.tooltip()).small().weak());
+        if show_hint {
+            ui.separator();
+            ui.add(egui::Label::new(egui::RichText::new(state.tool.tooltip()).small().weak()).truncate());
+        }
     });
 }
