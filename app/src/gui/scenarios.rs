@@ -61,6 +61,39 @@ pub fn sweep_view(ui: &mut Ui, project: &Project, st: &mut ScenarioState) {
         ui.add(egui::DragValue::new(&mut st.spec.min_drop_k).range(0.5..=20.0).suffix(" K").speed(0.1))
             .on_hover_text("The smallest cooling of the water an emitter may run at (5 K: heat pump, common practice)");
         ui.checkbox(&mut st.spec.frozen_presettings, "presettings frozen");
+        // With pumped circuits: sweep the source or one mixing circuit.
+        let circuits: Vec<(flowrise_core::project::NodeId, String)> = project
+            .nodes()
+            .filter_map(|n| match &n.kind {
+                flowrise_core::project::NodeKind::Circuit(c)
+                    if c.connection != flowrise_core::project::CircuitConnection::Direct =>
+                {
+                    Some((n.id, c.name.clone()))
+                }
+                _ => None,
+            })
+            .collect();
+        if st.spec.circuit.is_some_and(|id| !circuits.iter().any(|(c, _)| *c == id)) {
+            st.spec.circuit = None;
+        }
+        if !circuits.is_empty() {
+            let name_of = |id: Option<flowrise_core::project::NodeId>| {
+                id.and_then(|id| circuits.iter().find(|(c, _)| *c == id).map(|(_, n)| n.clone()))
+                    .unwrap_or_else(|| "heat source".to_owned())
+            };
+            let label_id = ui.label("supply of").id;
+            egui::ComboBox::from_id_salt("sweep.circuit")
+                .selected_text(name_of(st.spec.circuit))
+                .show_ui(ui, |ui| {
+                    ui.selectable_value(&mut st.spec.circuit, None, "heat source");
+                    for (id, name) in &circuits {
+                        ui.selectable_value(&mut st.spec.circuit, Some(*id), name);
+                    }
+                })
+                .response
+                .on_hover_text("Sweep the heat source's supply (every room) or one pumped circuit's (its rooms)")
+                .labelled_by(label_id);
+        }
         if ui
             .button("Run sweep")
             .on_hover_text("Redo the design at every supply temperature with these emitters")
