@@ -389,8 +389,9 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
         n.kind = source_kind(total_load_w, placeholder_curve, 50.0);
     }
     let name = format!(
-        "Generated building: {} floors × {} emitters{}{}{} (seed {})",
+        "Generated building: {} floor{} × {} emitters{}{}{} (seed {})",
         spec.floors,
+        if spec.floors == 1 { "" } else { "s" },
         spec.per_floor,
         if spec.reverse_return { ", reverse return" } else { "" },
         if spec.headers { ", headers" } else { "" },

@@ -201,7 +201,8 @@ pub(super) fn results(ui: &mut Ui, sol: &Solution, run: &Run) {
             }
             ui.end_row();
         };
-        row("Setting", d.setting.clone(), false);
+        let setting_word = if d.kind == "Δp controller" { "Set-point" } else { "Setting" };
+        row(setting_word, d.setting.clone(), false);
         row("Kv", format!("{:.2} m³/h", d.kv_m3_h), false);
         row(
             "Flow",
