@@ -40,7 +40,7 @@ use super::findings::{self, Finding, FindingKind, ItemRef};
 use super::results::{CircuitResult, LinkRole, Solution};
 use super::state::Feed;
 use super::topology::{self, Topology};
-use super::{SolveOptions, Workspace, solve_one};
+use super::{SolveOptions, Workspace, solve_one, with_findings};
 use crate::emitters::{EmitterModel, TerminalSpec};
 use crate::network::solver;
 use crate::project::{
@@ -257,7 +257,7 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
     found.extend(f);
     let parts = plan(p, &topo, &mut found);
     if parts.is_empty() {
-        return finish(p, Solution { revision: p.revision, topology: topo, ..Solution::default() }, found);
+        return with_findings(Solution { revision: p.revision, topology: topo, ..Solution::default() }, found);
     }
     // Deepest first: every circuit after those it feeds.
     let mut subs: Vec<Option<Solution>> = vec![None; parts.len()];
@@ -502,17 +502,5 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
     }
     out.circuits = circuit_results;
     out.topology = topo;
-    finish(p, out, found)
-}
-
-/// Sort, deduplicate and index the findings.
-fn finish(_p: &Project, mut sol: Solution, mut all: Vec<Finding>) -> Solution {
-    all.sort_by(|a, b| a.severity.cmp(&b.severity).then(a.item.cmp(&b.item)));
-    all.dedup();
-    let mut keys: Vec<(ItemRef, FindingKind)> = all.iter().map(|f| (f.item, f.kind)).collect();
-    keys.sort_unstable();
-    keys.dedup();
-    sol.finding_keys = keys;
-    sol.findings = all;
-    sol
+    with_findings(out, found)
 }

@@ -155,7 +155,12 @@ fn solve_one(p: &Project, opts: &SolveOptions, ws: &mut Workspace, feeds: BTreeM
     sol.roles = std::mem::take(&mut d.roles);
     sol.topology = std::mem::take(&mut d.topo);
     drop(d);
-    let mut all = findings;
+    with_findings(sol, findings)
+}
+
+/// The solution with its findings sorted (errors first, then by item),
+/// deduplicated and indexed for [`Solution::has_finding`].
+fn with_findings(mut sol: Solution, mut all: Vec<Finding>) -> Solution {
     all.sort_by(|a, b| a.severity.cmp(&b.severity).then(a.item.cmp(&b.item)));
     all.dedup();
     let mut keys: Vec<(ItemRef, FindingKind)> = all.iter().map(|f| (f.item, f.kind)).collect();

@@ -77,25 +77,8 @@ pub(super) fn inputs(ui: &mut Ui, run: &Run, fs: &mut FieldState, out: &mut Inte
                 let families: Vec<&valves::ValveFamily> = valves::valve_families()
                     .map(|fs| fs.iter().filter(|f| f.kind == ValveKind::Balancing).collect())
                     .unwrap_or_default();
-                let name_of = |id: &Option<String>| {
-                    id.as_ref().map_or_else(
-                        || "chosen by the design".to_owned(),
-                        |id| families.iter().find(|f| f.id == *id).map_or_else(|| id.clone(), |f| f.name.clone()),
-                    )
-                };
-                let label_id = ui.label("Model").id;
-                let mut fam = family.clone();
-                egui::ComboBox::from_id_salt("run.device.model")
-                    .selected_text(name_of(&fam))
-                    .show_ui(ui, |ui| {
-                        ui.selectable_value(&mut fam, None, name_of(&None));
-                        for f in &families {
-                            ui.selectable_value(&mut fam, Some(f.id.clone()), &f.name);
-                        }
-                    })
-                    .response
-                    .labelled_by(label_id);
-                ui.end_row();
+                let models: Vec<(&str, &str)> = families.iter().map(|f| (f.id.as_str(), f.name.as_str())).collect();
+                let fam = model_combo(ui, family.as_deref(), &models);
                 if fam != *family {
                     // A new model keeps no setting of the old one.
                     set(out, Some(BranchDevice::BalancingValve { family: fam, setting: None }), "run.device.model");
@@ -133,25 +116,8 @@ pub(super) fn inputs(ui: &mut Ui, run: &Run, fs: &mut FieldState, out: &mut Inte
             }
             Some(BranchDevice::DpController { family, setpoint_kpa }) => {
                 let families = controllers::dp_controllers().unwrap_or_default();
-                let name_of = |id: &Option<String>| {
-                    id.as_ref().map_or_else(
-                        || "chosen by the design".to_owned(),
-                        |id| families.iter().find(|f| f.id == *id).map_or_else(|| id.clone(), |f| f.name.clone()),
-                    )
-                };
-                let label_id = ui.label("Model").id;
-                let mut fam = family.clone();
-                egui::ComboBox::from_id_salt("run.device.model")
-                    .selected_text(name_of(&fam))
-                    .show_ui(ui, |ui| {
-                        ui.selectable_value(&mut fam, None, name_of(&None));
-                        for f in families {
-                            ui.selectable_value(&mut fam, Some(f.id.clone()), &f.name);
-                        }
-                    })
-                    .response
-                    .labelled_by(label_id);
-                ui.end_row();
+                let models: Vec<(&str, &str)> = families.iter().map(|f| (f.id.as_str(), f.name.as_str())).collect();
+                let fam = model_combo(ui, family.as_deref(), &models);
                 if fam != *family {
                     set(
                         out,
@@ -183,6 +149,31 @@ pub(super) fn inputs(ui: &mut Ui, run: &Run, fs: &mut FieldState, out: &mut Inte
             ui.label(RichText::new(e).color(theme::ERROR));
         }
     }
+}
+
+/// The model of a device: "chosen by the design" or one of `models` (id,
+/// name); the choice as an owned id. One row of the caller's grid.
+fn model_combo(ui: &mut Ui, current: Option<&str>, models: &[(&str, &str)]) -> Option<String> {
+    let name_of = |id: Option<&str>| {
+        id.map_or_else(
+            || "chosen by the design".to_owned(),
+            |id| models.iter().find(|m| m.0 == id).map_or_else(|| id.to_owned(), |m| m.1.to_owned()),
+        )
+    };
+    let label_id = ui.label("Model").id;
+    let mut pick = current.map(str::to_owned);
+    egui::ComboBox::from_id_salt("run.device.model")
+        .selected_text(name_of(current))
+        .show_ui(ui, |ui| {
+            ui.selectable_value(&mut pick, None, name_of(None));
+            for (id, name) in models {
+                ui.selectable_value(&mut pick, Some((*id).to_owned()), *name);
+            }
+        })
+        .response
+        .labelled_by(label_id);
+    ui.end_row();
+    pick
 }
 
 /// What the solve says the device of `run` does (nothing when it has none).
