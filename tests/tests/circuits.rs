@@ -139,7 +139,7 @@ fn a_separator_feeds_a_pump_only_and_a_mixing_circuit() {
     let s = b.separator(g, 2.0, 0.0, "Separator");
     b.run(src, s);
     let direct = b.circuit(g, 4.0, 2.0, "Radiators", CircuitConnection::Direct, (55.0, 45.0));
-    b.run(s, direct);
+    let to_direct = b.run(s, direct);
     radiators(&mut b, g, direct, 6.0);
     let mix = b.circuit(g, 4.0, -4.0, "Floor", CircuitConnection::MixingValve, (35.0, 30.0));
     b.run(s, mix);
@@ -153,6 +153,18 @@ fn a_separator_feeds_a_pump_only_and_a_mixing_circuit() {
     // The primary carries the heat of both circuits.
     let total: f64 = sol.circuits[1..].iter().map(|c| c.heat_w).sum();
     assert!((sol.circuits[0].heat_w - total).abs() <= 1e-6 * total);
+    // A device between the separator and a circuit does nothing: it says so.
+    let mut with_device = b.p.clone();
+    let device = Some(flowrise_core::project::BranchDevice::BalancingValve { family: None, setting: None });
+    with_device
+        .apply(flowrise_core::project::Edit::SetRunProps {
+            id: to_direct,
+            props: flowrise_core::project::RunProps { device, ..Default::default() },
+        })
+        .unwrap();
+    let sol2 = solve(&with_device);
+    assert!(sol2.findings.iter().any(|f| f.kind == flowrise_core::design::FindingKind::DeviceIgnored
+        && f.item == flowrise_core::design::ItemRef::Run(to_direct)));
     // A primary pump far too weak for the separator gives the finding.
     let mut f = b.p.to_file();
     for n in &mut f.nodes {
@@ -218,4 +230,59 @@ fn a_file_from_before_devices_and_circuits_still_loads() {
     let again = p.to_ron().unwrap();
     assert!(!again.contains("device:") && !again.contains("Circuit(("));
     assert_eq!(Project::from_ron(&again).unwrap(), p);
+}
+
+/// Odd layouts never panic and every problem names an item: a circuit with
+/// nothing behind it, a separator with nothing behind it, a circuit inside
+/// a circuit, a circuit behind a separator behind a circuit.
+#[test]
+fn odd_circuit_layouts_are_named_not_fatal() {
+    let g = LevelId(0);
+    // A circuit with nothing behind it and an empty separator.
+    let mut b = Builder::new("Empty circuit");
+    let src = b.source(g, 0.0, 0.0, 40_000.0, PUMP, PumpControl::FixedSpeed);
+    let j = b.junction(g, 3.0, 0.0);
+    b.run(src, j);
+    radiators(&mut b, g, j, 5.0);
+    let c = b.circuit(g, 3.0, -3.0, "Nothing", CircuitConnection::MixingValve, (40.0, 30.0));
+    b.run(j, c);
+    let s = b.separator(g, 3.0, 3.0, "Lonely");
+    b.run(j, s);
+    let sol = solve(&b.p);
+    for id in [c, s] {
+        assert!(
+            sol.findings.iter().any(|f| f.item == flowrise_core::design::ItemRef::Node(id)),
+            "{id}: {:#?}",
+            sol.findings
+        );
+    }
+    // Nested: primary → mixing circuit (45/35) → mixing circuit (30/25)
+    // → loops; and a separator inside the first circuit feeding a pump-only one.
+    let mut b = Builder::new("Nested circuits");
+    b.p.settings.supply_c = 60.0;
+    b.p.settings.return_c = 45.0;
+    let src = b.source(g, 0.0, 0.0, 40_000.0, PUMP, PumpControl::ConstantDp { setpoint_kpa: 30.0 });
+    let outer = b.circuit(g, 2.0, 0.0, "Outer", CircuitConnection::MixingValve, (45.0, 35.0));
+    b.run(src, outer);
+    let j = b.junction(g, 4.0, 0.0);
+    b.run(outer, j);
+    radiators(&mut b, g, j, 6.0);
+    let inner = b.circuit(g, 4.0, -4.0, "Inner", CircuitConnection::Injection, (32.0, 27.0));
+    b.run(j, inner);
+    loops(&mut b, g, inner, 4.0);
+    let sol = solve(&b.p);
+    assert!(!sol.has_errors(), "{:#?}", sol.findings);
+    assert_eq!(sol.circuits.len(), 3);
+    assert_eq!(circuit(&sol, inner).parent, Some(outer));
+    // Each feed's primary flow carries its heat from its feed's supply.
+    for c in &sol.circuits[1..] {
+        let m_p = kg_s(c.primary_flow_l_h, c.return_c);
+        let cp = water::mean_cp_j_kg_k(c.feed_supply_c, c.operating_return_c).unwrap();
+        let q = m_p * cp * (c.feed_supply_c - c.operating_return_c);
+        assert!((q / c.heat_w - 1.0).abs() < 1e-3, "{}: {q} vs {}", c.name, c.heat_w);
+    }
+    // The outer circuit carries the inner one's heat.
+    let (o, i) = (circuit(&sol, outer), circuit(&sol, inner));
+    let own: f64 = sol.emitters.iter().filter(|e| o.nodes.contains(&e.id)).map(|e| e.output_w).sum();
+    assert!((o.heat_w - own - i.heat_w).abs() <= 1e-6 * o.heat_w);
 }

@@ -23,7 +23,9 @@ use flowrise_core::emitters::floor::FloorZone;
 use flowrise_core::emitters::{EmitterModel, RadiatorSpec};
 use flowrise_core::generate::{BranchDevices, BuildingSpec, SplitMix64, generate_building};
 use flowrise_core::project::file::{FORMAT_VERSION, FileError, MAX_FILE_BYTES, migrate};
-use flowrise_core::project::{Edit, LevelId, NodeKind, Project, PumpSpec, ReturnLayout, RunProps};
+use flowrise_core::project::{
+    BranchDevice, CircuitConnection, Edit, LevelId, NodeKind, Project, PumpSpec, ReturnLayout, RunProps,
+};
 use flowrise_core::pump::PumpControl;
 use flowrise_tests::builder::{Builder, SMALL_PUMP};
 
@@ -96,6 +98,28 @@ fn every_field_project() -> Project {
     b.run(h, fl);
     let t = b.terminal(up, 2.0, 3.0, "Office", 900.0, 20.0, 2000.0);
     b.run(top, t);
+    // A branch behind a Δp controller with a fixed model and set-point, a
+    // mixing circuit with its own loop, and a separator with a pump-only
+    // circuit behind a balancing valve.
+    let bj = b.junction(g, 4.0, -3.0);
+    let rb = b.run(j, bj);
+    let device =
+        Some(BranchDevice::DpController { family: Some("dpc-demo-dn15".to_owned()), setpoint_kpa: Some(12.0) });
+    b.p.apply(Edit::SetRunProps { id: rb, props: RunProps { device, ..RunProps::default() } }).unwrap();
+    let kitchen = b.radiator(g, 6.0, -3.0, "Kitchen", 800.0, 20.0);
+    b.run(bj, kitchen);
+    let mix = b.circuit(g, 2.0, -3.0, "Floor circuit", CircuitConnection::MixingValve, (38.0, 30.0));
+    b.run(bj, mix);
+    let lp = b.floor_loop(g, 2.0, -6.0, "Study floor", 500.0, 20.0, 12.0, FloorZone::Occupied);
+    b.run(mix, lp);
+    let sep = b.separator(up, 1.0, -2.0, "Separator");
+    let rs = b.run(top, sep);
+    let device = Some(BranchDevice::BalancingValve { family: None, setting: Some("3".to_owned()) });
+    b.p.apply(Edit::SetRunProps { id: rs, props: RunProps { device, ..RunProps::default() } }).unwrap();
+    let direct = b.circuit(up, 1.0, -4.0, "Attic", CircuitConnection::Direct, (70.0, 55.0));
+    b.run(sep, direct);
+    let attic = b.radiator(up, 3.0, -4.0, "Attic room", 700.0, 20.0);
+    b.run(direct, attic);
     // Pump design flow (written when a design is frozen) and a static height.
     if let Some(NodeKind::Source(mut src)) = b.p.node(s).map(|n| n.kind.clone()) {
         src.pump = PumpSpec { design_flow_m3_h: Some(1.1), ..src.pump.clone() };

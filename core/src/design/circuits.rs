@@ -137,7 +137,15 @@ fn plan(p: &Project, t: &Topology, out: &mut Vec<Finding>) -> Vec<Part> {
                 let supply_c = set_supply.min(feed_supply);
                 let return_c = if c.return_c < supply_c { c.return_c } else { supply_c - s.min_water_drop_k.max(0.5) };
                 if from_separator {
-                    // The run from the separator is part of the separator.
+                    // The run from the separator is part of the separator:
+                    // a device on it would do nothing.
+                    if p.run(tr.run).is_some_and(|r| r.props.device.is_some()) {
+                        out.push(findings::device_ignored(
+                            tr.run,
+                            "it sits between a hydraulic separator and a pumped circuit, where the circuit's own pump \
+                             sets the flow — put it on one of the circuit's runs",
+                        ));
+                    }
                 } else {
                     parts[ci].runs.push(tr.run);
                     parts[ci].nodes.push(tr.down);

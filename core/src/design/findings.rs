@@ -157,6 +157,8 @@ pub enum FindingKind {
     /// A mixing or injection circuit is set warmer than the water it is fed
     /// with: it runs at the feed's temperature.
     CircuitFedTooCold,
+    /// A balancing device sits where it can have no effect.
+    DeviceIgnored,
 }
 
 impl FindingKind {
@@ -178,7 +180,7 @@ impl FindingKind {
     ];
 
     /// Every kind, in declaration order.
-    pub const ALL: [Self; 57] = [
+    pub const ALL: [Self; 58] = [
         Self::NoSource,
         Self::SourceUnconnected,
         Self::LoopClosed,
@@ -236,6 +238,7 @@ impl FindingKind {
         Self::CircuitFeedShort,
         Self::SeparatorFlowShort,
         Self::CircuitFedTooCold,
+        Self::DeviceIgnored,
     ];
 
     /// Position in [`Self::ALL`] (an exhaustive match: a new kind does not
@@ -301,6 +304,7 @@ impl FindingKind {
             Self::CircuitFeedShort => 54,
             Self::SeparatorFlowShort => 55,
             Self::CircuitFedTooCold => 56,
+            Self::DeviceIgnored => 57,
         }
     }
 

@@ -648,3 +648,11 @@ pub(crate) fn circuit_fed_too_cold(node: &Node, supply_c: f64, feed_c: f64) -> F
         ),
     )
 }
+
+pub(crate) fn device_ignored(run: RunId, why: &str) -> Finding {
+    Finding::warning(
+        FindingKind::DeviceIgnored,
+        ItemRef::Run(run),
+        format!("run {run}: its balancing device has no effect: {why}"),
+    )
+}
