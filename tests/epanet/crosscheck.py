@@ -161,7 +161,16 @@ def main():
         ok = probe_constants(work)
         if not ok:
             print("FAIL probe: EPANET's gravity or reference viscosity is not what the export assumes")
-        cases = [(p.stem, p) for p in sorted((ROOT / "demo-projects").glob("*.ron"))]
+        cases = []
+        for p in sorted((ROOT / "demo-projects").glob("*.ron")):
+            # A project with pumped circuits is several networks joined by the
+            # regulated flows of their valves; one EPANET file cannot hold it
+            # and the export refuses it by name (tests/tests/circuits.rs
+            # checks the energy and mass balance of such projects instead).
+            if "Circuit((" in p.read_text():
+                print(f"SKIP {p.stem}: pumped circuits (not one EPANET network)")
+                continue
+            cases.append((p.stem, p))
         for name, gen_args in GENERATED:
             path = work / f"{name}.ron"
             run([flowrise, "generate", *gen_args, "-o", path])
