@@ -176,14 +176,14 @@ pub fn role_text(role: Option<&LinkRole>) -> String {
 }
 
 /// A pump link and its law: (link, a0 Pa, a1 Pa·s/kg, a2 Pa·s²/kg², the
-/// maximum-curve bound).
-type PumpOf = (usize, f64, f64, f64, Option<[f64; 3]>);
+/// maximum-curve bound, the flow beyond which the curve is straight kg/s).
+type PumpOf = (usize, f64, f64, f64, Option<[f64; 3]>, f64);
 
 /// The pump link of the network and its law.
 fn pump_of(net: &HydraulicNetwork) -> Option<PumpOf> {
     net.links.iter().enumerate().find_map(|(k, l)| match l.law {
-        LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
-            Some((k, a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa))
+        LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa, linear_beyond_kg_s } => {
+            Some((k, a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa, linear_beyond_kg_s))
         }
         _ => None,
     })
@@ -191,8 +191,8 @@ fn pump_of(net: &HydraulicNetwork) -> Option<PumpOf> {
 
 /// Whether EPANET's three-point power curve reproduces the law exactly (a
 /// law bounded by a maximum curve never is).
-fn curve_is_exact(a0: f64, a1: f64, a2: f64, bound: Option<[f64; 3]>) -> bool {
-    bound.is_none() && a0 > 0.0 && ((a1 == 0.0 && a2 < 0.0) || (a2 == 0.0 && a1 < 0.0))
+fn curve_is_exact(a0: f64, a1: f64, a2: f64, bound: Option<[f64; 3]>, linear_beyond: f64) -> bool {
+    bound.is_none() && linear_beyond.is_infinite() && a0 > 0.0 && ((a1 == 0.0 && a2 < 0.0) || (a2 == 0.0 && a1 < 0.0))
 }
 
 /// The exported `.inp` text of a solved project's network.
@@ -230,9 +230,9 @@ pub fn network_to_inp(sol: &Solution, title: &str, opts: &ExportOptions) -> Phys
     let pump = pump_of(net);
     let (pump_link, pump_as_curve) = match (pump, opts.pump) {
         (None, _) => (None, false),
-        (Some((k, a0, a1, a2, bound)), PumpExport::Auto) => (Some(k), curve_is_exact(a0, a1, a2, bound)),
-        (Some((k, a0, a1, a2, bound)), PumpExport::Curve) => {
-            if bound.is_some() || !(a0 > 0.0 && a1 <= 0.0 && a2 <= 0.0 && (a1 < 0.0 || a2 < 0.0)) {
+        (Some((k, a0, a1, a2, bound, lb)), PumpExport::Auto) => (Some(k), curve_is_exact(a0, a1, a2, bound, lb)),
+        (Some((k, a0, a1, a2, bound, lb)), PumpExport::Curve) => {
+            if bound.is_some() || lb.is_finite() || !(a0 > 0.0 && a1 <= 0.0 && a2 <= 0.0 && (a1 < 0.0 || a2 < 0.0)) {
                 return Err(PhysicsError::Inconsistent(
                     "the pump law is not a parabola falling from zero flow (constant or proportional Δp control, \
                      or a curve held flat near shut-off): EPANET's pump curve cannot represent it — export it as a \
@@ -249,7 +249,9 @@ pub fn network_to_inp(sol: &Solution, title: &str, opts: &ExportOptions) -> Phys
     let ref_head_m = net.nodes[net.reference_node].elevation_m + to_head(net.reference_pressure_pa);
     let mut outlet_reservoir: Option<(usize, f64)> = None;
     if let (Some(k), false) = (pump_link, pump_as_curve) {
-        let Some((_, a0, a1, a2, bound)) = pump else { return Err(PhysicsError::Inconsistent("no pump".into())) };
+        let Some((_, a0, a1, a2, bound, linear_beyond)) = pump else {
+            return Err(PhysicsError::Inconsistent("no pump".into()));
+        };
         let Some(m) = pump_flow_kg_s.filter(|m| m.is_finite()) else {
             return Err(PhysicsError::Inconsistent(
                 "the pump's operating flow is not known (no operating solve) — a fixed head rise needs it".into(),
@@ -257,7 +259,7 @@ pub fn network_to_inp(sol: &Solution, title: &str, opts: &ExportOptions) -> Phys
         };
         // The rise actually given at the operating point (a controlled
         // pump's law bounded by its maximum curve).
-        let rise_pa = crate::network::solver::pump_rise_and_slope([a0, a1, a2], bound, m).0;
+        let rise_pa = crate::network::solver::pump_rise_and_slope([a0, a1, a2], bound, linear_beyond, m).0;
         let link = &net.links[k];
         if link.to == net.reference_node {
             return Err(PhysicsError::Inconsistent("the pump discharges into the reference node".into()));
@@ -368,18 +370,19 @@ pub fn network_to_inp(sol: &Solution, title: &str, opts: &ExportOptions) -> Phys
                     let _ = writeln!(status, "{}\tClosed", link_id(k));
                 }
             }
-            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, .. } => {
+            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, linear_beyond_kg_s, .. } => {
                 if !pump_as_curve {
                     let _ = writeln!(pipes, ";{} ({role}) written as the reservoir {b}", link_id(k));
                     continue;
                 }
                 // A bounded (controlled) law is refused above: this is a curve.
-                let rise = |m: f64| a0_pa + m * (a1_pa_s_kg + m * a2_pa_s2_kg2);
+                let law = [*a0_pa, *a1_pa_s_kg, *a2_pa_s2_kg2];
+                let rise = |m: f64| crate::pump::pump_law_at(law, *linear_beyond_kg_s, m).0;
                 // Flow where the law reaches zero rise, kg/s.
-                let m_zero = if *a2_pa_s2_kg2 < 0.0 {
-                    (-a1_pa_s_kg - (a1_pa_s_kg * a1_pa_s_kg - 4.0 * a2_pa_s2_kg2 * a0_pa).sqrt()) / (2.0 * a2_pa_s2_kg2)
-                } else {
-                    -a0_pa / a1_pa_s_kg
+                let Some(m_zero): Option<f64> = crate::pump::law_zero_flow(law, *linear_beyond_kg_s) else {
+                    return Err(PhysicsError::Inconsistent(format!(
+                        "the pump law of {role} never reaches zero rise — check the pump curve"
+                    )));
                 };
                 let m_op = pump_flow_kg_s.filter(|m| m.is_finite() && *m > 0.0).unwrap_or(0.5 * m_zero);
                 let m1 = m_op.min(0.6 * m_zero);
@@ -448,7 +451,7 @@ pub fn flows_json(sol: &Solution, opts: &ExportOptions) -> PhysicsResult<serde_j
     let net = &sol.network;
     let fluid = reference_fluid(net)?;
     let pump_as_curve = match (pump_of(net), opts.pump) {
-        (Some((_, a0, a1, a2, bound)), PumpExport::Auto) => curve_is_exact(a0, a1, a2, bound),
+        (Some((_, a0, a1, a2, bound, lb)), PumpExport::Auto) => curve_is_exact(a0, a1, a2, bound, lb),
         (Some(_), PumpExport::Curve) => true,
         _ => false,
     };

@@ -31,7 +31,7 @@ fn quad(r: f64) -> LinkLaw {
 }
 
 fn pump(a0: f64, a1: f64, a2: f64) -> LinkLaw {
-    LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2, max_curve_pa: None }
+    LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2, max_curve_pa: None, linear_beyond_kg_s: f64::INFINITY }
 }
 
 fn solve_fresh(net: &HydraulicNetwork) -> SolveReport {

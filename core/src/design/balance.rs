@@ -398,8 +398,9 @@ impl Derivation<'_> {
                     Some([c0, c1, c2])
                 }
             };
+            let linear_beyond_kg_s = crate::pump::curve_linear_beyond_kg_s(curve, rp.density_kg_m3);
             self.net.links[self.pump_link].law =
-                LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2, max_curve_pa };
+                LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: a1, a2_pa_s2_kg2: a2, max_curve_pa, linear_beyond_kg_s };
         }
         self.net.reference_pressure_pa = 0.0;
     }

@@ -106,7 +106,13 @@ impl Derivation<'_> {
             r_src,
             pump_out,
             rp.density_kg_m3,
-            LinkLaw::Pump { a0_pa: 0.0, a1_pa_s_kg: 0.0, a2_pa_s2_kg2: 0.0, max_curve_pa: None },
+            LinkLaw::Pump {
+                a0_pa: 0.0,
+                a1_pa_s_kg: 0.0,
+                a2_pa_s2_kg2: 0.0,
+                max_curve_pa: None,
+                linear_beyond_kg_s: f64::INFINITY,
+            },
             LinkRole::Pump(source),
         );
         match crate::pump::PumpCurve::from_three_points(src.pump.curve_points) {

@@ -194,10 +194,10 @@ impl Derivation<'_> {
         if let (Some(pump), Some(rp)) = (sol.pump.as_mut(), self.return_props) {
             let m = flows[self.pump_link];
             let (rise, control_rise) = match &self.net.links[self.pump_link].law {
-                LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
+                LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa, linear_beyond_kg_s } => {
                     let law = [*a0_pa, *a1_pa_s_kg, *a2_pa_s2_kg2];
-                    let rise = solver::pump_rise_and_slope(law, *max_curve_pa, m).0;
-                    (rise, solver::pump_rise_and_slope(law, None, m).0)
+                    let rise = solver::pump_rise_and_slope(law, *max_curve_pa, *linear_beyond_kg_s, m).0;
+                    (rise, solver::pump_rise_and_slope(law, None, *linear_beyond_kg_s, m).0)
                 }
                 LinkLaw::Pipe(_) | LinkLaw::Quadratic { .. } => (0.0, 0.0),
             };

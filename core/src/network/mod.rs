@@ -52,6 +52,11 @@ pub enum LinkLaw {
         /// its curve at full speed, so the rise is the lower of the two at
         /// every flow. `None` for a pump running on its curve.
         max_curve_pa: Option<[f64; 3]>,
+        /// Beyond this mass flow, kg/s, each of the two quadratics above is
+        /// its tangent there (a pump curve that would turn up again,
+        /// [`crate::pump::pump_law_at`]); infinite when not. A straight-line
+        /// control law is unchanged by it.
+        linear_beyond_kg_s: f64,
     },
 }
 

@@ -462,11 +462,12 @@ pub fn static_term_pa(density_kg_m3: f64, from_elevation_m: f64, to_elevation_m:
 /// range both laws are single-valued in flow, so their lower one is one
 /// continuous law with a kink where they cross; the slope taken is the one
 /// of the law in force. Each quadratic is evaluated by
-/// [`crate::pump::held_quadratic`] (a curve flat near shut-off is held at
-/// its peak), so a pump law never rises with flow.
+/// [`crate::pump::pump_law_at`] (a curve flat near shut-off is held at
+/// its peak, one that would turn up again continues as its tangent beyond
+/// `linear_beyond`), so a pump law never rises with flow.
 #[must_use]
-pub fn pump_rise_and_slope(law: [f64; 3], max_curve: Option<[f64; 3]>, m: f64) -> (f64, f64) {
-    let eval = |c: [f64; 3]| crate::pump::held_quadratic(c, m);
+pub fn pump_rise_and_slope(law: [f64; 3], max_curve: Option<[f64; 3]>, linear_beyond: f64, m: f64) -> (f64, f64) {
+    let eval = |c: [f64; 3]| crate::pump::pump_law_at(c, linear_beyond, m);
     let controlled = eval(law);
     match max_curve.map(eval) {
         Some(curve) if curve.0 < controlled.0 => curve,
@@ -489,7 +490,7 @@ pub(crate) enum LinkKernel {
     /// r·m|m| (linear below [`QUADRATIC_LINEAR_BELOW_KG_S`]).
     Quadratic(f64),
     /// −(a0 + a1·m + a2·m²), bounded by the maximum curve when given.
-    Pump([f64; 3], Option<[f64; 3]>),
+    Pump([f64; 3], Option<[f64; 3]>, f64),
 }
 
 impl LinkKernel {
@@ -497,8 +498,8 @@ impl LinkKernel {
         match *law {
             LinkLaw::Pipe(ref pipe) => Self::Pipe(PipeKernel::new(pipe)),
             LinkLaw::Quadratic { r_pa_s2_kg2 } => Self::Quadratic(r_pa_s2_kg2),
-            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
-                Self::Pump([a0_pa, a1_pa_s_kg, a2_pa_s2_kg2], max_curve_pa)
+            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa, linear_beyond_kg_s } => {
+                Self::Pump([a0_pa, a1_pa_s_kg, a2_pa_s2_kg2], max_curve_pa, linear_beyond_kg_s)
             }
         }
     }
@@ -515,8 +516,8 @@ impl LinkKernel {
                     (r * QUADRATIC_LINEAR_BELOW_KG_S * m, r * QUADRATIC_LINEAR_BELOW_KG_S)
                 }
             }
-            Self::Pump(law, max_curve) => {
-                let (rise, slope) = pump_rise_and_slope(law, max_curve, m);
+            Self::Pump(law, max_curve, linear_beyond) => {
+                let (rise, slope) = pump_rise_and_slope(law, max_curve, linear_beyond, m);
                 (-rise, -slope)
             }
         }
@@ -579,14 +580,26 @@ fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<b
             LinkLaw::Quadratic { r_pa_s2_kg2 } => {
                 check::non_negative("resistance coefficient r", r_pa_s2_kg2, "Pa·s²/kg²").map(|_| ())
             }
-            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa } => {
+            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa, linear_beyond_kg_s } => {
                 let [c0, c1, c2] = max_curve_pa.unwrap_or_default();
+                let linear_beyond_ok = if linear_beyond_kg_s.is_nan() || linear_beyond_kg_s < 0.0 {
+                    Err(PhysicsError::OutOfRange {
+                        quantity: "pump curve's linear continuation flow",
+                        value: linear_beyond_kg_s,
+                        unit: "kg/s",
+                        min: 0.0,
+                        max: f64::INFINITY,
+                    })
+                } else {
+                    Ok(())
+                };
                 check::finite("pump coefficient a0", a0_pa, "Pa")
                     .and_then(|_| check::finite("pump coefficient a1", a1_pa_s_kg, "Pa·s/kg"))
                     .and_then(|_| check::finite("pump coefficient a2", a2_pa_s2_kg2, "Pa·s²/kg²"))
                     .and_then(|_| check::finite("pump maximum-curve coefficient a0", c0, "Pa"))
                     .and_then(|_| check::finite("pump maximum-curve coefficient a1", c1, "Pa·s/kg"))
                     .and_then(|_| check::finite("pump maximum-curve coefficient a2", c2, "Pa·s²/kg²"))
+                    .and(linear_beyond_ok)
                     .map(|_| ())
             }
         };

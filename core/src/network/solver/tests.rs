@@ -18,7 +18,13 @@ fn quad(r: f64) -> LinkLaw {
 }
 
 fn pump(a0: f64) -> LinkLaw {
-    LinkLaw::Pump { a0_pa: a0, a1_pa_s_kg: 0.0, a2_pa_s2_kg2: 0.0, max_curve_pa: None }
+    LinkLaw::Pump {
+        a0_pa: a0,
+        a1_pa_s_kg: 0.0,
+        a2_pa_s2_kg2: 0.0,
+        max_curve_pa: None,
+        linear_beyond_kg_s: f64::INFINITY,
+    }
 }
 
 /// Pump 0 → 1, circuit 1 → 0 (reference 0).
@@ -145,7 +151,13 @@ fn link_laws() {
     assert!((at - below).abs() < 1e-12 * at.abs().max(1e-30) + 1e-18, "{at} {below}");
     assert!(slope > 0.0);
     // Pump: drop = −rise.
-    let law = LinkLaw::Pump { a0_pa: 30_000.0, a1_pa_s_kg: -1000.0, a2_pa_s2_kg2: -5000.0, max_curve_pa: None };
+    let law = LinkLaw::Pump {
+        a0_pa: 30_000.0,
+        a1_pa_s_kg: -1000.0,
+        a2_pa_s2_kg2: -5000.0,
+        max_curve_pa: None,
+        linear_beyond_kg_s: f64::INFINITY,
+    };
     let (dp, d) = link_dp(&law, 1.0).unwrap();
     assert!((dp + 24_000.0).abs() < 1e-9 && (d - 11_000.0).abs() < 1e-9, "{dp} {d}");
     // Static term: downhill link pushes along it.
@@ -217,16 +229,34 @@ fn demand_in_a_part_cut_off_by_closed_links_is_an_error() {
 fn a_control_law_above_the_curve_gives_the_curve_result() {
     let curve = [8_000.0, 0.0, -2_000.0];
     let mut net = loop_net(20_000.0, 4_000.0);
-    net.links[0].law = LinkLaw::Pump { a0_pa: 20_000.0, a1_pa_s_kg: 0.0, a2_pa_s2_kg2: 0.0, max_curve_pa: Some(curve) };
+    net.links[0].law = LinkLaw::Pump {
+        a0_pa: 20_000.0,
+        a1_pa_s_kg: 0.0,
+        a2_pa_s2_kg2: 0.0,
+        max_curve_pa: Some(curve),
+        linear_beyond_kg_s: f64::INFINITY,
+    };
     let bounded = run(&net).unwrap();
-    net.links[0].law = LinkLaw::Pump { a0_pa: 8_000.0, a1_pa_s_kg: 0.0, a2_pa_s2_kg2: -2_000.0, max_curve_pa: None };
+    net.links[0].law = LinkLaw::Pump {
+        a0_pa: 8_000.0,
+        a1_pa_s_kg: 0.0,
+        a2_pa_s2_kg2: -2_000.0,
+        max_curve_pa: None,
+        linear_beyond_kg_s: f64::INFINITY,
+    };
     let on_curve = run(&net).unwrap();
     assert!(bounded.converged && on_curve.converged);
     let exact = (8_000.0_f64 / 6_000.0).sqrt();
     assert!((bounded.flows_kg_s[0] - exact).abs() < 1e-6 * exact, "{}", bounded.flows_kg_s[0]);
     assert!((bounded.flows_kg_s[0] - on_curve.flows_kg_s[0]).abs() < 1e-9);
     // A set-point below the curve is held: 5 kPa against r = 4000.
-    net.links[0].law = LinkLaw::Pump { a0_pa: 5_000.0, a1_pa_s_kg: 0.0, a2_pa_s2_kg2: 0.0, max_curve_pa: Some(curve) };
+    net.links[0].law = LinkLaw::Pump {
+        a0_pa: 5_000.0,
+        a1_pa_s_kg: 0.0,
+        a2_pa_s2_kg2: 0.0,
+        max_curve_pa: Some(curve),
+        linear_beyond_kg_s: f64::INFINITY,
+    };
     let held = run(&net).unwrap();
     assert!((held.flows_kg_s[0] - (5_000.0_f64 / 4_000.0).sqrt()).abs() < 1e-6);
 }
