@@ -437,8 +437,37 @@ impl FlowriseApp {
         self.file_request.is_some()
     }
 
+    /// The answer of a report being opened, when it has come: a failure
+    /// becomes a notice naming the file and the reason.
+    fn poll_opening(&mut self, ctx: &egui::Context) {
+        let Some((path, rx)) = self.opening.take() else { return };
+        let failure = match rx.try_recv() {
+            Ok(Ok(())) => {
+                self.status = Some(Status::note(format!("opened {} with the default program", path.display())));
+                return;
+            }
+            Ok(Err(e)) => e.to_string(),
+            Err(std::sync::mpsc::TryRecvError::Empty) => {
+                self.opening = Some((path, rx));
+                ctx.request_repaint_after(Duration::from_millis(200));
+                return;
+            }
+            Err(std::sync::mpsc::TryRecvError::Disconnected) => "the opening stopped without an answer".to_owned(),
+        };
+        let text = format!("cannot open {} with the default program: {failure}", path.display());
+        self.status = Some(Status::error(&text));
+        self.notice = Some(Notice {
+            title: "The report was written but not opened".to_owned(),
+            text: format!("{text}. Open the file from your file manager or browser."),
+            error: true,
+            open: None,
+            retry: None,
+        });
+    }
+
     /// The notice window, while there is one.
     pub(super) fn notice_window(&mut self, ctx: &egui::Context) {
+        self.poll_opening(ctx);
         let Some(n) = self.notice.clone() else { return };
         if self.file_request.is_some() {
             return;
@@ -477,23 +506,19 @@ impl FlowriseApp {
                 self.notice = None;
                 self.choose_file(r);
             }
-            Some(Choice::Open(p)) => match open::that_detached(&p) {
-                Ok(()) => {
-                    self.notice = None;
-                    self.status = Some(Status::note(format!("opened {} with the default program", p.display())));
-                }
-                Err(e) => {
-                    let text = format!("cannot open {} with the default program: {e}", p.display());
-                    self.status = Some(Status::error(&text));
-                    self.notice = Some(Notice {
-                        title: "The report was written but not opened".to_owned(),
-                        text: format!("{text}. Open the file from your file manager or browser."),
-                        error: true,
-                        open: None,
-                        retry: None,
-                    });
-                }
-            },
+            Some(Choice::Open(p)) => {
+                // The opener waits for the program's answer (a desktop
+                // without a browser fails only then), so on a worker thread.
+                self.notice = None;
+                self.status = Some(Status::note(format!("opening {} with the default program…", p.display())));
+                let (tx, rx) = std::sync::mpsc::channel();
+                let (opener, path) = (self.opener, p.clone());
+                std::thread::spawn(move || {
+                    let _ = tx.send(opener(&path));
+                });
+                self.opening = Some((p, rx));
+                ctx.request_repaint();
+            }
             None => {}
         }
     }
@@ -515,4 +540,17 @@ fn waiting_window(ctx: &egui::Context, title: &str) -> bool {
         }
     });
     switch
+}
+
+/// How a file is opened with the default program; returns its failure.
+pub type Opener = fn(&std::path::Path) -> std::io::Result<()>;
+
+/// The desktop's default program for the file (the `open` crate, which
+/// waits for the launcher's exit status, so a desktop without a browser is
+/// reported instead of passed over).
+///
+/// # Errors
+/// The launcher could not be started or reported a failure.
+pub fn open_with_default_program(path: &std::path::Path) -> std::io::Result<()> {
+    open::that(path)
 }

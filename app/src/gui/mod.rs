@@ -95,6 +95,10 @@ pub struct FlowriseApp {
     probe: dialogs::Probe,
     /// A failure or a finished export waiting for an answer.
     notice: Option<Notice>,
+    /// How a written report is opened with the default program.
+    opener: file_flow::Opener,
+    /// A report being opened on a worker thread, and its answer to come.
+    opening: Option<(PathBuf, std::sync::mpsc::Receiver<std::io::Result<()>>)>,
     /// What waits for the save behind the conflict question.
     conflict_then: Option<Pending>,
     /// The window title last sent.
@@ -142,6 +146,8 @@ impl FlowriseApp {
             file_request: None,
             probe: dialogs::Probe::none("no desktop dialog was looked for"),
             notice: None,
+            opener: file_flow::open_with_default_program,
+            opening: None,
             conflict_then: None,
             title: String::new(),
             top_height: 32.0,
@@ -164,6 +170,14 @@ impl FlowriseApp {
             }
             Err(e) => self.status = Some(Status::error(format!("no autosave: {e}"))),
         }
+        self
+    }
+
+    /// Open written reports with `opener` instead of the default program
+    /// (tests: an opener that fails, to see the message).
+    #[must_use]
+    pub fn with_opener(mut self, opener: file_flow::Opener) -> Self {
+        self.opener = opener;
         self
     }
 

@@ -102,6 +102,39 @@ fn the_in_window_dialog_saves_opens_and_exports_to_chosen_paths() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// An opener standing in for a desktop without a browser.
+fn no_browser(_: &std::path::Path) -> std::io::Result<()> {
+    Err(std::io::Error::other("no program is set to open .html files"))
+}
+
+#[test]
+fn a_report_that_cannot_be_opened_says_so_with_the_path_and_the_reason() {
+    let dir = temp_dir("open-report");
+    std::fs::create_dir_all(&dir).unwrap();
+    let app = app_without_desktop_dialogs(demo(FLAT), None, &dir).with_opener(no_browser);
+    let mut h = harness_app(app);
+    h.get_by_label("Parts list").click();
+    h.run();
+    h.get_by_label("Export design report (HTML)…").click();
+    h.run();
+    dialog_type(&mut h, "Save as (file name or path)", "report.html");
+    assert!(dir.join("report.html").is_file());
+    h.get_by_label("Open in browser").click();
+    // The opener answers on a worker thread.
+    let mut shown = false;
+    for _ in 0..100 {
+        h.run();
+        if h.query_by_label("The report was written but not opened").is_some() {
+            shown = true;
+            break;
+        }
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    assert!(shown, "the failure is a message, not silence");
+    assert!(h.query_all_by_label_contains("no program is set to open .html files").count() >= 1, "… with the reason");
+    assert!(h.query_all_by_label_contains("report.html").count() >= 1, "… and the file");
+}
+
 #[test]
 fn the_preference_forces_the_in_window_dialog() {
     let dir = temp_dir("forced-dialog");
