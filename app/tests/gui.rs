@@ -649,3 +649,6 @@ static CWD: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 #[path = "gui/files_and_layout.rs"]
 mod files_and_layout;
+
+#[path = "gui/underlay.rs"]
+mod underlay;

@@ -268,7 +268,12 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     let mut rng = SplitMix64::new(spec.seed);
     let mut d = Draft { nodes: Vec::new(), runs: Vec::new(), next_node: 1, next_run: 1 };
     let levels: Vec<Level> = (0..spec.floors)
-        .map(|f| Level { id: LevelId(f), name: format!("Level {f}"), elevation_m: FLOOR_HEIGHT_M * f64::from(f) })
+        .map(|f| Level {
+            id: LevelId(f),
+            name: format!("Level {f}"),
+            elevation_m: FLOOR_HEIGHT_M * f64::from(f),
+            underlay: None,
+        })
         .collect();
 
     // Source first (its pump is set after a first design pass).

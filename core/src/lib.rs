@@ -27,6 +27,7 @@ pub mod project;
 pub mod pump;
 pub mod report;
 pub mod sweep;
+pub mod underlay;
 pub mod valves;
 pub mod vessel;
 pub mod water;

@@ -63,6 +63,9 @@ pub struct Studies<'a> {
     pub sweep: Option<&'a crate::sweep::SweepResult>,
     /// Part-load cases and how many valves were closed.
     pub part_load: Option<(&'a [crate::sweep::PartLoadCase], usize)>,
+    /// The levels' plan underlays, read from their files
+    /// ([`svg::PlanUnderlays::read`]); none drawn without.
+    pub underlays: Option<&'a svg::PlanUnderlays>,
 }
 
 /// The design report of a solved project as one HTML document.
@@ -100,7 +103,7 @@ pub fn report_html_with(p: &Project, sol: &Solution, parts: &PartsList, studies:
          local equivalent). See <a href=\"#cautions\">Cautions</a>.</div>\n",
     );
     conditions(&mut h, p, sol, parts);
-    drawings(&mut h, p, sol);
+    drawings(&mut h, p, sol, studies.underlays);
     emitters_table(&mut h, p, sol);
     pipes_table(&mut h, sol);
     devices_table(&mut h, sol);
@@ -205,7 +208,7 @@ fn conditions(h: &mut String, p: &Project, sol: &Solution, parts: &PartsList) {
     h.push_str("</table></div></div></section>\n");
 }
 
-fn drawings(h: &mut String, p: &Project, sol: &Solution) {
+fn drawings(h: &mut String, p: &Project, sol: &Solution, underlays: Option<&svg::PlanUnderlays>) {
     h.push_str(
         "<section id=\"plans\"><h2>2 Level plans</h2><p class=\"muted\">Runs are drawn as one line for the supply + return \
          pair, coloured by the velocity margin v / v<sub>limit</sub> of the worse side (viridis scale, 0 → 1); runs over \
@@ -216,15 +219,22 @@ fn drawings(h: &mut String, p: &Project, sol: &Solution) {
     levels.sort_by(|a, b| b.elevation_m.total_cmp(&a.elevation_m));
     for level in levels {
         let count = p.nodes().filter(|n| n.level == level.id && matches!(n.kind, NodeKind::Emitter(_))).count();
+        let underlay = underlays.and_then(|u| u.levels.get(&level.id));
+        let missing = match (underlay, &level.underlay) {
+            (Some(Err(e)), Some(u)) => {
+                format!(" · <span class=\"warn\">plan underlay {} not drawn: {}</span>", esc(&u.path), esc(e))
+            }
+            _ => String::new(),
+        };
         w!(
             h,
-            "<figure class=\"plan\" data-level=\"{}\"><figcaption><strong>{}</strong> ({}) · elevation {:+.2} m · {count} emitter{}</figcaption>{}</figure>\n",
+            "<figure class=\"plan\" data-level=\"{}\"><figcaption><strong>{}</strong> ({}) · elevation {:+.2} m · {count} emitter{}{missing}</figcaption>{}</figure>\n",
             level.id,
             esc(&level.name),
             level.id,
             level.elevation_m,
             if count == 1 { "" } else { "s" },
-            svg::level_plan(p, sol, level)
+            svg::level_plan(p, sol, level, underlay.and_then(|u| u.as_ref().ok()))
         );
     }
     h.push_str("</section>\n<section id=\"riser\"><h2>3 Riser elevation</h2><p class=\"muted\">Levels at their elevations; vertical runs between them, one column per riser position, with the horizontal runs that leave each riser node.</p>");

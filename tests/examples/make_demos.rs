@@ -196,7 +196,27 @@ pub fn house() -> Project {
     b.p
 }
 
+/// The invented floor plan of the flat demo (a DXF in millimetres), drawn
+/// around its rooms so the network can be shown traced over a plan.
+fn flat_plan() {
+    let rooms: [(&str, [f64; 4], [f64; 2]); 8] = [
+        ("Kitchen", [-0.3, -0.8, 3.0, 5.5], [2.94, 3.0]),
+        ("Living room", [-0.3, 5.5, 7.0, 8.3], [5.5, 5.56]),
+        ("Hall", [3.0, -0.8, 9.5, 2.5], [4.0, 2.44]),
+        ("Corridor", [3.0, 2.5, 10.5, 5.5], [3.06, 4.5]),
+        ("Bedroom 1", [7.0, 5.5, 10.5, 8.3], [8.5, 5.56]),
+        ("Bathroom", [10.5, 2.5, 14.0, 8.3], [10.56, 3.0]),
+        ("Store", [9.5, -0.8, 14.0, 2.5], [11.0, 2.44]),
+        ("Bedroom 2", [14.0, -0.8, 17.2, 8.3], [14.06, 4.5]),
+    ];
+    let path = flowrise_tests::repo_root().join("demo-projects/plans/flat-3b-plan.dxf");
+    std::fs::create_dir_all(path.parent().unwrap()).unwrap();
+    flowrise_core::underlay::invented::rooms_dxf(&path, &rooms, 0.3).unwrap();
+    println!("wrote {}", path.display());
+}
+
 fn main() {
+    flat_plan();
     write(
         &flat(),
         "flat-six-radiators.ron",

@@ -176,7 +176,7 @@ fn sweep_and_part_load_export_as_csv_and_appear_in_the_report() {
         &p,
         &sol,
         &parts,
-        flowrise_core::report::Studies { sweep: Some(&r), part_load: Some((&cases, closed.len())) },
+        flowrise_core::report::Studies { sweep: Some(&r), part_load: Some((&cases, closed.len())), underlays: None },
     );
     assert!(html.contains("id=\"studies\""));
     assert!(html.contains(&format!("covered down to {:.1} °C", r.lowest_supply_c.unwrap())));

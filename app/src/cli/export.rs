@@ -58,7 +58,11 @@ pub fn export(file: &Path, output: Option<&Path>, what: Export) -> ExitCode {
                 return ExitCode::FAILURE;
             }
         },
-        Export::Report => flowrise_core::report::report_html(&project, &sol, &parts),
+        Export::Report => {
+            let underlays = read_underlays(&project, file);
+            let studies = flowrise_core::report::Studies { underlays: Some(&underlays), ..Default::default() };
+            flowrise_core::report::report_html_with(&project, &sol, &parts, studies)
+        }
         Export::Commissioning => {
             let lines = flowrise_core::commissioning::schedule(&project, &sol);
             match flowrise_core::commissioning::schedule_csv(&lines) {
@@ -81,9 +85,11 @@ pub fn export(file: &Path, output: Option<&Path>, what: Export) -> ExitCode {
             if let Err(e) = &cases {
                 eprintln!("flowrise: part load: {e} (left out of the report)");
             }
+            let underlays = read_underlays(&project, file);
             let studies = flowrise_core::report::Studies {
                 sweep: sweep_result.as_ref().ok(),
                 part_load: cases.as_ref().ok().map(|c| (c.as_slice(), closed.len())),
+                underlays: Some(&underlays),
             };
             flowrise_core::report::report_html_with(&project, &sol, &parts, studies)
         }
@@ -101,4 +107,17 @@ pub fn export(file: &Path, output: Option<&Path>, what: Export) -> ExitCode {
         }
     }
     ExitCode::SUCCESS
+}
+
+/// The plan underlays of the report, read beside the project file; one
+/// that cannot be read is a warning on stderr (the report says so too).
+fn read_underlays(project: &flowrise_core::project::Project, file: &Path) -> flowrise_core::report::svg::PlanUnderlays {
+    let dir = std::path::absolute(file).ok().and_then(|f| f.parent().map(Path::to_path_buf));
+    let u = flowrise_core::report::svg::PlanUnderlays::read(project, dir.as_deref());
+    for (level, got) in &u.levels {
+        if let Err(e) = got {
+            eprintln!("flowrise: warning: plan underlay of level {level} not drawn: {e}");
+        }
+    }
+    u
 }

@@ -44,6 +44,8 @@ pub enum Action {
     RecoverWork,
     /// Switch the preference for flowrise's own file dialog.
     InWindowDialog,
+    /// Open the plan underlay panel of the shown level.
+    PlanUnderlay,
 }
 
 impl Action {
@@ -90,6 +92,7 @@ impl Action {
             Self::Quit => "Quit",
             Self::RecoverWork => "Recover unsaved work…",
             Self::InWindowDialog => "Use flowrise's own file dialog",
+            Self::PlanUnderlay => "Plan underlay…",
         }
     }
 
@@ -116,7 +119,8 @@ impl Action {
             | Self::ExportParts
             | Self::ExportReport
             | Self::RecoverWork
-            | Self::InWindowDialog => None,
+            | Self::InWindowDialog
+            | Self::PlanUnderlay => None,
         }
     }
 
@@ -163,6 +167,9 @@ impl Action {
             Self::RecoverWork => "Look again for unsaved work left by a flowrise that did not close cleanly",
             Self::InWindowDialog => {
                 "Choose files in a dialog drawn by flowrise instead of the desktop's (used anyway when the desktop has none)"
+            }
+            Self::PlanUnderlay => {
+                "Trace over a floor plan: put a PNG, JPEG, PDF or DXF drawing under this level, set its scale by two points, move, fade or lock it"
             }
         }
     }

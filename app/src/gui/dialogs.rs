@@ -245,7 +245,7 @@ impl DesktopDialog {
             take_rfd_errors();
             let mut d = rfd::FileDialog::new()
                 .set_title(&spec.title)
-                .add_filter(spec.file_type.filter_text(), &[spec.file_type.extension])
+                .add_filter(spec.file_type.filter_text(), &spec.file_type.extensions().collect::<Vec<_>>())
                 .set_directory(&spec.start_dir);
             let picked = match spec.mode {
                 DialogMode::Open => d.pick_file(),

@@ -32,26 +32,36 @@ pub struct FileType {
     pub name: &'static str,
     /// Extension without the dot ("ron").
     pub extension: &'static str,
+    /// Further extensions of the same type ("jpg" beside "png").
+    pub more: &'static [&'static str],
 }
 
 impl FileType {
     /// A flowrise project file.
-    pub const PROJECT: Self = Self { name: "flowrise project", extension: "ron" };
+    pub const PROJECT: Self = Self { name: "flowrise project", extension: "ron", more: &[] };
     /// A parts list.
-    pub const CSV: Self = Self { name: "parts list (CSV)", extension: "csv" };
+    pub const CSV: Self = Self { name: "parts list (CSV)", extension: "csv", more: &[] };
     /// A design report.
-    pub const HTML: Self = Self { name: "design report (HTML)", extension: "html" };
+    pub const HTML: Self = Self { name: "design report (HTML)", extension: "html", more: &[] };
+    /// A plan to trace over (image, PDF or DXF drawing).
+    pub const PLAN: Self = Self { name: "plan", extension: "png", more: &["jpg", "jpeg", "pdf", "dxf"] };
+
+    /// Every extension of the type.
+    pub fn extensions(self) -> impl Iterator<Item = &'static str> {
+        std::iter::once(self.extension).chain(self.more.iter().copied())
+    }
 
     /// "flowrise project (*.ron)".
     #[must_use]
     pub fn filter_text(self) -> String {
-        format!("{} (*.{})", self.name, self.extension)
+        let globs: Vec<String> = self.extensions().map(|e| format!("*.{e}")).collect();
+        format!("{} ({})", self.name, globs.join(" "))
     }
 
     /// True when `name` carries this type's extension.
     #[must_use]
     pub fn matches(self, name: &str) -> bool {
-        Path::new(name).extension().is_some_and(|e| e.eq_ignore_ascii_case(self.extension))
+        Path::new(name).extension().is_some_and(|e| self.extensions().any(|x| e.eq_ignore_ascii_case(x)))
     }
 }
 

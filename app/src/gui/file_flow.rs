@@ -60,6 +60,8 @@ pub enum FilePurpose {
     },
     /// Write an export there.
     Export(export::Kind),
+    /// Read it as the plan underlay of a level.
+    Underlay(flowrise_core::project::LevelId),
 }
 
 /// A file being chosen.
@@ -206,6 +208,7 @@ impl FlowriseApp {
 
     /// Write the document to `path`; a failure is a notice. True when written.
     pub(super) fn write_project(&mut self, path: &Path) -> bool {
+        self.underlay_paths_for(path);
         match self.project.save(path) {
             Ok(()) => {
                 self.saved = self.project.clone();
@@ -290,9 +293,11 @@ impl FlowriseApp {
             _ => None,
         };
         let closed = flowrise_core::sweep::random_closed_set(&self.project, sc.closed_fraction, sc.seed).len();
+        let underlays = (kind == export::Kind::Report).then(|| self.report_underlays());
         let studies = flowrise_core::report::Studies {
             sweep: sweep.as_ref(),
             part_load: part_load.as_ref().map(|c| (c.as_slice(), closed)),
+            underlays: underlays.as_ref(),
         };
         match export::write(kind, &self.project, &sol, studies, path) {
             Ok(()) => {
@@ -353,6 +358,13 @@ impl FlowriseApp {
                 title: "Save the project".to_owned(),
                 file_type: FileType::PROJECT,
                 file_name: Some(format!("{stem}.ron")),
+                start_dir,
+            },
+            FilePurpose::Underlay(_) => DialogSpec {
+                mode: DialogMode::Open,
+                title: "Choose a plan to trace over".to_owned(),
+                file_type: FileType::PLAN,
+                file_name: None,
                 start_dir,
             },
             FilePurpose::Export(kind) => DialogSpec {
@@ -427,6 +439,7 @@ impl FlowriseApp {
                     }
                 }
                 FilePurpose::Export(kind) => self.write_export(kind, &path),
+                FilePurpose::Underlay(level) => self.underlay.start_import(level, path),
             },
         }
     }

@@ -43,6 +43,7 @@ mod solve;
 pub mod theme;
 mod tool_column;
 mod top_bar;
+pub mod underlay;
 
 use std::path::PathBuf;
 use std::sync::Arc;
@@ -115,6 +116,8 @@ pub struct FlowriseApp {
     autosave: Option<recovery::Autosaver>,
     /// Work of sessions that did not close cleanly, offered on start.
     orphans: Vec<recovery::Orphan>,
+    /// Plan underlays: files read, the panel, scale by two points.
+    underlay: underlay::UnderlayUi,
 }
 
 impl FlowriseApp {
@@ -153,6 +156,7 @@ impl FlowriseApp {
             top_height: 32.0,
             autosave: None,
             orphans: Vec::new(),
+            underlay: underlay::UnderlayUi::default(),
         }
     }
 
@@ -402,13 +406,15 @@ impl FlowriseApp {
         let mut drawer_view =
             drawer::DrawerView { open: &mut self.prefs.drawer_open, height: &mut self.prefs.drawer_height };
         drawer::show(ui, &self.project, &sol, &mut drawer_view, &mut self.drawer, &mut out);
+        self.underlay_frame(&ctx, &mut out);
         egui::CentralPanel::no_frame().show(ui, |ui| {
             let opts = canvas::CanvasOptions {
                 colour_by: self.prefs.colour_by,
                 show_labels: self.prefs.show_labels,
                 show_elevation: self.prefs.show_elevation && has_risers,
             };
-            canvas::show(ui, &self.project, &sol, opts, &mut self.canvas, self.selection, &mut out);
+            let (canvas, underlay) = (&mut self.canvas, &mut self.underlay);
+            canvas::show(ui, &self.project, &sol, opts, canvas, self.selection, underlay, &mut out);
         });
         self.windows(&ctx, &mut out);
         self.apply(out, &ctx);
@@ -724,6 +730,7 @@ impl FlowriseApp {
             Action::About => self.show_about = true,
             Action::ExportParts => self.export(export::Kind::Parts),
             Action::ExportReport => self.export(export::Kind::Report),
+            Action::PlanUnderlay => self.underlay.open = true,
         }
         ctx.request_repaint();
     }

@@ -142,6 +142,9 @@ pub fn show(ui: &mut Ui, tool: &mut Tool, header_outlets: &mut u32, out: &mut In
     }
     ui.add_space(10.0);
     ui.separator();
+    if ui.button(Action::PlanUnderlay.label()).on_hover_text(Action::PlanUnderlay.tooltip()).clicked() {
+        out.actions.push(Action::PlanUnderlay);
+    }
     if ui.button("Settings").on_hover_text(Action::Settings.tooltip()).clicked() {
         out.actions.push(Action::Settings);
     }

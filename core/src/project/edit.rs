@@ -27,7 +27,7 @@ pub enum Edit {
         /// Elevation of its pipework, m.
         elevation_m: f64,
     },
-    /// Change a level's name and elevation.
+    /// Change a level's name, elevation or plan underlay.
     SetLevel(Level),
     /// Add a node.
     AddNode {
@@ -421,11 +421,14 @@ impl Project {
                     ));
                 }
                 let id = LevelId(self.levels.iter().map(|l| l.id.0 + 1).max().unwrap_or(0));
-                self.levels.push(Level { id, name, elevation_m });
+                self.levels.push(Level { id, name, elevation_m, underlay: None });
                 self.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
             }
             Edit::SetLevel(level) => {
                 check_text(&format!("level {}", level.id), "name", &level.name)?;
+                if let Some((field, message)) = level.underlay.as_ref().and_then(|u| u.problems().into_iter().next()) {
+                    return Err(invalid(format!("plan underlay of level {} ({field})", level.name), message));
+                }
                 if !(limits::ELEVATION_M.contains(level.elevation_m)) {
                     return Err(invalid(
                         format!("level {}", level.name),

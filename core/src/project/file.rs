@@ -211,6 +211,9 @@ impl Project {
                 return Err(bad(format!("level {}", l.id), "this id is used twice — give each level its own id"));
             }
             check_text(&format!("level {}", l.id), "name", &l.name).map_err(from_edit)?;
+            if let Some((field, message)) = l.underlay.as_ref().and_then(|u| u.problems().into_iter().next()) {
+                return Err(bad(format!("level {} ({}) plan underlay, {field}", l.id, l.name), message));
+            }
             if !(limits::ELEVATION_M.contains(l.elevation_m)) {
                 return Err(bad(
                     format!("level {} ({})", l.id, l.name),

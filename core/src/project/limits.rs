@@ -166,6 +166,13 @@ pub const SOURCE_MAX_FLOW_C: Limit = Limit::new("maximum flow temperature", "°C
 pub const PLAN_COORDINATE_M: Limit = Limit::new("plan coordinate", "m", -1e5, 1e5);
 /// A level's elevation, m.
 pub const ELEVATION_M: Limit = Limit::new("elevation", "m", -500.0, 500.0);
+/// Metres per unit of a plan underlay (an image pixel, a drawing unit):
+/// from a 1 µm unit to 1 km per pixel.
+pub const UNDERLAY_M_PER_UNIT: Limit = Limit::above("underlay scale", "m per unit", 1e-6, 1000.0);
+/// Rotation of a plan underlay, degrees anticlockwise.
+pub const UNDERLAY_ROTATION_DEG: Limit = Limit::new("underlay rotation", "°", -360.0, 360.0);
+/// Opacity of a plan underlay (0 invisible, 1 opaque).
+pub const UNDERLAY_OPACITY: Limit = Limit::new("underlay opacity", "", 0.0, 1.0);
 /// A run's length (drawn or given), m.
 pub const RUN_LENGTH_M: Limit = Limit::above("length", "m", 0.0, 10_000.0);
 /// Outlet pairs of a header.

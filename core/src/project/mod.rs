@@ -13,6 +13,7 @@ pub mod edit;
 pub mod file;
 pub mod limits;
 pub mod settings;
+pub mod underlay;
 
 use std::collections::BTreeMap;
 use std::fmt;
@@ -23,6 +24,7 @@ use serde::{Deserialize, Serialize};
 
 pub use edit::{Edit, EditError, EditOutcome};
 pub use settings::{DesignSettings, Mode, PipeClass, ReturnLayout};
+pub use underlay::Underlay;
 
 use crate::emitters::EmitterModel;
 use crate::pump::PumpControl;
@@ -91,6 +93,9 @@ pub struct Level {
     pub name: String,
     /// Elevation of the pipework on this level above the datum, m.
     pub elevation_m: f64,
+    /// The plan drawn under this level's network (absent in older files).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub underlay: Option<Underlay>,
 }
 
 /// The pump and hydraulic data of a heat source.
@@ -428,7 +433,7 @@ impl Project {
         Self {
             name: name.to_owned(),
             settings: DesignSettings::default(),
-            levels: vec![Level { id: LevelId(0), name: "Ground floor".to_owned(), elevation_m: 0.0 }],
+            levels: vec![Level { id: LevelId(0), name: "Ground floor".to_owned(), elevation_m: 0.0, underlay: None }],
             graph: StableGraph::default(),
             node_ix: BTreeMap::new(),
             run_ix: BTreeMap::new(),

@@ -4,10 +4,12 @@
 mod plan;
 mod pump_chart;
 mod riser;
+pub mod underlay;
 
 pub(super) use plan::level_plan;
 pub(super) use pump_chart::pump_chart;
 pub(super) use riser::riser_elevation;
+pub use underlay::PlanUnderlays;
 
 use super::esc;
 use crate::design::Solution;

@@ -20,8 +20,10 @@ use tools::RunDraft;
 pub use tools::Tool;
 pub use view::View;
 
+use super::actions::Action;
 use super::intents::{Intents, Selection};
 use super::theme::{self, ColourBy};
+use super::underlay::UnderlayUi;
 
 /// A drag in progress.
 #[derive(Debug, Clone, PartialEq)]
@@ -145,6 +147,7 @@ pub struct CanvasOptions {
 }
 
 /// Show the canvas with its level tabs and riser strip.
+#[allow(clippy::too_many_arguments)] // reason: the panels' inputs are passed, not reached for through the app
 pub fn show(
     ui: &mut Ui,
     project: &Project,
@@ -152,6 +155,7 @@ pub fn show(
     opts: CanvasOptions,
     state: &mut CanvasState,
     selection: Selection,
+    underlay: &mut UnderlayUi,
     out: &mut Intents,
 ) {
     egui::Panel::bottom("level_tabs").show(ui, |ui| level_tabs(ui, project, state, out));
@@ -205,11 +209,14 @@ pub fn show(
     }
 
     handle_drag(ui, &resp, project, sol, state, out);
-    handle_clicks(&resp, project, state, out);
+    if !underlay.canvas_click(&resp, state, out) {
+        handle_clicks(&resp, project, state, out);
+    }
 
     // Draw.
     painter.rect_filled(rect, 0, theme::PAPER);
     state.view.draw_grid(&painter, theme::GRID_MINOR, theme::GRID_MAJOR);
+    underlay.paint(&painter, project, state);
     let flagged = draw::flagged_items(sol);
     let scene = draw::PlanScene {
         project,
@@ -381,6 +388,13 @@ fn level_tabs(ui: &mut Ui, project: &Project, state: &CanvasState, out: &mut Int
                             if r.clicked() {
                                 out.show_level = Some(l.id);
                             }
+                            r.context_menu(|ui| {
+                                if ui.button(Action::PlanUnderlay.label()).clicked() {
+                                    out.show_level = Some(l.id);
+                                    out.actions.push(Action::PlanUnderlay);
+                                    ui.close();
+                                }
+                            });
                         }
                     });
                 });

@@ -17,7 +17,12 @@ fn emitter_caption(sol: &Solution, id: NodeId) -> String {
 /// The plan of one level as an inline SVG (`class="level-plan"`,
 /// `data-level="L1"`).
 #[allow(clippy::too_many_lines)] // reason: one drawing, layer by layer
-pub(in crate::report) fn level_plan(p: &Project, sol: &Solution, level: &Level) -> String {
+pub(in crate::report) fn level_plan(
+    p: &Project,
+    sol: &Solution,
+    level: &Level,
+    underlay: Option<&crate::underlay::LoadedUnderlay>,
+) -> String {
     const WIDTH: f64 = 720.0;
     const MAX_HEIGHT: f64 = 430.0;
     const MARGIN: f64 = 48.0;
@@ -67,6 +72,9 @@ pub(in crate::report) fn level_plan(p: &Project, sol: &Solution, level: &Level) 
         "<rect x=\"0.5\" y=\"0.5\" width=\"719\" height=\"{:.0}\" fill=\"#ffffff\" stroke=\"#cccccc\"/>",
         height - 1.0
     );
+    if let (Some(u), Some(loaded)) = (level.underlay.as_ref().filter(|u| !u.hidden), underlay) {
+        out.push_str(&super::underlay::underlay_svg(u, loaded, &map, (WIDTH, height), level.id));
+    }
 
     // Obstacles for the labels: every run segment and every node symbol.
     let polys: Vec<(&Run, Vec<(f64, f64)>)> = runs
