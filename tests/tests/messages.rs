@@ -150,7 +150,7 @@ fn control_characters_in_names_are_refused_on_load_and_in_edits() {
         let e = q.apply(Edit::Rename(named.clone())).unwrap_err().to_string();
         assert!(e.starts_with("project: name") && !e.contains(c), "{e}");
         let e = q
-            .apply(Edit::SetLevel(Level { id: q.levels[0].id, name: named.clone(), elevation_m: 0.0 }))
+            .apply(Edit::SetLevel(Level { id: q.levels[0].id, name: named.clone(), elevation_m: 0.0, underlay: None }))
             .unwrap_err()
             .to_string();
         assert!(e.starts_with("level L0: name"), "{e}");

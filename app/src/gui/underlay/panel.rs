@@ -210,7 +210,7 @@ pub fn window(app: &mut FlowriseApp, ctx: &egui::Context, out: &mut Intents) {
 
 /// Scale by two points: the button, the instructions, the distance field.
 fn calibration_ui(app: &mut FlowriseApp, ui: &mut Ui, level: &Level, u: &Underlay, movable: bool, out: &mut Intents) {
-    if !app.underlay.calibration.as_ref().is_some_and(|c| c.level == level.id) {
+    if app.underlay.calibration.as_ref().is_none_or(|c| c.level != level.id) {
         let r = ui.add_enabled(movable, egui::Button::new("Set scale by two points"));
         let r = if movable {
             r.on_hover_text("Click two points of the plan whose real distance you know (a wall, a dimension line), then type that distance")
