@@ -604,9 +604,11 @@ impl FlowriseApp {
         let mut changed = false;
         for q in out.edits {
             let before = (!q.during_drag).then(|| self.project.clone());
+            let hint = flowrise_core::design::EditHint::for_edit(&self.project, &q.edit);
             match self.project.apply(q.edit) {
                 Ok(outcome) => {
                     changed = true;
+                    self.solver.note_edit(hint);
                     if let Some(b) = before {
                         self.history.push(b);
                     }
@@ -733,6 +735,8 @@ impl FlowriseApp {
         // for the ones of the state it replaced.
         p.revision = self.project.revision + 1;
         self.project = p;
+        // A replaced project: no edit hint leads to it.
+        self.solver.forget_edits();
         self.inspector = fields::FieldState::default();
     }
 
