@@ -368,7 +368,7 @@ impl FlowriseApp {
                 }
                 Ok((_, rep)) => {
                     ui.label(format!(
-                        "{} nodes and {} runs per the levels ticked; {} joined to a riser, {} rising points without one{}",
+                        "{} nodes and {} runs in all; {} joined to a riser, {} rising points without one{}",
                         rep.nodes,
                         rep.runs,
                         rep.joined.len(),

@@ -151,7 +151,11 @@ pub fn show(ui: &mut Ui, dlg: &mut ScheduleDialog, project: &Project) -> Outcome
 }
 
 fn mapping_row(ui: &mut Ui, map: &mut ColumnMap, role: Role, headers: &[String]) {
-    let label = if role.required() { role.label().to_owned() } else { format!("{} (optional)", role.label()) };
+    let label = match role {
+        Role::RoomC | Role::EmitterType => format!("{} (optional)", role.label()),
+        Role::Level => format!("{} (may be left out with one level)", role.label()),
+        Role::Room | Role::LoadW => role.label().to_owned(),
+    };
     let label_id = ui.label(label).id;
     let mut pick = map.get(role).map(str::to_owned);
     egui::ComboBox::from_id_salt(("schedule_role", role.label()))

@@ -126,7 +126,11 @@ impl SchedulePlan {
     /// One line for the status line and the preview.
     #[must_use]
     pub fn summary(&self) -> String {
-        let mut parts = vec![format!("{} new emitters", self.creates()), format!("{} updated", self.updates())];
+        let new = self.creates();
+        let mut parts = vec![
+            format!("{new} new {}", if new == 1 { "emitter" } else { "emitters" }),
+            format!("{} updated", self.updates()),
+        ];
         if self.unchanged > 0 {
             parts.push(format!("{} unchanged", self.unchanged));
         }
