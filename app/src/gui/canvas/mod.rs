@@ -11,6 +11,7 @@
 pub mod draw;
 pub mod elevation;
 pub mod hit;
+pub mod returns;
 pub mod select;
 pub mod snap;
 pub mod tools;
@@ -241,7 +242,13 @@ pub fn show(
     // Runs under nodes; labels over both, node names placed before run sizes.
     let (mut run_labels, mut node_labels) = (draw::Labels::default(), draw::Labels::default());
     let mut circuit_labels = draw::Labels::default();
+    // Labels keep off the legend, the scale bar and the coordinate readout.
+    circuit_labels.avoid(draw::legend_rect(rect));
+    for r in draw::corner_readout_rects(rect) {
+        circuit_labels.avoid(r);
+    }
     draw::draw_circuits(&painter, &scene, &mut circuit_labels);
+    returns::draw_reverse_returns(&painter, &scene, &mut run_labels);
     draw::draw_runs(&painter, &scene, &mut run_labels);
     draw::draw_nodes(&painter, &scene, &mut node_labels);
     circuit_labels.then(node_labels).then(run_labels).paint(&painter);
