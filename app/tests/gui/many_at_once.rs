@@ -142,6 +142,21 @@ fn box_select_then_copy_and_paste_on_the_same_and_another_level() {
     h.run();
     assert!(h.state().canvas().group.contains(&one), "… and added it again");
 
+    // Dragging one of them moves the whole group by the same offset (one undo step).
+    let grabbed = before.nodes().find(|n| n.level == level && !matches!(n.kind, NodeKind::Source(_))).unwrap();
+    let from = h.state().screen_from_plan(grabbed.pos);
+    drag_screen(&mut h, from, Vec2::new(0.0, -90.0), false);
+    let moved = h.state().project().clone();
+    let dy = moved.node(grabbed.id).unwrap().pos.y_m - grabbed.pos.y_m;
+    assert!(dy > 1.0, "moved north: {dy}");
+    for &id in &on_level {
+        let (a, b) = (before.node(id).unwrap().pos, moved.node(id).unwrap().pos);
+        assert!((b.y_m - a.y_m - dy).abs() < 1e-9 && (b.x_m - a.x_m).abs() < 1e-9, "{id} moved with the group");
+    }
+    h.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    h.run();
+    assert_eq!(*h.state().project(), before, "the group's move is one undo step");
+
     h.event(Event::Copy);
     h.run();
     let sources = before.sources().len();
@@ -182,6 +197,18 @@ fn box_select_then_copy_and_paste_on_the_same_and_another_level() {
     h.key_press_modifiers(Modifiers::COMMAND, Key::Z);
     h.run();
     assert_eq!(*h.state().project(), after, "one undo step per paste");
+
+    // The Delete key removes the selected copies and their runs at once.
+    show_level(&mut h, level);
+    h.state_mut().run_many(ManyAction::SelectAll, &egui::Context::default());
+    h.run();
+    assert_eq!(h.state().canvas().group.len(), after.nodes().filter(|n| n.level == level).count());
+    h.key_press(Key::Delete);
+    h.run();
+    assert_eq!(h.state().project().nodes().filter(|n| n.level == level).count(), 0, "every node of the level");
+    h.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    h.run();
+    assert_eq!(*h.state().project(), after, "one undo brings them all back");
 }
 
 #[test]
