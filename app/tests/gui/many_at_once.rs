@@ -322,3 +322,25 @@ fn a_nearly_horizontal_drag_ends_exactly_horizontal_unless_alt_is_held() {
     assert_eq!(draft.vertices.len(), 1);
     assert_eq!(draft.vertices[0].x_m.to_bits(), src_pos.x_m.to_bits(), "the bend is exactly above the source");
 }
+
+#[test]
+fn the_emitters_table_takes_typed_values_and_says_why_it_refuses_one() {
+    let before = demo(FLAT);
+    let mut h = harness(before.clone());
+    let kitchen =
+        before.nodes().find(|n| matches!(&n.kind, NodeKind::Emitter(e) if e.name == "Kitchen")).map(|n| n.id).unwrap();
+    let load = |h: &Harness<'_, FlowriseApp>| match &h.state().project().node(kitchen).unwrap().kind {
+        NodeKind::Emitter(e) => (e.load_w, e.room_c),
+        _ => unreachable!(),
+    };
+    type_into(&mut h, "heat load of Kitchen", "2,5 kW");
+    assert!(h.query_by_label_contains("Kitchen (N").is_some(), "the refusal names the emitter");
+    assert!(h.query_by_label_contains("is not a number — type a value in W").is_some(), "… and why");
+    assert_eq!(*h.state().project(), before, "refused: nothing changed");
+    type_into(&mut h, "heat load of Kitchen", "1350");
+    type_into(&mut h, "room temperature of Kitchen", "22");
+    assert_eq!(load(&h), (1350.0, 22.0));
+    type_into(&mut h, "room temperature of Kitchen", "45");
+    assert!(h.query_by_label_contains("out of range — give 5 to 30 °C").is_some(), "the inspector's limit");
+    assert_eq!(load(&h), (1350.0, 22.0), "the refused value is not applied");
+}
