@@ -4,6 +4,7 @@
 use egui::{Key, KeyboardShortcut, Modifiers};
 
 use super::canvas::Tool;
+use super::many::ManyAction;
 
 /// Something the user can ask for from a menu, a button or a key.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -44,11 +45,13 @@ pub enum Action {
     RecoverWork,
     /// Switch the preference for flowrise's own file dialog.
     InWindowDialog,
+    /// Select, copy, paste, delete or repeat many items; the room-load schedule.
+    Many(ManyAction),
 }
 
 impl Action {
     /// Actions that have a keyboard shortcut, in the order they are checked.
-    pub const WITH_KEYS: [Self; 17] = [
+    pub const WITH_KEYS: [Self; 20] = [
         Self::New,
         Self::Quit,
         Self::Open,
@@ -66,6 +69,9 @@ impl Action {
         Self::Tool(Tool::Erase),
         Self::ToggleLabels,
         Self::FitView,
+        Self::Many(ManyAction::SelectAll),
+        Self::Many(ManyAction::Copy),
+        Self::Many(ManyAction::Paste),
     ];
 
     /// Words on the button or menu entry (also the accessible label).
@@ -90,6 +96,7 @@ impl Action {
             Self::Quit => "Quit",
             Self::RecoverWork => "Recover unsaved work…",
             Self::InWindowDialog => "Use flowrise's own file dialog",
+            Self::Many(m) => m.label(),
         }
     }
 
@@ -109,6 +116,7 @@ impl Action {
             Self::Tool(t) => plain(t.key()),
             Self::ToggleLabels => plain(Key::L),
             Self::FitView => plain(Key::F),
+            Self::Many(m) => m.shortcut(),
             Self::NewFromOutline
             | Self::ToggleElevation
             | Self::Settings
@@ -164,6 +172,7 @@ impl Action {
             Self::InWindowDialog => {
                 "Choose files in a dialog drawn by flowrise instead of the desktop's (used anyway when the desktop has none)"
             }
+            Self::Many(m) => m.tooltip(),
         }
     }
 

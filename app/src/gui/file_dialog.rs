@@ -41,6 +41,8 @@ impl FileType {
     pub const CSV: Self = Self { name: "parts list (CSV)", extension: "csv" };
     /// A design report.
     pub const HTML: Self = Self { name: "design report (HTML)", extension: "html" };
+    /// A room-load schedule.
+    pub const SCHEDULE: Self = Self { name: "room-load schedule (CSV)", extension: "csv" };
 
     /// "flowrise project (*.ron)".
     #[must_use]
