@@ -649,6 +649,8 @@ static CWD: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 #[path = "gui/files_and_layout.rs"]
 mod files_and_layout;
+#[path = "gui/many_at_once.rs"]
+mod many_at_once;
 
 #[path = "gui/underlay.rs"]
 mod underlay;

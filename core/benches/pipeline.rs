@@ -5,7 +5,8 @@
 //! Per size: the full pipeline from a cold start (derive + design + operate
 //! with a new workspace), the warm edit → results cycle of a drag (move one
 //! emitter by ±5 cm, solve with the same workspace: symbolic factor reused,
-//! warm start), load (parse + validate the RON text) and save (write the RON
+//! warm start) and the same drag on the incremental path (`solve_edit`, see
+//! `design/incremental.rs`), load (parse + validate the RON text) and save (write the RON
 //! text), and the parts list of a solved project. Sample counts are small so
 //! a full run fits in about ten minutes on two cores.
 //!
@@ -23,7 +24,7 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{BenchmarkId, Criterion, criterion_group, criterion_main};
-use flowrise_core::design::{SolveOptions, Workspace, solve_project};
+use flowrise_core::design::{EditHint, SolveOptions, Workspace, solve_edit, solve_project};
 use flowrise_core::generate::{BuildingSpec, generate_building};
 use flowrise_core::parts::{PartsOptions, parts_list};
 use flowrise_core::project::{Edit, NodeKind, Project};
@@ -55,6 +56,26 @@ fn pipeline(c: &mut Criterion) {
                 let dx = if step.is_multiple_of(2) { 0.05 } else { -0.05 };
                 drag.apply(Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 }).expect("move");
                 black_box(solve_project(&drag, &opts, &mut ws))
+            });
+        });
+
+        // The same drag on the incremental path the window uses
+        // (`solve_edit` with the edit's hint, a workspace that keeps the
+        // derivation).
+        let mut drag = project.clone();
+        let mut ws = Workspace::for_edits();
+        let _ = solve_project(&drag, &opts, &mut ws);
+        let mut step = 0u64;
+        g.bench_function(BenchmarkId::new("drag_edit_to_results_incremental", n), |b| {
+            b.iter(|| {
+                step += 1;
+                let dx = if step.is_multiple_of(2) { 0.05 } else { -0.05 };
+                let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
+                let hint = EditHint::for_edit(&drag, &edit).expect("a move has a hint");
+                drag.apply(edit).expect("move");
+                let sol = solve_edit(&drag, &opts, &mut ws, &hint);
+                assert!(sol.timings.incremental, "the drag took the full path");
+                black_box(sol)
             });
         });
 

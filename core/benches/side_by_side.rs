@@ -1,11 +1,11 @@
 //! Driver of `tests/epanet/bench_side_by_side.py` (a bench target so it is
 //! built with optimisations, without the GUI): for each size given, generate
 //! the building, export its network (matched physics, design state) to
-//! `<dir>/gen-<n>.inp` and print one JSON line with flowrise's medians: the
+//! `<dir>/gen-<n>.inp` (and the project to `<dir>/gen-<n>.ron`) and print one JSON line with flowrise's medians: the
 //! stages of a cold solve (new workspace) and the warm drag cycle.
 //!
 //! Run: `cargo bench -p flowrise-core --bench side_by_side -- <dir> <repeat> <emitters>...`
-//! (emitters one of 100, 1000, 10000, 50000). For profiling the drag alone,
+//! (emitters one of 100, 1000, 10000, 50000, 200000). For profiling the drag alone,
 //! `SIDE_BY_SIDE_WARM_REPEAT=N` runs the warm drag cycle N times instead of
 //! `<repeat>` times.
 
@@ -42,9 +42,13 @@ fn main() {
             1000 => (10, 100),
             10_000 => (20, 500),
             50_000 => (50, 1000),
+            200_000 => (100, 2000),
             _ => (n.div_ceil(100).clamp(1, 200), n.min(100)),
         };
         let project = generate_building(&BuildingSpec::new(floors, per_floor)).expect("generate");
+        // The project itself, for the fresh-process comparison (`flowrise solve --json`).
+        let ron = dir.join(format!("gen-{n}.ron"));
+        std::fs::write(&ron, project.to_ron().expect("ron")).expect("write ron");
         let opts = SolveOptions { matched_physics: true, ..SolveOptions::default() };
         let (mut derive, mut design, mut operate, mut total, mut iters) = (vec![], vec![], vec![], vec![], vec![]);
         let (mut solver, mut w_solver) = (vec![], vec![]);
@@ -88,7 +92,7 @@ fn main() {
         println!(
             "{}",
             serde_json::json!({
-                "emitters": n, "inp": inp.display().to_string(),
+                "emitters": n, "inp": inp.display().to_string(), "ron": ron.display().to_string(),
                 "links": sol.network.links.len(), "nodes": sol.network.nodes.len(),
                 "flow_tolerance": opts.solver.flow_tolerance,
                 "cold_derive_ms": median(&mut derive), "cold_design_ms": median(&mut design),

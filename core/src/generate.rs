@@ -239,9 +239,11 @@ fn source_kind(total_load_w: f64, curve: [(f64, f64); 3], duty_kpa: f64) -> Node
     let q_m3_h = (total_load_w / (4186.0 * 15.0) / 977.0 * 3600.0).max(0.05);
     NodeKind::Source(HeatSource {
         name: "Plant room".to_owned(),
-        // Clamped to the ranges a project accepts (100 MW, Kv 10,000).
-        capacity_w: (total_load_w * 1.15).clamp(1000.0, 1e8),
-        kv_m3_h: (q_m3_h / 0.1_f64.sqrt()).clamp(0.01, 10_000.0),
+        // Clamped to the ranges a project accepts (1 GW, Kv 100,000): a
+        // 200,000-emitter building (about 280 MW) keeps a capacity above
+        // its load.
+        capacity_w: (total_load_w * 1.15).clamp(1000.0, 1e9),
+        kv_m3_h: (q_m3_h / 0.1_f64.sqrt()).clamp(0.01, 100_000.0),
         water_content_l: (total_load_w / 1000.0 * 0.5).max(5.0),
         pump: PumpSpec {
             curve_points: curve,

@@ -32,14 +32,35 @@ the range of the cold ratio over the rounds. The 50,000 / 10,000 growth is
 taken within each round (the two sizes minutes apart) and its median and
 per-round values printed.
 
+Reference accuracy: EPANET's accuracy is set with the toolkit call
+(`ENsetoption(EN_ACCURACY)`, epanet_ref.py) to flowrise's flow tolerance;
+the file's Accuracy line alone would be clamped to 1e-5 by EPANET's parser.
+The value EPANET held is printed, and every EPANET run's warning code is
+read: a run that did not converge stops the script (no ratio against a
+reference that is not a solution).
+
+Fresh processes: besides the in-process figures, every round runs
+`--fresh-repeat` times, interleaved, (a) `flowrise solve --json` on the
+generated project (load the RON, derive, design, operate, stream the JSON
+to a file) and (b) a fresh Python process (epanet_fresh.py) that loads the
+EPANET library with ctypes, opens the exported .inp, sets the accuracy,
+solves and reads every link flow. Wall time per process and peak RSS
+(os.wait4 rusage of that child) are medians / maxima; the bare interpreter
+start (`python -c "import ctypes"`) is printed as the EPANET process's
+floor. The flowrise process's own operate stage (`timings.operate_ms` of its
+JSON) is compared with EPANET's cold run.
+
 Run (no other heavy job on the machine):
   /tmp/epa/bin/python tests/epanet/bench_side_by_side.py [--sizes 100 1000 10000 50000] [--repeat 5] [--rounds 3]
+      [--fresh-repeat 5] [--flowrise target/release/flowrise]
 """
 
 import argparse
 import contextlib
 import io
 import json
+import os
+import re
 import statistics
 import subprocess
 import sys
@@ -47,40 +68,43 @@ import tempfile
 import time
 from pathlib import Path
 
+from epanet_ref import ReferenceFailed, open_quiet, run_checked, set_accuracy
+
 ROOT = Path(__file__).resolve().parents[2]
 
 
-def epanet_times(inp, repeat):
+def epanet_times(inp, repeat, accuracy):
     """Medians (ms) of EPANET's cold solve (ENopenH + ENinitH + ENrunH), its
     Newton from initial flows on an open solver (ENinitH(10): re-initialise
     flows; + ENrunH) and its warm restart (ENinitH(0) keeps the last flows;
-    + ENrunH), with the iteration counts of the cold and warm runs."""
-    from epyt import epanet  # noqa: PLC0415
-
-    def iterations(d):
-        # EN_ITERATIONS (statistic code 0) of the last run.
-        return int(d.api.ENgetstatistic(0)) or None
-
+    + ENrunH), with the iteration counts of the cold and warm runs, the
+    accuracy EPANET held (set with the toolkit call after ENopenH, timed
+    with the cold run) and the largest warning code of all runs. A run that
+    ends with a warning voiding its flows raises `ReferenceFailed`."""
+    d = open_quiet(inp)
+    cold, reinit, warm = [], [], []
+    it_cold = it_warm = None
+    used, codes = None, set()
+    name = Path(inp).name
     with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):
-        d = epanet(str(inp))
-        cold, reinit, warm = [], [], []
-        it_cold = it_warm = None
         for _ in range(repeat):
             t0 = time.perf_counter()
             d.openHydraulicAnalysis()
+            used = set_accuracy(d, accuracy)
             d.initializeHydraulicAnalysis(0)
-            d.runHydraulicAnalysis()
+            code, it_cold, _ = run_checked(d, name)
             cold.append((time.perf_counter() - t0) * 1e3)
-            it_cold = iterations(d)
+            codes.add(code)
             t1 = time.perf_counter()
             d.initializeHydraulicAnalysis(10)
-            d.runHydraulicAnalysis()
+            code, _, _ = run_checked(d, name)
             reinit.append((time.perf_counter() - t1) * 1e3)
+            codes.add(code)
             t2 = time.perf_counter()
             d.initializeHydraulicAnalysis(0)
-            d.runHydraulicAnalysis()
+            code, it_warm, _ = run_checked(d, name)
             warm.append((time.perf_counter() - t2) * 1e3)
-            it_warm = iterations(d)
+            codes.add(code)
             d.closeHydraulicAnalysis()
         d.unload()
     return {
@@ -89,6 +113,61 @@ def epanet_times(inp, repeat):
         "epanet_warm_ms": statistics.median(warm),
         "epanet_iterations_cold": it_cold,
         "epanet_iterations_warm": it_warm,
+        "epanet_accuracy": used,
+        "epanet_warning": max(codes),
+    }
+
+
+def run_child(cmd, stdout):
+    """Run `cmd` as a fresh process; (wall ms, peak RSS MB, exit status),
+    the peak from this child's own rusage (os.wait4)."""
+    t0 = time.perf_counter()
+    child = subprocess.Popen(cmd, stdout=stdout, stderr=subprocess.DEVNULL)
+    _, status, usage = os.wait4(child.pid, 0)
+    wall = (time.perf_counter() - t0) * 1e3
+    child.returncode = os.waitstatus_to_exitcode(status)
+    return wall, usage.ru_maxrss / 1024.0, child.returncode
+
+
+def fresh_processes(flowrise, ron, inp, work, repeat, accuracy):
+    """Whole-process wall time and peak memory of `flowrise solve --json`
+    on the project and of a fresh Python process that opens and solves the
+    exported network with the EPANET library (epanet_fresh.py), interleaved;
+    medians. Also the flowrise process's own operate stage (from its JSON)
+    and the bare interpreter with ctypes (the EPANET process's floor)."""
+    out_path = work / "fresh.json"
+    fr_wall, fr_rss, fr_op, ep_wall, ep_rss, py_wall = [], [], [], [], [], []
+    fresh_script = str(Path(__file__).resolve().parent / "epanet_fresh.py")
+    ep_info = None
+    for _ in range(repeat):
+        with open(out_path, "wb") as out:
+            wall, rss, rc = run_child([flowrise, "solve", "--json", str(ron)], out)
+        if rc != 0:
+            raise RuntimeError(f"flowrise solve --json {ron} exited {rc}")
+        text = out_path.read_text()
+        m = re.search(r'"operate_ms":\s*([0-9.eE+-]+)', text)
+        fr_wall.append(wall)
+        fr_rss.append(rss)
+        if m:
+            fr_op.append(float(m.group(1)))
+        with open(work / "fresh-epanet.json", "wb") as out:
+            wall, rss, rc = run_child([sys.executable, fresh_script, str(inp), str(accuracy)], out)
+        ep_info = json.loads((work / "fresh-epanet.json").read_text() or "{}")
+        if rc != 0:
+            raise ReferenceFailed(f"fresh EPANET process on {inp} exited {rc}: {ep_info}")
+        ep_wall.append(wall)
+        ep_rss.append(rss)
+        wall, _, _ = run_child([sys.executable, "-c", "import ctypes"], subprocess.DEVNULL)
+        py_wall.append(wall)
+    return {
+        "fresh_flowrise_wall_ms": statistics.median(fr_wall),
+        "fresh_flowrise_peak_mb": max(fr_rss),
+        "fresh_flowrise_operate_ms": statistics.median(fr_op) if fr_op else float("nan"),
+        "fresh_epanet_wall_ms": statistics.median(ep_wall),
+        "fresh_epanet_peak_mb": max(ep_rss),
+        "fresh_epanet_accuracy": ep_info.get("accuracy"),
+        "fresh_epanet_warning": ep_info.get("warning"),
+        "fresh_python_floor_ms": statistics.median(py_wall),
     }
 
 
@@ -102,11 +181,18 @@ def flowrise_times(work, repeat, size):
     return next(json.loads(line) for line in out.stdout.splitlines() if line.startswith("{"))
 
 
-def one_round(work, repeat, size):
-    """flowrise, then EPANET on the network flowrise exported, for one size."""
+def one_round(work, repeat, size, flowrise, fresh_repeat):
+    """flowrise, then EPANET on the network flowrise exported, for one size;
+    then the two fresh processes."""
     r = flowrise_times(work, repeat, size)
-    e = epanet_times(r["inp"], repeat)
+    e = epanet_times(r["inp"], repeat, r["flow_tolerance"])
     r.update(e)
+    if fresh_repeat > 0:
+        f = fresh_processes(flowrise, r["ron"], r["inp"], work, fresh_repeat, r["flow_tolerance"])
+        r.update(f)
+        r["ratio_fresh_wall"] = f["fresh_flowrise_wall_ms"] / f["fresh_epanet_wall_ms"]
+        r["ratio_fresh_peak"] = f["fresh_flowrise_peak_mb"] / f["fresh_epanet_peak_mb"]
+        r["ratio_fresh_operate"] = f["fresh_flowrise_operate_ms"] / e["epanet_cold_ms"]
     r["ratio_cold"] = r["cold_operate_ms"] / e["epanet_cold_ms"]
     r["ratio_cold_vs_reinit"] = r["cold_operate_ms"] / e["epanet_reinit_run_ms"]
     r["ratio_warm"] = r["warm_operate_ms"] / e["epanet_warm_ms"]
@@ -136,7 +222,17 @@ def main():
     ap.add_argument("--repeat", type=int, default=5)
     ap.add_argument("--rounds", type=int, default=1)
     ap.add_argument("--keep", help="keep the exported networks here")
+    ap.add_argument("--fresh-repeat", type=int, default=5,
+                    help="fresh processes per engine, size and round (0: skip the fresh-process comparison)")
+    ap.add_argument("--flowrise", help="release flowrise binary (default: built here with cargo build --release)")
     args = ap.parse_args()
+    flowrise = args.flowrise
+    if args.fresh_repeat > 0 and not flowrise:
+        build = subprocess.run(["cargo", "build", "--release", "-q", "-p", "flowrise"], cwd=ROOT)
+        if build.returncode != 0:
+            return 1
+        target = Path(os.environ.get("CARGO_TARGET_DIR", ROOT / "target"))
+        flowrise = str(target / "release" / "flowrise")
     ctx = contextlib.nullcontext(args.keep) if args.keep else tempfile.TemporaryDirectory()
     with ctx as tmp:
         work = Path(tmp)
@@ -152,8 +248,8 @@ def main():
         for _ in range(max(1, args.rounds)):
             for size in args.sizes:
                 try:
-                    per_size[size].append(one_round(work, args.repeat, size))
-                except RuntimeError as err:
+                    per_size[size].append(one_round(work, args.repeat, size, flowrise, args.fresh_repeat))
+                except (RuntimeError, ReferenceFailed) as err:
                     print(err, file=sys.stderr)
                     return 1
         rows, all_rounds = [], []
@@ -174,6 +270,21 @@ def main():
                 ratios = sorted(b[key] / a[key] for a, b in zip(per_size["10000"], per_size["50000"]))
                 print(f"50,000 / 10,000 {key}: median over rounds {statistics.median(ratios):.2f} "
                       f"(rounds {', '.join(f'{x:.2f}' for x in ratios)})")
+        accs = sorted({r["epanet_accuracy"] for r in rows})
+        warns = sorted({r["epanet_warning"] for r in rows})
+        print(f"EPANET accuracy used (set with ENsetoption, read back): {', '.join(f'{a:.3g}' for a in accs)}; "
+              f"flowrise flow tolerance {rows[0]['flow_tolerance']:g}; EPANET warning codes: {warns}")
+        if args.fresh_repeat > 0:
+            print("\nFresh processes (medians; whole process wall time and peak RSS; EPANET = Python + ctypes + "
+                  "the EPANET library opening and solving the same .inp; the bare interpreter shown as its floor):")
+            print(f"{'emitters':>9} | {'flowrise solve --json':>21} {'peak':>8} {'operate':>9} | "
+                  f"{'EPANET process':>14} {'peak':>8} {'(python floor)':>14} | {'wall ratio':>10} "
+                  f"{'peak ratio':>10} {'operate / EPANET cold':>21}")
+            for r in rows:
+                print(f"{r['emitters']:>9} | {r['fresh_flowrise_wall_ms']:>18.1f} ms {r['fresh_flowrise_peak_mb']:>5.0f} MB "
+                      f"{r['fresh_flowrise_operate_ms']:>6.1f} ms | {r['fresh_epanet_wall_ms']:>11.1f} ms "
+                      f"{r['fresh_epanet_peak_mb']:>5.0f} MB {r['fresh_python_floor_ms']:>11.1f} ms | "
+                      f"{r['ratio_fresh_wall']:>10.3f} {r['ratio_fresh_peak']:>10.3f} {r['ratio_fresh_operate']:>21.3f}")
         (work / "side_by_side.json").write_text(json.dumps({"medians": rows, "rounds": all_rounds}, indent=1))
     return 0
 

@@ -4,6 +4,7 @@
 use egui::{Key, KeyboardShortcut, Modifiers};
 
 use super::canvas::Tool;
+use super::many::ManyAction;
 
 /// Something the user can ask for from a menu, a button or a key.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -46,11 +47,13 @@ pub enum Action {
     InWindowDialog,
     /// Open the plan underlay panel of the shown level.
     PlanUnderlay,
+    /// Select, copy, paste, delete or repeat many items; the room-load schedule.
+    Many(ManyAction),
 }
 
 impl Action {
     /// Actions that have a keyboard shortcut, in the order they are checked.
-    pub const WITH_KEYS: [Self; 17] = [
+    pub const WITH_KEYS: [Self; 20] = [
         Self::New,
         Self::Quit,
         Self::Open,
@@ -68,6 +71,9 @@ impl Action {
         Self::Tool(Tool::Erase),
         Self::ToggleLabels,
         Self::FitView,
+        Self::Many(ManyAction::SelectAll),
+        Self::Many(ManyAction::Copy),
+        Self::Many(ManyAction::Paste),
     ];
 
     /// Words on the button or menu entry (also the accessible label).
@@ -93,6 +99,7 @@ impl Action {
             Self::RecoverWork => "Recover unsaved work…",
             Self::InWindowDialog => "Use flowrise's own file dialog",
             Self::PlanUnderlay => "Plan underlay…",
+            Self::Many(m) => m.label(),
         }
     }
 
@@ -112,6 +119,7 @@ impl Action {
             Self::Tool(t) => plain(t.key()),
             Self::ToggleLabels => plain(Key::L),
             Self::FitView => plain(Key::F),
+            Self::Many(m) => m.shortcut(),
             Self::NewFromOutline
             | Self::ToggleElevation
             | Self::Settings
@@ -171,6 +179,7 @@ impl Action {
             Self::PlanUnderlay => {
                 "Trace over a floor plan: put a PNG, JPEG, PDF or DXF drawing under this level, set its scale by two points, move, fade or lock it"
             }
+            Self::Many(m) => m.tooltip(),
         }
     }
 

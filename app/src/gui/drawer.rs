@@ -8,6 +8,8 @@ use egui_plot::{Legend, Line, Plot, Points};
 use flowrise_core::design::{FindingKind, ItemRef, LinkRole, Side, Solution};
 use flowrise_core::project::Project;
 
+mod emitter_table;
+
 use super::findings_view::findings_list;
 use super::intents::Intents;
 use super::theme;
@@ -73,6 +75,8 @@ pub struct DrawerState {
     pub pump_circuit: usize,
     /// Height of the closed drawer (its tab rows), measured each frame.
     closed_height: f32,
+    /// Cells of the emitters table being typed in.
+    table: emitter_table::TableEdits,
 }
 
 impl Default for DrawerState {
@@ -83,6 +87,7 @@ impl Default for DrawerState {
             parts: None,
             pump_circuit: 0,
             closed_height: 34.0,
+            table: emitter_table::TableEdits::default(),
         }
     }
 }
@@ -182,7 +187,7 @@ pub fn show(
         let ui = &mut body;
         match st.tab {
             Tab::Pipes => pipes_table(ui, project, sol, out),
-            Tab::Emitters => emitters_table(ui, sol, out),
+            Tab::Emitters => emitter_table::show(ui, project, sol, &mut st.table, out),
             Tab::Findings => {
                 ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| findings_list(ui, sol, out));
             }
@@ -376,76 +381,6 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
             }
             _ => {
                 cell_label(ui, format!("{:.2}", p.dp_pa / 1000.0));
-            }
-        }
-    });
-}
-
-fn emitters_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
-    const COLUMNS: [(&str, f32); 11] = [
-        ("Emitter", 150.0),
-        ("Level", 95.0),
-        ("Load W", 60.0),
-        ("Output W", 68.0),
-        ("Design l/h", 72.0),
-        ("Flow l/h", 104.0),
-        ("Return °C", 70.0),
-        ("Presetting", 72.0),
-        ("Lockshield", 72.0),
-        ("Authority", 66.0),
-        ("Circuit kPa", 76.0),
-    ];
-    virtual_table(ui, "emitters_table", &COLUMNS, sol.emitters.len(), |ui, r, c| {
-        let Some(e) = sol.emitters.get(r) else { return };
-        match c {
-            0 => {
-                let mark = if sol.index_emitter == Some(e.id) { " (index)" } else { "" };
-                if ui
-                    .add(egui::Button::selectable(false, format!("{}{mark}", e.name)).truncate())
-                    .on_hover_text("Select and centre")
-                    .clicked()
-                {
-                    out.centre_on = Some(ItemRef::Node(e.id));
-                }
-            }
-            1 => {
-                cell_label(ui, e.level.as_str());
-            }
-            2 => {
-                cell_label(ui, format!("{:.0}", e.load_w));
-            }
-            3 => {
-                // Every warning colour here has a finding behind it.
-                let o = RichText::new(format!("{:.0}", e.output_w));
-                let short = sol.has_finding(ItemRef::Node(e.id), &FindingKind::OUTPUT_SHORT);
-                cell_label(ui, if short { o.color(theme::ERROR) } else { o });
-            }
-            4 => {
-                cell_label(ui, format!("{:.1}", e.design_flow_l_h));
-            }
-            5 => {
-                let f = RichText::new(format!("{:.1} ({:+.0} %)", e.flow_l_h, e.flow_deviation * 100.0));
-                let off = sol.has_finding(ItemRef::Node(e.id), &[FindingKind::FlowOutOfTolerance]);
-                cell_label(ui, if off { f.color(theme::ERROR) } else { f });
-            }
-            6 => {
-                let t = RichText::new(format!("{:.1}", e.return_c));
-                let hot = sol.has_finding(ItemRef::Node(e.id), &[FindingKind::HotReturn]);
-                cell_label(ui, if hot { t.color(theme::WARNING) } else { t });
-            }
-            7 => {
-                cell_label(ui, e.presetting.as_str());
-            }
-            8 => {
-                cell_label(ui, e.lockshield.as_str());
-            }
-            9 => {
-                let a = RichText::new(format!("{:.2}", e.authority));
-                let low = sol.has_finding(ItemRef::Node(e.id), &[FindingKind::LowAuthority]);
-                cell_label(ui, if low { a.color(theme::WARNING) } else { a });
-            }
-            _ => {
-                cell_label(ui, format!("{:.1}", e.circuit_dp_open_pa / 1000.0));
             }
         }
     });

@@ -50,6 +50,8 @@ impl FileType {
     pub fn extensions(self) -> impl Iterator<Item = &'static str> {
         std::iter::once(self.extension).chain(self.more.iter().copied())
     }
+    /// A room-load schedule.
+    pub const SCHEDULE: Self = Self { name: "room-load schedule (CSV)", extension: "csv", more: &[] };
 
     /// "flowrise project (*.ron)".
     #[must_use]

@@ -62,6 +62,17 @@ pub enum FilePurpose {
     Export(export::Kind),
     /// Read it as the plan underlay of a level.
     Underlay(flowrise_core::project::LevelId),
+    /// Read a room-load schedule from there, or write one.
+    Schedule(ScheduleFile),
+}
+
+/// Which way a room-load schedule file goes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ScheduleFile {
+    /// Read it into the import window.
+    Import,
+    /// Write the emitters there.
+    Export,
 }
 
 /// A file being chosen.
@@ -374,6 +385,18 @@ impl FlowriseApp {
                 file_name: Some(format!("{stem}{}.{}", kind.suffix(), kind.file_type().extension)),
                 start_dir,
             },
+            FilePurpose::Schedule(which) => DialogSpec {
+                mode: if *which == ScheduleFile::Import { DialogMode::Open } else { DialogMode::Save },
+                title: if *which == ScheduleFile::Import {
+                    "Read a room-load schedule"
+                } else {
+                    "Export the room loads"
+                }
+                .to_owned(),
+                file_type: FileType::SCHEDULE,
+                file_name: (*which == ScheduleFile::Export).then(|| format!("{stem}-room-loads.csv")),
+                start_dir,
+            },
         }
     }
 
@@ -440,6 +463,10 @@ impl FlowriseApp {
                 }
                 FilePurpose::Export(kind) => self.write_export(kind, &path),
                 FilePurpose::Underlay(level) => self.underlay.start_import(level, path),
+                FilePurpose::Schedule(which) => {
+                    self.remember_dir(&path);
+                    self.schedule_file(which, &path);
+                }
             },
         }
     }
@@ -566,4 +593,49 @@ pub type Opener = fn(&std::path::Path) -> std::io::Result<()>;
 /// The launcher could not be started or reported a failure.
 pub fn open_with_default_program(path: &std::path::Path) -> std::io::Result<()> {
     open::that(path)
+}
+
+/// The question about saving over a changed file.
+impl FlowriseApp {
+    /// The question before saving recovered work over a file that changed
+    /// or moved since it was autosaved.
+    pub(super) fn conflict_question(&mut self, ctx: &egui::Context) {
+        let Some(c) = self.save_conflict.clone().filter(|_| self.conflict_prompt) else { return };
+        let mut choice = None;
+        egui::Modal::new(egui::Id::unique("save_conflict")).show(ctx, |ui| {
+            ui.set_max_width(560.0);
+            ui.heading("Save over a changed file?");
+            ui.label(format!("The recovered work belongs to {}, which {}.", c.path.display(), c.reason));
+            ui.label("Saving there replaces what is in that file now.");
+            ui.horizontal(|ui| {
+                if ui.button("Save As…").clicked() {
+                    choice = Some(0);
+                }
+                if ui.button("Overwrite").clicked() {
+                    choice = Some(1);
+                }
+                if ui.button("Cancel").clicked() {
+                    choice = Some(2);
+                }
+            });
+        });
+        match choice {
+            Some(0) => {
+                self.conflict_prompt = false;
+                let then = self.conflict_then.take();
+                self.save(true, then, ctx);
+            }
+            Some(1) => {
+                self.conflict_prompt = false;
+                self.save_conflict = None;
+                let then = self.conflict_then.take();
+                self.save(false, then, ctx);
+            }
+            Some(_) => {
+                self.conflict_prompt = false;
+                self.conflict_then = None;
+            }
+            None => {}
+        }
+    }
 }

@@ -34,10 +34,12 @@ mod findings_view;
 mod history;
 mod inspector;
 pub mod intents;
+pub mod many;
 mod outline;
 pub mod prefs;
 pub mod recovery;
 mod scenarios;
+pub mod schedule;
 mod settings_panel;
 mod solve;
 pub mod theme;
@@ -63,7 +65,7 @@ pub use theme::ColourBy;
 pub const CAUTION: &str = "Design aid only — pressures, temperatures, materials and safety devices must follow local codes and licensed practice (EN 12828 or the local equivalent). Hot surfaces can burn.";
 
 pub use drawer::Tab as DrawerTab;
-pub use file_flow::{FilePurpose, Notice, Pending};
+pub use file_flow::{FilePurpose, Notice, Pending, ScheduleFile};
 
 /// The flowrise application.
 #[derive(Debug)]
@@ -87,6 +89,8 @@ pub struct FlowriseApp {
     show_about: bool,
     show_settings: bool,
     outline: Option<outline::OutlineForm>,
+    /// Copy and paste, repeat level, the room-load schedule.
+    many: many::ManyState,
     /// What waits behind the unsaved-changes question.
     pending: Option<Pending>,
     allow_close: bool,
@@ -144,6 +148,7 @@ impl FlowriseApp {
             show_about: false,
             show_settings: false,
             outline: None,
+            many: many::ManyState::default(),
             pending: None,
             allow_close: false,
             file_request: None,
@@ -512,6 +517,7 @@ impl FlowriseApp {
 
     fn windows(&mut self, ctx: &egui::Context, out: &mut Intents) {
         self.recovery_offer(ctx);
+        self.many_windows(ctx);
         self.conflict_question(ctx);
         self.unsaved_question(ctx);
         self.file_request_frame(ctx);
@@ -571,8 +577,9 @@ impl FlowriseApp {
         if self.file_request.is_some() || self.pending.is_some() || self.notice.is_some() {
             return;
         }
+        self.clipboard_events(ctx);
         for a in Action::WITH_KEYS {
-            if typing && a.is_plain_key() {
+            if typing && (a.is_plain_key() || matches!(a, Action::Many(_))) {
                 continue;
             }
             let pressed = [a.shortcut(), a.second_shortcut()]
@@ -589,6 +596,7 @@ impl FlowriseApp {
             }
             if ctx.input(|i| i.key_pressed(egui::Key::Delete)) {
                 match self.selection {
+                    _ if !self.canvas.group.is_empty() => out.actions.push(Action::Many(many::ManyAction::Delete)),
                     Selection::Node(id) => out.edit(Edit::RemoveNode(id)),
                     Selection::Run(id) => out.edit(Edit::RemoveRun(id)),
                     Selection::None => {}
@@ -610,9 +618,11 @@ impl FlowriseApp {
         let mut changed = false;
         for q in out.edits {
             let before = (!q.during_drag).then(|| self.project.clone());
+            let hint = flowrise_core::design::EditHint::for_edit(&self.project, &q.edit);
             match self.project.apply(q.edit) {
                 Ok(outcome) => {
                     changed = true;
+                    self.solver.note_edit(hint);
                     if let Some(b) = before {
                         self.history.push(b);
                     }
@@ -731,6 +741,7 @@ impl FlowriseApp {
             Action::ExportParts => self.export(export::Kind::Parts),
             Action::ExportReport => self.export(export::Kind::Report),
             Action::PlanUnderlay => self.underlay.open = true,
+            Action::Many(m) => self.run_many(m, ctx),
         }
         ctx.request_repaint();
     }
@@ -740,6 +751,8 @@ impl FlowriseApp {
         // for the ones of the state it replaced.
         p.revision = self.project.revision + 1;
         self.project = p;
+        // A replaced project: no edit hint leads to it.
+        self.solver.forget_edits();
         self.inspector = fields::FieldState::default();
     }
 
@@ -787,48 +800,6 @@ impl FlowriseApp {
         self.orphans = recovery::find_orphans(&dir);
         if self.orphans.is_empty() {
             self.status = Some(Status::note(format!("no unsaved work of other sessions in {}", dir.display())));
-        }
-    }
-
-    /// The question before saving recovered work over a file that changed
-    /// or moved since it was autosaved.
-    fn conflict_question(&mut self, ctx: &egui::Context) {
-        let Some(c) = self.save_conflict.clone().filter(|_| self.conflict_prompt) else { return };
-        let mut choice = None;
-        egui::Modal::new(egui::Id::unique("save_conflict")).show(ctx, |ui| {
-            ui.set_max_width(560.0);
-            ui.heading("Save over a changed file?");
-            ui.label(format!("The recovered work belongs to {}, which {}.", c.path.display(), c.reason));
-            ui.label("Saving there replaces what is in that file now.");
-            ui.horizontal(|ui| {
-                if ui.button("Save As…").clicked() {
-                    choice = Some(0);
-                }
-                if ui.button("Overwrite").clicked() {
-                    choice = Some(1);
-                }
-                if ui.button("Cancel").clicked() {
-                    choice = Some(2);
-                }
-            });
-        });
-        match choice {
-            Some(0) => {
-                self.conflict_prompt = false;
-                let then = self.conflict_then.take();
-                self.save(true, then, ctx);
-            }
-            Some(1) => {
-                self.conflict_prompt = false;
-                self.save_conflict = None;
-                let then = self.conflict_then.take();
-                self.save(false, then, ctx);
-            }
-            Some(_) => {
-                self.conflict_prompt = false;
-                self.conflict_then = None;
-            }
-            None => {}
         }
     }
 

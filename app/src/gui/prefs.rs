@@ -28,6 +28,8 @@ pub struct Prefs {
     pub file_dialog: DialogChoice,
     /// The folder of the last file chosen in a dialog.
     pub last_dir: Option<PathBuf>,
+    /// Which column of a room-load schedule holds what (the last import's).
+    pub schedule_columns: flowrise_core::project::schedule::ColumnMap,
 }
 
 impl Default for Prefs {
@@ -41,6 +43,7 @@ impl Default for Prefs {
             drawer_height: DEFAULT_DRAWER_HEIGHT,
             file_dialog: DialogChoice::default(),
             last_dir: None,
+            schedule_columns: flowrise_core::project::schedule::ColumnMap::default(),
         }
     }
 }

@@ -1,12 +1,16 @@
 //! Running the design solve for the GUI: synchronously while it is fast,
 //! on a worker thread once a solve took longer than [`BACKGROUND_AFTER_MS`];
 //! the last result stays on screen until the new one arrives, and every
-//! result carries the project revision it belongs to.
+//! result carries the project revision it belongs to. Edits the app
+//! reports with [`SolveRunner::note_edit`] (a drag, a changed run length)
+//! are solved on the incremental path (`design::solve_edit`: only the
+//! touched runs are derived again) when the workspace kept the revision
+//! they start from; anything else takes the full solve.
 
 use std::sync::Arc;
 use std::sync::mpsc::{Receiver, channel};
 
-use flowrise_core::design::{Solution, SolveOptions, Workspace, solve_project};
+use flowrise_core::design::{EditHint, Solution, SolveOptions, Workspace, solve_edit, solve_project};
 use flowrise_core::project::Project;
 
 /// A solve slower than this moves to the worker thread, ms.
@@ -26,6 +30,9 @@ pub struct SolveRunner {
     /// Allow the worker thread (off in tests for determinism).
     pub background: bool,
     options: SolveOptions,
+    /// What the edits since the last solve started changed, when every
+    /// one of them was a geometry edit (see [`Self::note_edit`]).
+    pending: Option<EditHint>,
 }
 
 impl Default for SolveRunner {
@@ -33,12 +40,13 @@ impl Default for SolveRunner {
         Self {
             latest: Arc::new(Solution::default()),
             valid: false,
-            workspace: Some(Workspace::default()),
+            workspace: Some(Workspace::for_edits()),
             worker: None,
             queued: None,
             last_ms: 0.0,
             background: true,
             options: SolveOptions::default(),
+            pending: None,
         }
     }
 }
@@ -60,6 +68,29 @@ impl SolveRunner {
     #[must_use]
     pub fn is_busy(&self) -> bool {
         self.worker.is_some() || self.queued.is_some()
+    }
+
+    /// Record an edit just applied to the project: its hint
+    /// ([`EditHint::for_edit`], taken before applying) or `None` for an
+    /// edit the incremental path does not cover, which makes the next
+    /// solve a full one.
+    pub fn note_edit(&mut self, hint: Option<EditHint>) {
+        self.pending = match (self.pending.take(), hint) {
+            (_, None) => None,
+            (None, Some(h)) => Some(h),
+            (Some(p), Some(h)) => p.then(&h).or(Some(h)),
+        };
+    }
+
+    /// Forget the recorded edits (the project was replaced: undo, redo).
+    pub fn forget_edits(&mut self) {
+        self.pending = None;
+    }
+
+    /// The recorded edits' hint when it leads to `project`'s revision
+    /// (taken: the solve about to start consumes it).
+    fn take_hint(&mut self, project: &Project) -> Option<EditHint> {
+        self.pending.take().filter(|h| h.to_revision == project.revision)
     }
 
     /// Start over with a fresh workspace (another project was opened).
@@ -85,8 +116,9 @@ impl SolveRunner {
             self.spawn(project.clone());
             return true;
         }
-        let mut ws = self.workspace.take().unwrap_or_default();
-        let sol = solve_project(project, &self.options, &mut ws);
+        let hint = self.take_hint(project);
+        let mut ws = self.workspace.take().unwrap_or_else(Workspace::for_edits);
+        let sol = solve(project, &self.options, &mut ws, hint.as_ref());
         self.workspace = Some(ws);
         self.last_ms = sol.timings.derive_ms + sol.timings.design_ms + sol.timings.operate_ms;
         self.latest = Arc::new(sol);
@@ -95,11 +127,12 @@ impl SolveRunner {
     }
 
     fn spawn(&mut self, project: Project) {
-        let mut ws = self.workspace.take().unwrap_or_default();
+        let hint = self.take_hint(&project);
+        let mut ws = self.workspace.take().unwrap_or_else(Workspace::for_edits);
         let options = self.options.clone();
         let (tx, rx) = channel();
         std::thread::spawn(move || {
-            let sol = solve_project(&project, &options, &mut ws);
+            let sol = solve(&project, &options, &mut ws, hint.as_ref());
             let ms = sol.timings.derive_ms + sol.timings.design_ms + sol.timings.operate_ms;
             // The receiver is gone only when the app has closed.
             tx.send((sol, ws, ms)).ok();
@@ -124,8 +157,16 @@ impl SolveRunner {
             Err(std::sync::mpsc::TryRecvError::Empty) => {}
             Err(std::sync::mpsc::TryRecvError::Disconnected) => {
                 self.worker = None;
-                self.workspace = Some(Workspace::default());
+                self.workspace = Some(Workspace::for_edits());
             }
         }
+    }
+}
+
+/// The incremental solve when there is a hint, else the full one.
+fn solve(project: &Project, options: &SolveOptions, ws: &mut Workspace, hint: Option<&EditHint>) -> Solution {
+    match hint {
+        Some(h) => solve_edit(project, options, ws, h),
+        None => solve_project(project, options, ws),
     }
 }

@@ -11,6 +11,7 @@ use super::actions::Action;
 use super::dialogs::DialogChoice;
 use super::findings_view::count;
 use super::intents::Intents;
+use super::many::ManyAction;
 use super::prefs::Prefs;
 use super::theme::ColourBy;
 use super::{settings_panel, theme};
@@ -122,6 +123,7 @@ fn left(
     }
     bar(ui);
     file_menu(ui, m, prefs, out);
+    edit_menu(ui, out);
     action_button(ui, Action::Undo, m.can_undo, out);
     action_button(ui, Action::Redo, m.can_redo, out);
     bar(ui);
@@ -195,7 +197,12 @@ fn file_menu(ui: &mut Ui, m: &TopBar<'_>, prefs: &Prefs, out: &mut Intents) {
             });
         }
         ui.separator();
-        for a in [Action::ExportParts, Action::ExportReport] {
+        for a in [
+            Action::Many(ManyAction::ImportSchedule),
+            Action::Many(ManyAction::ExportSchedule),
+            Action::ExportParts,
+            Action::ExportReport,
+        ] {
             if ui.button(a.label()).on_hover_text(a.tooltip()).clicked() {
                 out.actions.push(a);
                 ui.close();
@@ -221,6 +228,25 @@ fn file_menu(ui: &mut Ui, m: &TopBar<'_>, prefs: &Prefs, out: &mut Intents) {
         }
         if ui.button(Action::Quit.menu_text(ui.ctx())).on_hover_text(Action::Quit.tooltip()).clicked() {
             out.actions.push(Action::Quit);
+            ui.close();
+        }
+    });
+}
+
+/// The Edit menu: the actions on many items at once.
+fn edit_menu(ui: &mut Ui, out: &mut Intents) {
+    ui.menu_button("Edit", |ui| {
+        for m in [ManyAction::SelectAll, ManyAction::Copy, ManyAction::Paste, ManyAction::Delete] {
+            let a = Action::Many(m);
+            if ui.button(a.menu_text(ui.ctx())).on_hover_text(a.tooltip()).clicked() {
+                out.actions.push(a);
+                ui.close();
+            }
+        }
+        ui.separator();
+        let a = Action::Many(ManyAction::RepeatLevel);
+        if ui.button(a.label()).on_hover_text(a.tooltip()).clicked() {
+            out.actions.push(a);
             ui.close();
         }
     });

@@ -429,7 +429,7 @@ pub fn bends_in_run(p: &Project, run: &Run) -> (u32, u32) {
 }
 
 /// [`bends_in_run`] with the project's nodes looked up in `dn`.
-fn bends_dense(dn: &Dense<'_>, run: &Run) -> (u32, u32) {
+pub(super) fn bends_dense(dn: &Dense<'_>, run: &Run) -> (u32, u32) {
     let (Some(a), Some(b)) = (dn.node(run.a), dn.node(run.b)) else { return (0, 0) };
     bends_along(a.pos, &run.vertices, b.pos)
 }

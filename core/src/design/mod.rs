@@ -34,6 +34,7 @@ mod derive;
 mod devices;
 pub mod findings;
 mod freeze;
+mod incremental;
 mod operate;
 mod results;
 mod size;
@@ -48,6 +49,7 @@ pub use derive::{BEND_45_MIN_DEG, BEND_90_MIN_DEG, RISER_BENDS_PER_VERTICAL_RUN,
 pub use devices::{HELD_DP_TOLERANCE_PA, MAX_REGULATION_ROUNDS};
 pub use findings::{Finding, FindingKind, ItemRef, Severity};
 pub use freeze::{freeze_edit, thaw_edit};
+pub use incremental::EditHint;
 pub use results::{
     CircuitResult, DeviceResult, DeviceState, EmitterResult, LinkRole, PipeResult, PumpResult, Side, Solution,
     StageTimings,
@@ -97,6 +99,21 @@ pub struct Workspace {
     messages: cache::MessageCache,
     /// The workspaces of the pumped circuits, by circuit root.
     circuits: BTreeMap<NodeId, Workspace>,
+    /// Keep the derivation after each solve for [`solve_edit`] (costs a
+    /// copy of the derived network per solve; see [`Workspace::for_edits`]).
+    retain: bool,
+    /// The derivation kept for the next edit.
+    retained: Option<Box<incremental::Retained>>,
+}
+
+impl Workspace {
+    /// A workspace for a window or any caller that re-solves after small
+    /// edits with [`solve_edit`]: it keeps each solve's derivation (after
+    /// the size stage) so the next edit re-derives only the runs it touched.
+    #[must_use]
+    pub fn for_edits() -> Self {
+        Self { retain: true, ..Self::default() }
+    }
 }
 
 /// Design and operate a project. Never panics; everything that goes wrong
@@ -104,9 +121,37 @@ pub struct Workspace {
 #[must_use]
 pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> Solution {
     if circuits::has_circuits(p) {
+        ws.retained = None;
         return circuits::solve_composite(p, opts, ws);
     }
     solve_one(p, opts, ws, BTreeMap::new())
+}
+
+/// Design and operate `p` after the edit(s) `hint` describes, on the
+/// workspace that solved the revision before them: the same answer as
+/// [`solve_project`], re-deriving only the runs the edit touched when the
+/// workspace kept that revision's derivation ([`Workspace::for_edits`]),
+/// otherwise by the full path (see `design/incremental.rs`).
+#[must_use]
+pub fn solve_edit(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint: &EditHint) -> Solution {
+    let Some(mut kept) = ws.retained.take().filter(|r| r.fits(p, hint)) else {
+        return solve_project(p, opts, ws);
+    };
+    let mut sol = Solution { revision: p.revision, ..Solution::default() };
+    let t0 = Instant::now();
+    let mut findings = Vec::new();
+    let mut d = Derivation::new(&mut findings);
+    let dn = Dense::new(p);
+    if !kept.update_into(p, &dn, hint, &mut d) {
+        drop(d);
+        return solve_project(p, opts, ws);
+    }
+    ws.retained = Some(kept);
+    sol.timings.derive_ms = ms_since(t0);
+    sol.timings.incremental = true;
+    finish(&mut d, p, &dn, opts, ws, &mut sol, true, Instant::now());
+    drop(d);
+    with_findings(sol, findings)
 }
 
 /// Design and operate one circuit: a project with one source, where the
@@ -120,42 +165,62 @@ fn solve_one(p: &Project, opts: &SolveOptions, ws: &mut Workspace, feeds: BTreeM
     let dn = Dense::new(p);
     let ok = d.derive(p, &dn, ws);
     sol.timings.derive_ms = ms_since(t0);
+    let t1 = Instant::now();
     if ok {
-        let t1 = Instant::now();
         d.size(p, &dn, ws);
-        d.balance(p, &dn, opts, ws, &mut sol);
+    }
+    ws.retained = (ws.retain && ok && d.feeds.is_empty()).then(|| Box::new(incremental::Retained::keep(&d, p)));
+    finish(&mut d, p, &dn, opts, ws, &mut sol, ok, t1);
+    drop(d);
+    with_findings(sol, findings)
+}
+
+/// The stages after sizing — balance, operate, commission — and the
+/// solution's network, roles and topology taken from `d`. `t1` is when the
+/// design stage began.
+#[allow(clippy::too_many_arguments)] // reason: the stages' state, its inputs and where the results go
+fn finish(
+    d: &mut Derivation<'_>,
+    p: &Project,
+    dn: &Dense<'_>,
+    opts: &SolveOptions,
+    ws: &mut Workspace,
+    sol: &mut Solution,
+    ok: bool,
+    t1: Instant,
+) {
+    if ok {
+        d.balance(p, dn, opts, ws, sol);
         sol.timings.design_ms = ms_since(t1);
         let t2 = Instant::now();
         if opts.matched_physics {
             d.match_physics(p);
         }
         let mut mark = d.findings.len();
-        d.operate(p, opts, ws, &mut sol);
+        d.operate(p, opts, ws, sol);
         if !opts.continuous_presetting {
             for _ in 0..commission::MAX_PASSES {
-                let done = d.commission(p, &dn, ws, &mut sol);
+                let done = d.commission(p, dn, ws, sol);
                 if done.is_empty() {
                     break;
                 }
                 // The operating findings belong to the settings just
                 // replaced: drop them, refresh the trim findings, solve again.
                 d.findings.truncate(mark);
-                d.retrim_findings(p, &dn, ws, &mut sol, &done);
+                d.retrim_findings(p, dn, ws, sol, &done);
                 mark = d.findings.len();
-                d.operate(p, opts, ws, &mut sol);
+                d.operate(p, opts, ws, sol);
             }
         }
         sol.timings.operate_ms = ms_since(t2);
     }
     if !d.pipes_filled {
         let flows = std::mem::take(&mut d.design_flows);
-        operate::fill_pipe_flows(&mut sol, &d.net, &flows, None);
+        operate::fill_pipe_flows(sol, &d.net, &flows, None);
     }
     sol.network = std::mem::take(&mut d.net);
     sol.roles = std::mem::take(&mut d.roles);
     sol.topology = std::mem::take(&mut d.topo);
-    drop(d);
-    with_findings(sol, findings)
 }
 
 /// The solution with its findings sorted (errors first, then by item),

@@ -349,6 +349,10 @@ pub struct StageTimings {
     /// The hydraulic solve alone, part of `operate_ms` (what a
     /// general-purpose network solver does: flows and pressures).
     pub solver_ms: f64,
+    /// The derivation was the one kept from the previous revision, brought
+    /// up to date for the runs the edit touched ([`super::solve_edit`]);
+    /// `derive_ms` is then that update.
+    pub incremental: bool,
 }
 
 /// Everything a solve produces.

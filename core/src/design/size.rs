@@ -98,6 +98,12 @@ fn design_gradient_pa_m(inputs: &SizeInputs, ix: usize) -> Option<f64> {
     Some(friction_gradient_pa_m(&h, inputs.mass_flow_kg_s))
 }
 
+/// ζ of a 90° bend: one value for every pipe (its correlation is the same
+/// call each time).
+pub(super) fn bend_zeta() -> f64 {
+    fittings::Fitting::BEND_90.zeta().unwrap_or(0.3)
+}
+
 impl Derivation<'_> {
     /// The size stage (see the module docs).
     pub(super) fn size(&mut self, p: &Project, dn: &Dense<'_>, ws: &mut Workspace) {
@@ -213,18 +219,11 @@ impl Derivation<'_> {
             })
             .collect();
         let split = self.tree_flows(&load_split);
-        // ζ of a 90° bend: one value for every pipe (its correlation is the
-        // same call each time).
-        let bend_zeta = fittings::Fitting::BEND_90.zeta().unwrap_or(0.3);
+        let bend_zeta = bend_zeta();
         for i in 0..self.pipes.len() {
             let pd = &self.pipes[i];
-            let Some(series) = pd.series else { continue };
-            let Some(size) = series.sizes.get(pd.size) else { continue };
-            let props = if pd.side == Side::Supply { sp } else { rp };
-            let mut zeta = pd.bend_equivalents() * bend_zeta;
-            if pd.vertical {
-                // Foot and head of a riser (assumption, stated).
-                zeta += f64::from(RISER_BENDS_PER_VERTICAL_RUN) * bend_zeta;
+            if pd.series.is_none() {
+                continue;
             }
             // A header is a manifold, not a tee: its outlet gets a fixed ζ
             // (HEADER_OUTLET_ZETA); tees are booked at junctions.
@@ -232,28 +231,50 @@ impl Derivation<'_> {
                 .topo
                 .tree_run(pd.run)
                 .is_some_and(|tr| matches!(dn.node(tr.up).map(|n| &n.kind), Some(NodeKind::Header(_))));
-            if at_header {
-                zeta += HEADER_OUTLET_ZETA;
+            let fitting = if at_header {
+                HEADER_OUTLET_ZETA
             } else {
-                zeta += self.tee_zeta(pd.run, pd.side, &split, &mut ws.tees).max(0.0);
-            }
-            let zeta = zeta.max(0.0);
-            let law = PipeHydraulics::new(
-                pd.length_m.max(0.01),
-                size.inner_diameter_m(),
-                series.roughness_m,
-                zeta,
-                props.density_kg_m3,
-                props.viscosity_pa_s,
-            );
-            match law {
-                Ok(h) => {
-                    let h = PipeHydraulics { friction_law: FrictionLaw::ColebrookWhiteConservative, ..h };
-                    self.net.links[pd.link].law = LinkLaw::Pipe(h);
-                }
-                Err(e) => self.findings.push(findings::pipe_law_invalid(pd.run, &e)),
+                self.tee_zeta(pd.run, pd.side, &split, &mut ws.tees).max(0.0)
+            };
+            self.pipes[i].fitting_zeta = fitting;
+            if let Err(e) = self.set_pipe_law(i, bend_zeta, sp, rp) {
+                self.findings.push(findings::pipe_law_invalid(self.pipes[i].run, &e));
             }
         }
+    }
+
+    /// The law of pipe `i` from its size, length, bends and fitting ζ (the
+    /// one place it is written, for the sizing stage and the incremental
+    /// path alike). A pipe without a size keeps its law.
+    pub(super) fn set_pipe_law(
+        &mut self,
+        i: usize,
+        bend_zeta: f64,
+        sp: WaterProperties,
+        rp: WaterProperties,
+    ) -> crate::error::PhysicsResult<()> {
+        let Some(pd) = self.pipes.get(i) else { return Ok(()) };
+        let Some(series) = pd.series else { return Ok(()) };
+        let Some(size) = series.sizes.get(pd.size) else { return Ok(()) };
+        let props = if pd.side == Side::Supply { sp } else { rp };
+        let mut zeta = pd.bend_equivalents() * bend_zeta;
+        if pd.vertical {
+            // Foot and head of a riser (assumption, stated).
+            zeta += f64::from(RISER_BENDS_PER_VERTICAL_RUN) * bend_zeta;
+        }
+        zeta += pd.fitting_zeta;
+        let zeta = zeta.max(0.0);
+        let h = PipeHydraulics::new(
+            pd.length_m.max(0.01),
+            size.inner_diameter_m(),
+            series.roughness_m,
+            zeta,
+            props.density_kg_m3,
+            props.viscosity_pa_s,
+        )?;
+        let h = PipeHydraulics { friction_law: FrictionLaw::ColebrookWhiteConservative, ..h };
+        self.net.links[pd.link].law = LinkLaw::Pipe(h);
+        Ok(())
     }
 
     /// Design flow of every link from the emitter flows, by accumulation

@@ -52,7 +52,7 @@ pub(crate) struct Feed {
 }
 
 /// Per-emitter derivation data.
-#[derive(Debug)]
+#[derive(Debug, Clone)]
 pub(super) struct EmitterData {
     pub(super) id: NodeId,
     /// Supply and return network nodes.
@@ -87,6 +87,10 @@ pub(super) struct PipeData {
     pub(super) link: usize,
     pub(super) series: Option<&'static PipeSeries>,
     pub(super) size: usize,
+    /// ζ of the fitting at its upstream end (tee or header outlet), set
+    /// by the sizing stage; kept so the incremental path can rebuild the
+    /// pipe's law after a change of geometry with the same arithmetic.
+    pub(super) fitting_zeta: f64,
 }
 
 impl PipeData {
@@ -254,6 +258,7 @@ impl<'f> Derivation<'f> {
             link,
             series: None,
             size: 0,
+            fitting_zeta: 0.0,
         });
     }
 }

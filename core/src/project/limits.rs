@@ -180,15 +180,15 @@ pub const HEADER_OUTLETS: Limit = Limit::new("outlets", "pairs", 1.0, 24.0);
 
 // ---- heat source and pump
 /// Source capacity, W.
-pub const SOURCE_CAPACITY_W: Limit = Limit::new("capacity", "W", 1.0, 1e8);
+pub const SOURCE_CAPACITY_W: Limit = Limit::new("capacity", "W", 1.0, 1e9);
 /// Kv of the source's water path, m³/h.
-pub const SOURCE_KV_M3_H: Limit = Limit::new("Kv", "m³/h", 0.01, 10_000.0);
+pub const SOURCE_KV_M3_H: Limit = Limit::new("Kv", "m³/h", 0.01, 100_000.0);
 /// Water content of the source, l.
 pub const SOURCE_WATER_L: Limit = Limit::new("water content", "l", 0.0, 1e6);
 /// A pump's Δp set-point, kPa.
 pub const PUMP_SETPOINT_KPA: Limit = Limit::new("pump set-point", "kPa", 0.1, 1000.0);
 /// Flow of a pump-curve point, m³/h.
-pub const PUMP_CURVE_FLOW_M3_H: Limit = Limit::new("pump curve flow", "m³/h", 0.0, 10_000.0);
+pub const PUMP_CURVE_FLOW_M3_H: Limit = Limit::new("pump curve flow", "m³/h", 0.0, 100_000.0);
 /// Head of a pump-curve point, kPa.
 pub const PUMP_CURVE_HEAD_KPA: Limit = Limit::new("pump curve head", "kPa", 0.0, 2000.0);
 /// Kvs of a pumped circuit's mixing or injection valve, m³/h.
@@ -196,7 +196,7 @@ pub const CIRCUIT_VALVE_KVS_M3_H: Limit = Limit::new("mixing valve Kvs", "m³/h"
 /// Set-point of a branch's Δp controller, kPa.
 pub const DP_CONTROLLER_SETPOINT_KPA: Limit = Limit::new("Δp controller set-point", "kPa", 1.0, 200.0);
 /// Design flow a proportional-Δp pump was set for, m³/h.
-pub const PUMP_DESIGN_FLOW_M3_H: Limit = Limit::above("pump design flow", "m³/h", 0.0, 10_000.0);
+pub const PUMP_DESIGN_FLOW_M3_H: Limit = Limit::above("pump design flow", "m³/h", 0.0, 100_000.0);
 
 // ---- emitters
 /// Heat load of a room, W.
@@ -247,7 +247,7 @@ mod tests {
         assert!(ROOM_C.check(f64::NAN).is_err());
         assert!(RUN_LENGTH_M.check(0.0).unwrap_err().contains("more than 0 and at most 10000 m"));
         assert!(RUN_LENGTH_M.contains(0.5));
-        assert_eq!(SOURCE_CAPACITY_W.scaled(1e-3), (0.001, 1e5));
+        assert_eq!(SOURCE_CAPACITY_W.scaled(1e-3), (0.001, 1e6));
     }
 
     /// Issue 20 item 10: numbers in messages are rounded for reading.

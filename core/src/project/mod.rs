@@ -12,6 +12,8 @@
 pub mod edit;
 pub mod file;
 pub mod limits;
+pub mod repeat;
+pub mod schedule;
 pub mod settings;
 pub mod underlay;
 

@@ -66,7 +66,7 @@ impl Labels {
         self.obstacles.push(rect);
     }
 
-    fn add(&mut self, text: String, spots: Vec<(Pos2, Align2)>, must: bool) {
+    pub(super) fn add(&mut self, text: String, spots: Vec<(Pos2, Align2)>, must: bool) {
         self.requests.push(LabelRequest { text, spots, must });
     }
 
@@ -149,7 +149,7 @@ impl PlacedRects {
 }
 
 /// Dashed polyline (over-limit runs).
-fn dashed(painter: &Painter, pts: &[Pos2], stroke: Stroke) {
+pub(super) fn dashed(painter: &Painter, pts: &[Pos2], stroke: Stroke) {
     painter.extend(Shape::dashed_line(pts, stroke, 9.0, 5.0));
 }
 
@@ -436,11 +436,28 @@ fn node_label(s: &PlanScene<'_>, n: &Node, at: Pos2, must: bool, labels: &mut La
     labels.add(text, spots, must);
 }
 
+/// Where the legend sits in a canvas `rect` (labels keep off it).
+#[must_use]
+pub fn legend_rect(rect: Rect) -> Rect {
+    let w = 170.0;
+    Rect::from_min_size(pos2(rect.right() - w - 12.0, rect.top() + 12.0), vec2(w, 78.0))
+}
+
+/// Where the scale bar and the pointer's coordinate readout sit in a canvas
+/// `rect` (labels keep off both).
+#[must_use]
+pub fn corner_readout_rects(rect: Rect) -> [Rect; 2] {
+    [
+        Rect::from_min_max(pos2(rect.left(), rect.bottom() - 26.0), pos2(rect.left() + 230.0, rect.bottom())),
+        Rect::from_min_max(pos2(rect.right() - 200.0, rect.bottom() - 24.0), rect.right_bottom()),
+    ]
+}
+
 /// Legend of the colour scale in the canvas's upper-right corner.
 pub fn draw_legend(painter: &Painter, rect: Rect, colour_by: ColourBy) {
     let (title, note) = colour_by.legend();
-    let w = 170.0;
-    let frame = Rect::from_min_size(pos2(rect.right() - w - 12.0, rect.top() + 12.0), vec2(w, 78.0));
+    let frame = legend_rect(rect);
+    let w = frame.width();
     painter.rect(
         frame,
         CornerRadius::same(5),

@@ -3,14 +3,21 @@
 //!
 //! Per frame: map the pointer to plan space once, resolve what is under it
 //! ([`hit`]), handle zoom/pan/drag, draw ([`draw`]), then turn clicks into
-//! edits through the active tool ([`tools`]). Everything here is transient
-//! state ([`CanvasState`]) and is never saved.
+//! edits through the active tool ([`tools`]). Points drawn or dragged go
+//! through the drawing aids ([`snap`]); many nodes are picked with
+//! [`select`]. Everything here is transient state ([`CanvasState`]) and is
+//! never saved.
 
 pub mod draw;
 pub mod elevation;
 pub mod hit;
+pub mod returns;
+pub mod select;
+pub mod snap;
 pub mod tools;
 pub mod view;
+
+use std::collections::BTreeSet;
 
 use egui::{Align2, FontId, Pos2, Sense, Shape, Stroke, Ui};
 use flowrise_core::design::Solution;
@@ -32,6 +39,8 @@ enum Drag {
     Pan,
     /// Moving nodes: the grabbed node's start position, the offset applied so far.
     Move { ids: Vec<NodeId>, grabbed_start: PlanPoint, pointer_start: PlanPoint, applied: (f64, f64) },
+    /// Dragging a selection box (screen points).
+    Box { start: Pos2, now: Pos2 },
 }
 
 /// Transient canvas state (never saved).
@@ -57,6 +66,11 @@ pub struct CanvasState {
     /// The riser view as last drawn: its rectangle and where each level
     /// is (None when it is not shown).
     pub riser: Option<(egui::Rect, elevation::Bands)>,
+    /// Nodes selected together (box select, Shift+click); moved, deleted
+    /// and copied as one.
+    pub group: BTreeSet<NodeId>,
+    /// Where the point being drawn or dragged snapped, and its anchor.
+    pub snapped: Option<(snap::Snapped, Option<PlanPoint>)>,
 }
 
 impl Default for CanvasState {
@@ -72,6 +86,8 @@ impl Default for CanvasState {
             pointer_plan: None,
             fit_pending: true,
             riser: None,
+            group: BTreeSet::new(),
+            snapped: None,
         }
     }
 }
@@ -126,6 +142,7 @@ impl CanvasState {
     /// Cancel the tool in progress (Esc).
     pub fn cancel(&mut self) {
         self.draft = None;
+        self.group.clear();
     }
 
     /// True while a node drag is in progress.
@@ -210,7 +227,7 @@ pub fn show(
 
     handle_drag(ui, &resp, project, sol, state, out);
     if !underlay.canvas_click(&resp, state, out) {
-        handle_clicks(&resp, project, state, out);
+        handle_clicks(ui, &resp, project, selection, state, out);
     }
 
     // Draw.
@@ -232,11 +249,24 @@ pub fn show(
     // Runs under nodes; labels over both, node names placed before run sizes.
     let (mut run_labels, mut node_labels) = (draw::Labels::default(), draw::Labels::default());
     let mut circuit_labels = draw::Labels::default();
+    // Labels keep off the legend, the scale bar and the coordinate readout.
+    circuit_labels.avoid(draw::legend_rect(rect));
+    for r in draw::corner_readout_rects(rect) {
+        circuit_labels.avoid(r);
+    }
     draw::draw_circuits(&painter, &scene, &mut circuit_labels);
+    returns::draw_reverse_returns(&painter, &scene, &mut run_labels);
     draw::draw_runs(&painter, &scene, &mut run_labels);
     draw::draw_nodes(&painter, &scene, &mut node_labels);
     circuit_labels.then(node_labels).then(run_labels).paint(&painter);
+    select::draw_group(&painter, project, state.level, &state.view, &state.group);
+    if let Some(Drag::Box { start, now }) = &state.drag {
+        select::draw_box(&painter, *start, *now);
+    }
     draw_draft(&painter, project, state);
+    if let Some((s, anchor)) = &state.snapped {
+        snap::draw_indicator(&painter, &state.view, s, *anchor);
+    }
     draw::draw_legend(&painter, rect, opts.colour_by);
     draw::draw_scale_bar(&painter, &state.view, rect.left_bottom());
     if project.node_count() == 0 {
@@ -272,10 +302,20 @@ fn handle_drag(
         let shift = ui.input(|i| i.modifiers.shift);
         let grabbed =
             if state.tool == Tool::Select { hit::hit_node(project, state.level, &state.view, origin) } else { None };
+        let primary = resp.drag_started_by(egui::PointerButton::Primary);
         state.drag = Some(match grabbed.and_then(|id| project.node(id)) {
             Some(node) => {
-                let ids = if shift { tools::branch_of(sol, node.id) } else { vec![node.id] };
-                out.select = Some(Selection::Node(node.id));
+                let ids = if shift {
+                    tools::branch_of(sol, node.id)
+                } else if state.group.contains(&node.id) {
+                    state.group.iter().copied().collect()
+                } else {
+                    state.group.clear();
+                    vec![node.id]
+                };
+                if state.group.len() <= 1 {
+                    out.select = Some(Selection::Node(node.id));
+                }
                 out.drag_begin = true;
                 Drag::Move {
                     ids,
@@ -284,18 +324,30 @@ fn handle_drag(
                     applied: (0.0, 0.0),
                 }
             }
+            None if primary && state.tool == Tool::Select => Drag::Box { start: origin, now: origin },
             None => Drag::Pan,
         });
     }
     if resp.dragged() {
         match &mut state.drag {
             Some(Drag::Pan) => state.view.pan_by_screen(resp.drag_delta()),
+            Some(Drag::Box { now, .. }) => {
+                if let Some(q) = resp.interact_pointer_pos() {
+                    *now = q;
+                }
+            }
             Some(Drag::Move { ids, grabbed_start, pointer_start, applied }) => {
                 if let Some(p) = resp.interact_pointer_pos().map(|q| state.view.plan_from_screen(q)) {
-                    let target = state.view.snap(PlanPoint::new(
+                    let moving: BTreeSet<NodeId> = ids.iter().copied().collect();
+                    let targets = snap::Targets::of_level(project, state.level, &moving);
+                    let free = ui.input(|i| i.modifiers.alt);
+                    let candidate = PlanPoint::new(
                         grabbed_start.x_m + p.x_m - pointer_start.x_m,
                         grabbed_start.y_m + p.y_m - pointer_start.y_m,
-                    ));
+                    );
+                    let snapped = targets.snap(candidate, Some(*grabbed_start), &state.view, free);
+                    state.snapped = Some((snapped, Some(*grabbed_start)));
+                    let target = snapped.at;
                     let total = (target.x_m - grabbed_start.x_m, target.y_m - grabbed_start.y_m);
                     let (dx_m, dy_m) = (total.0 - applied.0, total.1 - applied.1);
                     if dx_m.abs() > 1e-9 || dy_m.abs() > 1e-9 {
@@ -311,26 +363,74 @@ fn handle_drag(
         if state.is_moving() {
             out.drag_end = true;
         }
+        if let Some(Drag::Box { start, now }) = state.drag.take() {
+            let shift = ui.input(|i| i.modifiers.shift);
+            if !shift {
+                state.group.clear();
+            }
+            if start.distance(now) >= select::MIN_BOX_PX {
+                state.group.extend(select::nodes_in_box(project, state.level, &state.view, start, now));
+                out.select = Some(select::selection_of(&state.group));
+            }
+        }
         state.drag = None;
+        state.snapped = None;
     }
 }
 
-fn handle_clicks(resp: &egui::Response, project: &Project, state: &mut CanvasState, out: &mut Intents) {
+fn handle_clicks(
+    ui: &Ui,
+    resp: &egui::Response,
+    project: &Project,
+    selection: Selection,
+    state: &mut CanvasState,
+    out: &mut Intents,
+) {
     if resp.secondary_clicked() {
         state.cancel();
         return;
     }
+    // While a run is drawn its next point goes through the drawing aids.
+    if !state.is_moving() {
+        state.snapped = if state.tool == Tool::Run { draft_snap(ui, project, state) } else { None };
+    }
     let Some(pos) = resp.interact_pointer_pos() else { return };
     let at_plan = state.view.plan_from_screen(pos);
-    let hit = hit::hit_test(project, state.level, &state.view, pos);
+    let mut hit = hit::hit_test(project, state.level, &state.view, pos);
+    let mut at = state.view.snap(at_plan);
+    if state.tool == Tool::Run
+        && let Some((s, _)) = &state.snapped
+    {
+        let targets = snap::Targets::of_level(project, state.level, &BTreeSet::new());
+        at = s.at;
+        hit = targets.hit(s).or(hit.filter(|h| matches!(h, hit::Hit::Node(_))));
+    }
     if resp.double_clicked() && state.tool == Tool::Run && hit.is_none() {
-        tools::run_double_click(project, state.level, state.view.snap(at_plan), &mut state.draft, out);
+        tools::run_double_click(project, state.level, at, &mut state.draft, out);
         return;
     }
     if resp.clicked() {
-        let at = state.view.snap(at_plan);
+        if state.tool == Tool::Select {
+            if ui.input(|i| i.modifiers.shift) {
+                select::toggle(&mut state.group, selection, hit);
+                out.select = Some(select::selection_of(&state.group));
+                return;
+            }
+            state.group.clear();
+        }
         tools::click(state.tool, project, state.level, at, hit, &mut state.draft, state.header_outlets, out);
     }
+}
+
+/// Where the next point of the run being drawn lands (drawing aids; Alt
+/// draws free angles).
+fn draft_snap(ui: &Ui, project: &Project, state: &CanvasState) -> Option<(snap::Snapped, Option<PlanPoint>)> {
+    let d = state.draft.as_ref()?;
+    let p = state.pointer_plan?;
+    let anchor = d.vertices.last().copied().or_else(|| project.node(d.start).map(|n| n.pos));
+    let targets = snap::Targets::of_level(project, state.level, &BTreeSet::new());
+    let free = ui.input(|i| i.modifiers.alt);
+    Some((targets.snap(p, anchor, &state.view, free), anchor))
 }
 
 fn draw_draft(painter: &egui::Painter, project: &Project, state: &CanvasState) {
@@ -338,7 +438,9 @@ fn draw_draft(painter: &egui::Painter, project: &Project, state: &CanvasState) {
     let Some(start) = project.node(d.start) else { return };
     let mut pts: Vec<Pos2> =
         std::iter::once(start.pos).chain(d.vertices.iter().copied()).map(|p| state.view.screen_from_plan(p)).collect();
-    if let Some(p) = state.pointer_plan {
+    if let Some((s, _)) = &state.snapped {
+        pts.push(state.view.screen_from_plan(s.at));
+    } else if let Some(p) = state.pointer_plan {
         pts.push(state.view.screen_from_plan(state.view.snap(p)));
     }
     painter.extend(Shape::dashed_line(&pts, Stroke::new(2.5, theme::HOVER), 8.0, 4.0));

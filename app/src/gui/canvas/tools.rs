@@ -16,7 +16,7 @@ use crate::gui::intents::{Intents, Selection};
 /// A canvas tool.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Tool {
-    /// Select, move (Shift: with the downstream branch), pan.
+    /// Select (a box, Shift+click), move (Shift: with the downstream branch), pan.
     #[default]
     Select,
     /// Draw a run from node to node with bend points.
@@ -94,10 +94,13 @@ impl Tool {
     pub fn tooltip(self) -> &'static str {
         match self {
             Self::Select => {
-                "Click to select; drag a node to move it, Shift+drag to move its whole branch; drag empty space to pan; scroll to zoom"
+                "Click to select, Shift+click to add or remove; drag a box on empty space to select many; drag a node \
+                 (or the selection) to move it, Shift+drag to move its whole branch; moves stay square to where they \
+                 started (hold Alt for free angles); right- or middle-drag to pan; scroll to zoom"
             }
             Self::Run => {
-                "Click a node to start, click bend points, finish on a node (or double-click empty space for a new junction); Esc cancels"
+                "Click a node to start, click bend points, finish on a node (or double-click empty space for a new \
+                 junction); lines snap square and onto nodes and runs (hold Alt for free angles); Esc cancels"
             }
             Self::Emitter => "Click to place a radiator; click a junction, header or run to place it connected",
             Self::Header => "Click to place a header; click a run to turn a point of it into a header",

@@ -1,0 +1,75 @@
+//! Where a drag's time goes: generate a building, solve it once, then move
+//! one emitter back and forth and print the median of each stage of the
+//! re-solve (derive, design, operate, the hydraulic solve inside operate)
+//! and of the whole edit → results cycle, for the cold path
+//! (`solve_project` with the kept workspace) and the incremental path
+//! (`solve_edit` with the edit's hint).
+//!
+//! Run: `cargo run --release -p flowrise-core --example drag_timing -- [floors] [per_floor] [repeat]`
+//! (defaults 20 × 500 = 10,000 emitters, 15 repeats). A profiling aid, not
+//! a benchmark: the recorded figures come from criterion
+//! (`cargo bench -p flowrise-core --bench pipeline`).
+
+#![allow(clippy::expect_used, clippy::unwrap_used, clippy::print_stdout)] // reason: a developer's example, not product code
+
+use std::time::Instant;
+
+use flowrise_core::design::{EditHint, SolveOptions, Workspace, solve_edit, solve_project};
+use flowrise_core::generate::{BuildingSpec, generate_building};
+use flowrise_core::project::{Edit, NodeKind};
+
+/// The allocator the flowrise binary uses (app/src/main.rs).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
+fn median(mut v: Vec<f64>) -> f64 {
+    v.sort_by(f64::total_cmp);
+    v[v.len() / 2]
+}
+
+fn main() {
+    let args: Vec<u32> = std::env::args().skip(1).filter_map(|a| a.parse().ok()).collect();
+    let floors = args.first().copied().unwrap_or(20);
+    let per_floor = args.get(1).copied().unwrap_or(500);
+    let repeat = args.get(2).copied().unwrap_or(15) as usize;
+    let mut p = generate_building(&BuildingSpec::new(floors, per_floor)).expect("generate");
+    let opts = SolveOptions::default();
+    let mover = p.nodes().find(|x| matches!(x.kind, NodeKind::Emitter(_))).map(|x| x.id).expect("an emitter");
+    for incremental in [false, true] {
+        let mut ws = Workspace::default();
+        let t = Instant::now();
+        let first = solve_project(&p, &opts, &mut ws);
+        println!(
+            "{} emitters, cold solve {:.1} ms ({} findings)",
+            floors * per_floor,
+            t.elapsed().as_secs_f64() * 1e3,
+            first.findings.len()
+        );
+        let (mut total, mut derive, mut design, mut operate, mut solver) = (vec![], vec![], vec![], vec![], vec![]);
+        for i in 0..repeat {
+            let dx = if i % 2 == 0 { 0.05 } else { -0.05 };
+            let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
+            let t = Instant::now();
+            let hint = EditHint::for_edit(&p, &edit);
+            p.apply(edit).expect("move");
+            let s = match (&hint, incremental) {
+                (Some(h), true) => solve_edit(&p, &opts, &mut ws, h),
+                _ => solve_project(&p, &opts, &mut ws),
+            };
+            total.push(t.elapsed().as_secs_f64() * 1e3);
+            derive.push(s.timings.derive_ms);
+            design.push(s.timings.design_ms);
+            operate.push(s.timings.operate_ms);
+            solver.push(s.timings.solver_ms);
+        }
+        println!(
+            "  {}: edit -> results {:.2} ms; derive {:.2}, design {:.2}, operate {:.2} (solver {:.2}) ms",
+            if incremental { "incremental (solve_edit)" } else { "full re-solve (solve_project)" },
+            median(total),
+            median(derive),
+            median(design),
+            median(operate),
+            median(solver)
+        );
+    }
+}
