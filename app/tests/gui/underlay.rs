@@ -176,3 +176,22 @@ fn a_project_whose_underlay_file_is_missing_opens_with_a_warning() {
     assert_eq!(h.state().project().levels[0].underlay.as_ref().unwrap().path, "plans/moved away.png", "kept");
     assert!(!h.state().solution().emitters.is_empty(), "the network solves all the same");
 }
+
+#[test]
+fn drawing_a_run_snaps_to_a_line_end_of_the_plan() {
+    use flowrise::gui::canvas::snap::SnapKind;
+    let dir = temp_dir("snap");
+    // A drawing whose first wall starts off the grid, away from the network.
+    invented::plan_dxf(&dir.join("gf.dxf"), [0.37, 0.83], [8.0, 8.0], 4.0, 0).unwrap();
+    let mut h = app_with(&dir, Some(Underlay::new("gf.dxf", 0.001)));
+    h.key_press(Key::R);
+    h.run();
+    click_plan(&mut h, PlanPoint::new(1.0, 1.0));
+    assert!(h.state().canvas().draft.is_some(), "a run started at the heat source");
+    let near = h.state().screen_from_plan(PlanPoint::new(0.40, 0.86));
+    h.hover_at(near);
+    h.run();
+    let (s, _) = h.state().canvas().snapped.unwrap();
+    assert_eq!(s.kind, SnapKind::PlanEnd, "{s:?}");
+    assert!(s.at.distance_m(PlanPoint::new(0.37, 0.83)) < 1e-9, "{s:?}");
+}

@@ -71,6 +71,9 @@ pub struct CanvasState {
     pub group: BTreeSet<NodeId>,
     /// Where the point being drawn or dragged snapped, and its anchor.
     pub snapped: Option<(snap::Snapped, Option<PlanPoint>)>,
+    /// Line ends of the shown level's plan underlay while drawing or
+    /// dragging (snap targets; empty otherwise).
+    pub plan_ends: Vec<PlanPoint>,
 }
 
 impl Default for CanvasState {
@@ -88,6 +91,7 @@ impl Default for CanvasState {
             riser: None,
             group: BTreeSet::new(),
             snapped: None,
+            plan_ends: Vec::new(),
         }
     }
 }
@@ -225,6 +229,11 @@ pub fn show(
         }
     }
 
+    state.plan_ends = if state.draft.is_some() || state.tool == Tool::Run || resp.dragged() {
+        underlay.line_ends(project, state.level)
+    } else {
+        Vec::new()
+    };
     handle_drag(ui, &resp, project, sol, state, out);
     if !underlay.canvas_click(&resp, state, out) {
         handle_clicks(ui, &resp, project, selection, state, out);
@@ -339,7 +348,8 @@ fn handle_drag(
             Some(Drag::Move { ids, grabbed_start, pointer_start, applied }) => {
                 if let Some(p) = resp.interact_pointer_pos().map(|q| state.view.plan_from_screen(q)) {
                     let moving: BTreeSet<NodeId> = ids.iter().copied().collect();
-                    let targets = snap::Targets::of_level(project, state.level, &moving);
+                    let mut targets = snap::Targets::of_level(project, state.level, &moving);
+                    targets.plan_ends.clone_from(&state.plan_ends);
                     let free = ui.input(|i| i.modifiers.alt);
                     let candidate = PlanPoint::new(
                         grabbed_start.x_m + p.x_m - pointer_start.x_m,
@@ -428,7 +438,8 @@ fn draft_snap(ui: &Ui, project: &Project, state: &CanvasState) -> Option<(snap::
     let d = state.draft.as_ref()?;
     let p = state.pointer_plan?;
     let anchor = d.vertices.last().copied().or_else(|| project.node(d.start).map(|n| n.pos));
-    let targets = snap::Targets::of_level(project, state.level, &BTreeSet::new());
+    let mut targets = snap::Targets::of_level(project, state.level, &BTreeSet::new());
+    targets.plan_ends.clone_from(&state.plan_ends);
     let free = ui.input(|i| i.modifiers.alt);
     Some((targets.snap(p, anchor, &state.view, free), anchor))
 }

@@ -48,6 +48,8 @@ pub enum SnapKind {
     Horizontal,
     /// On the vertical line through the anchor.
     Vertical,
+    /// On the end of a line of the level's plan underlay (a DXF drawing).
+    PlanEnd,
     /// On the grid.
     Grid,
     /// Where the pointer is (no grid, nothing near).
@@ -64,6 +66,7 @@ impl SnapKind {
             Self::Segment { orthogonal: true, .. } => "on a run, square to the last point",
             Self::Horizontal => "horizontal",
             Self::Vertical => "vertical",
+            Self::PlanEnd => "on a line end of the plan",
             Self::Grid => "on the grid",
             Self::Free => "free",
         }
@@ -204,6 +207,8 @@ pub struct Targets {
     pub segments: Vec<(PlanPoint, PlanPoint)>,
     /// The run of each segment.
     pub runs: Vec<RunId>,
+    /// Line ends of the level's plan underlay (after nodes and runs).
+    pub plan_ends: Vec<PlanPoint>,
 }
 
 impl Targets {
@@ -239,7 +244,7 @@ impl Targets {
         match s.kind {
             SnapKind::Point(i) => self.nodes.get(i).map(|&id| Hit::Node(id)),
             SnapKind::Segment { index, .. } => self.runs.get(index).map(|&id| Hit::Run(id, s.at)),
-            SnapKind::Horizontal | SnapKind::Vertical | SnapKind::Grid | SnapKind::Free => None,
+            SnapKind::Horizontal | SnapKind::Vertical | SnapKind::PlanEnd | SnapKind::Grid | SnapKind::Free => None,
         }
     }
 
@@ -252,7 +257,7 @@ impl Targets {
         view: &super::View,
         free_angles: bool,
     ) -> Snapped {
-        snap(&SnapInput {
+        let s = snap(&SnapInput {
             candidate,
             anchor,
             points: &self.points,
@@ -260,7 +265,20 @@ impl Targets {
             radius_m: SNAP_RADIUS_PX / f64::from(view.px_per_m),
             grid_m: Some(view.grid_step_m()),
             free_angles,
-        })
+        });
+        // Nothing of the network near: a line end of the plan underlay.
+        if matches!(s.kind, SnapKind::Horizontal | SnapKind::Vertical | SnapKind::Grid | SnapKind::Free) {
+            let r = SNAP_RADIUS_PX / f64::from(view.px_per_m);
+            if let Some(&at) = self
+                .plan_ends
+                .iter()
+                .filter(|e| e.distance_m(candidate) <= r)
+                .min_by(|a, b| a.distance_m(candidate).total_cmp(&b.distance_m(candidate)))
+            {
+                return Snapped { at, kind: SnapKind::PlanEnd };
+            }
+        }
+        s
     }
 }
 
@@ -289,6 +307,10 @@ pub fn draw_indicator(painter: &egui::Painter, view: &super::View, s: &Snapped, 
         }
         SnapKind::Horizontal | SnapKind::Vertical => {
             painter.circle_stroke(q, 5.0, stroke);
+        }
+        SnapKind::PlanEnd => {
+            painter.rect_stroke(egui::Rect::from_center_size(q, vec2(9.0, 9.0)), 0, stroke, egui::StrokeKind::Middle);
+            painter.circle_stroke(q, 2.0, stroke);
         }
         SnapKind::Grid | SnapKind::Free => return,
     }
