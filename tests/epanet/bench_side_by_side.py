@@ -45,7 +45,7 @@ generated project (load the RON, derive, design, operate, stream the JSON
 to a file) and (b) a fresh Python process (epanet_fresh.py) that loads the
 EPANET library with ctypes, opens the exported .inp, sets the accuracy,
 solves and reads every link flow. Wall time per process and peak RSS
-(os.wait4 rusage of that child) are medians / maxima; the bare interpreter
+(GNU time's %M around each child) are medians / maxima; the bare interpreter
 start (`python -c "import ctypes"`) is printed as the EPANET process's
 floor. The flowrise process's own operate stage (`timings.operate_ms` of its
 JSON) is compared with EPANET's cold run.
@@ -119,14 +119,23 @@ def epanet_times(inp, repeat, accuracy):
 
 
 def run_child(cmd, stdout):
-    """Run `cmd` as a fresh process; (wall ms, peak RSS MB, exit status),
-    the peak from this child's own rusage (os.wait4)."""
+    """Run `cmd` as a fresh process; (wall ms, peak RSS MB, exit status).
+    The peak comes from GNU time (`/usr/bin/time -f %M`) wrapped around the
+    command: the rusage this script could read itself (os.wait4) carries
+    the peak of the Python process it was forked from on Linux, so it
+    reads the same for every child. Wall time is taken here (the wrapper
+    adds about a millisecond)."""
+    rss_file = Path(tempfile.gettempdir()) / f"side_by_side_rss_{os.getpid()}.txt"
+    wrapped = ["/usr/bin/time", "-f", "%M", "-o", str(rss_file), *cmd] if os.path.exists("/usr/bin/time") else cmd
     t0 = time.perf_counter()
-    child = subprocess.Popen(cmd, stdout=stdout, stderr=subprocess.DEVNULL)
-    _, status, usage = os.wait4(child.pid, 0)
+    child = subprocess.Popen(wrapped, stdout=stdout, stderr=subprocess.DEVNULL)
+    child.wait()
     wall = (time.perf_counter() - t0) * 1e3
-    child.returncode = os.waitstatus_to_exitcode(status)
-    return wall, usage.ru_maxrss / 1024.0, child.returncode
+    try:
+        rss_kb = float(rss_file.read_text().strip().splitlines()[-1])
+    except (OSError, ValueError, IndexError):
+        rss_kb = float("nan")
+    return wall, rss_kb / 1024.0, child.returncode
 
 
 def fresh_processes(flowrise, ron, inp, work, repeat, accuracy):
