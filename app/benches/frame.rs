@@ -85,7 +85,7 @@ fn underlay_frames(c: &mut Criterion, ctx: &egui::Context, big: &Project) {
     let origin = [lo[0] - 5.0, lo[1] - 5.0];
     let png = dir.join("plan.png");
     let dxf = dir.join("plan.dxf");
-    let Ok(png_bytes) = underlay::invented::plan_png(&png, 3000, 2000, 60, 0.16, 7) else { return };
+    let Ok(png_bytes) = underlay::invented::plan_png(&png, 3000, 2000, 60, 0.035, 7) else { return };
     // About 2,100 rooms of 11 entities (~2.4 kB of DXF each): ~5 MB.
     let room_m = (size[0] * size[1] / 2100.0).sqrt().clamp(1.0, 10.0);
     let Ok(dxf_bytes) = underlay::invented::plan_dxf(&dxf, origin, size, room_m, 3) else { return };

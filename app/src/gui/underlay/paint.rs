@@ -20,6 +20,10 @@ const GRID: usize = 32;
 /// Ink of a drawing's lines and texts (before the underlay's opacity).
 const INK: Color32 = Color32::from_rgb(0x4a, 0x52, 0x5e);
 
+/// Shortest piece of a drawing's line drawn on its own, screen points
+/// (|dx| + |dy|); shorter consecutive pieces are joined.
+const MIN_STEP_PX: f32 = 2.0;
+
 /// Texts drawn at most per frame (the rest wait for a closer zoom).
 const MAX_TEXTS: usize = 600;
 
@@ -203,28 +207,38 @@ fn line_mesh(g: &Geometry, clip: Rect, o: Pos2, s: f32, view: &View, colour: Col
     let vmax = [(hi.x_m - g.anchor.x_m) as f32, (hi.y_m - g.anchor.y_m) as f32];
     let mut mesh = Mesh::default();
     let hw = 0.5_f32;
+    let mut quad = |pa: Pos2, pb: Pos2| {
+        let d = pb - pa;
+        let n = vec2(-d.y, d.x) * (hw / d.length().max(1e-6));
+        let i = mesh.vertices.len() as u32;
+        mesh.colored_vertex(pa + n, colour);
+        mesh.colored_vertex(pa - n, colour);
+        mesh.colored_vertex(pb + n, colour);
+        mesh.colored_vertex(pb - n, colour);
+        mesh.add_triangle(i, i + 1, i + 2);
+        mesh.add_triangle(i + 1, i + 2, i + 3);
+    };
     for c in &g.cells {
         if c.max[0] < vmin[0] || c.min[0] > vmax[0] || c.max[1] < vmin[1] || c.min[1] > vmax[1] {
             continue;
         }
-        mesh.reserve_triangles(c.segs.len() * 2);
-        mesh.reserve_vertices(c.segs.len() * 4);
+        // Consecutive segments of one polyline shorter than MIN_STEP_PX
+        // are drawn as one chord (an arc seen from afar needs a few).
+        let mut from: Option<(Pos2, [f32; 2])> = None;
         for [a, b] in &c.segs {
-            let pa = pos2(o.x + a[0] * s, o.y - a[1] * s);
             let pb = pos2(o.x + b[0] * s, o.y - b[1] * s);
-            let d = pb - pa;
-            let len = d.x.abs() + d.y.abs();
-            if len < 0.6 {
+            let start = match from {
+                // The same point of the polyline: the same bits.
+                Some((p, end)) if end[0].to_bits() == a[0].to_bits() && end[1].to_bits() == a[1].to_bits() => p,
+                _ => pos2(o.x + a[0] * s, o.y - a[1] * s),
+            };
+            let d = pb - start;
+            if d.x.abs() + d.y.abs() < MIN_STEP_PX {
+                from = Some((start, *b));
                 continue;
             }
-            let n = vec2(-d.y, d.x) * (hw / d.length());
-            let i = mesh.vertices.len() as u32;
-            mesh.colored_vertex(pa + n, colour);
-            mesh.colored_vertex(pa - n, colour);
-            mesh.colored_vertex(pb + n, colour);
-            mesh.colored_vertex(pb - n, colour);
-            mesh.add_triangle(i, i + 1, i + 2);
-            mesh.add_triangle(i + 1, i + 2, i + 3);
+            quad(start, pb);
+            from = Some((pb, *b));
         }
     }
     mesh
