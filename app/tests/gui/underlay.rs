@@ -195,3 +195,69 @@ fn drawing_a_run_snaps_to_a_line_end_of_the_plan() {
     assert_eq!(s.kind, SnapKind::PlanEnd, "{s:?}");
     assert!(s.at.distance_m(PlanPoint::new(0.37, 0.83)) < 1e-9, "{s:?}");
 }
+
+#[test]
+fn a_later_page_of_a_pdf_is_chosen_in_the_panel_and_saved() {
+    let dir = temp_dir("pages");
+    std::fs::write(dir.join("set.pdf"), invented::two_page_pdf()).unwrap();
+    let mut h = app_with(&dir, None);
+    import(&mut h, dir.join("set.pdf"));
+    assert_eq!(h.state().project().levels[0].underlay.as_ref().unwrap().page, 1);
+    assert!(h.query_by_label_contains("PDF page 1 of 2, 400 × 300 pt").is_some(), "the panel names the page");
+    assert!(h.query_by_label("Page 1 of 2").is_some());
+    h.get_by_label("Next page").click();
+    h.run();
+    h.run();
+    assert_eq!(h.state().project().levels[0].underlay.as_ref().unwrap().page, 2);
+    assert!(h.query_by_label_contains("PDF page 2 of 2, 600 × 400 pt").is_some(), "page 2 is read and shown");
+    // Saved with the page; the report reads the same page.
+    assert!(h.state_mut().save_to(&dir.join("job.ron")));
+    let saved = Project::load(&dir.join("job.ron")).unwrap();
+    assert_eq!(saved.levels[0].underlay.as_ref().unwrap().page, 2);
+    let report = flowrise_core::report::svg::PlanUnderlays::read(&saved, Some(&dir));
+    let got = report.levels.values().next().unwrap().as_ref().unwrap();
+    assert_eq!((got.page, got.pages), (2, 2));
+    // One undo goes back to page 1.
+    h.state_mut().undo();
+    h.run();
+    assert_eq!(h.state().project().levels[0].underlay.as_ref().unwrap().page, 1);
+}
+
+#[test]
+fn the_plan_moves_by_dragging_on_the_canvas_in_one_undo_step_and_not_when_locked() {
+    let dir = temp_dir("move");
+    invented::plan_png(&dir.join("gf.png"), 400, 300, 50, 0.0, 1).unwrap();
+    let mut h = app_with(&dir, Some(Underlay::new("gf.png", 0.05)));
+    h.get_by_label(Action::PlanUnderlay.label()).click();
+    h.run();
+    h.get_by_label("Move by dragging on the plan").click();
+    h.run();
+    let before = h.state().project().clone();
+    let view = h.state().canvas().view;
+    // Start the drag on a node: the plan moves, the network stays.
+    let node = before.nodes().find(|n| n.level == before.levels[0].id).unwrap();
+    let from = h.state().screen_from_plan(node.pos);
+    drag_screen(&mut h, from, Vec2::new(150.0, -60.0), false);
+    let after = h.state().project().clone();
+    let (u0, u1) = (before.levels[0].underlay.as_ref().unwrap(), after.levels[0].underlay.as_ref().unwrap());
+    let want = view.plan_from_screen(from + Vec2::new(150.0, -60.0));
+    let got = view.plan_from_screen(from);
+    let (dx, dy) = (u1.origin.x_m - u0.origin.x_m, u1.origin.y_m - u0.origin.y_m);
+    assert!((dx - (want.x_m - got.x_m)).abs() < 1e-6 && (dy - (want.y_m - got.y_m)).abs() < 1e-6, "{dx} {dy}");
+    assert!(dx > 0.0 && dy > 0.0, "right and up on the plan");
+    assert_eq!(after.node(node.id).unwrap().pos, node.pos, "the network did not move");
+    assert_eq!(after.nodes().count(), before.nodes().count());
+    h.state_mut().undo();
+    h.run();
+    assert_eq!(h.state().project(), &before, "one undo step");
+    // Locked: the toggle is off and a drag does not move the plan.
+    h.get_by_label("Lock placement").click();
+    h.run();
+    let locked = h.state().project().clone();
+    assert!(!h.state_mut().underlays_mut().moving(locked.levels[0].id));
+    drag_screen(&mut h, view.rect.left_bottom() + Vec2::new(200.0, -200.0), Vec2::new(80.0, 0.0), false);
+    assert_eq!(
+        h.state().project().levels[0].underlay.as_ref().unwrap().origin,
+        locked.levels[0].underlay.as_ref().unwrap().origin
+    );
+}

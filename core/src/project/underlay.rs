@@ -21,6 +21,15 @@ fn default_opacity() -> f64 {
     0.5
 }
 
+fn first_page() -> u32 {
+    1
+}
+
+#[allow(clippy::trivially_copy_pass_by_ref)] // serde's skip_serializing_if passes a reference
+fn is_first_page(p: &u32) -> bool {
+    *p == 1
+}
+
 /// A plan drawing shown under a level's network.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -28,6 +37,10 @@ pub struct Underlay {
     /// The file, relative to the project file's folder with `/` between
     /// folders (absolute while the project has no file of its own).
     pub path: String,
+    /// Page of a PDF shown, counted from 1 (1 for other files; written to
+    /// the file only when it is not 1).
+    #[serde(default = "first_page", skip_serializing_if = "is_first_page")]
+    pub page: u32,
     /// Metres per source unit: an image pixel (of a PDF page as rendered),
     /// a DXF drawing unit.
     pub m_per_unit: f64,
@@ -54,6 +67,7 @@ impl Underlay {
     pub fn new(path: impl Into<String>, m_per_unit: f64) -> Self {
         Self {
             path: path.into(),
+            page: 1,
             m_per_unit,
             origin: PlanPoint::new(0.0, 0.0),
             rotation_deg: 0.0,
@@ -124,6 +138,9 @@ impl Underlay {
         }
         if let Some((_, c)) = self.path.chars().enumerate().find(|(_, c)| c.is_control()) {
             out.push(("path", format!("the file name holds a control character ({c:?}) — choose the file again")));
+        }
+        if self.page == 0 {
+            out.push(("page", "page 0 — pages are counted from 1".to_owned()));
         }
         for (field, limit, v) in [
             ("m_per_unit", limits::UNDERLAY_M_PER_UNIT, self.m_per_unit),

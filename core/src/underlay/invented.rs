@@ -134,21 +134,46 @@ pub fn plan_dxf(path: &Path, origin_m: [f64; 2], size_m: [f64; 2], room_m: f64, 
 }
 
 /// A one-page PDF (400 × 300 pt) with a blue rectangle filled from
-/// (100, 100) to (300, 250) pt, written by hand with a correct xref table
-/// (ISO 32000-1 §7.5); `encrypt` adds a standard security handler
-/// dictionary (§7.6.3) whose password is not the empty one.
+/// (100, 100) to (300, 250) pt; `encrypt` adds a standard security handler
+/// dictionary (ISO 32000-1 §7.6.3) whose password is not the empty one.
 #[must_use]
 pub fn one_page_pdf(encrypt: bool) -> Vec<u8> {
-    let content = b"0 0 1 rg 100 100 200 150 re f\n";
+    pdf_with_pages(&[([400, 300], b"0 0 1 rg 100 100 200 150 re f\n")], encrypt)
+}
+
+/// A two-page PDF: page 1 as [`one_page_pdf`], page 2 600 × 400 pt with a
+/// red rectangle filled from (50, 50) to (150, 100) pt.
+#[must_use]
+pub fn two_page_pdf() -> Vec<u8> {
+    pdf_with_pages(
+        &[([400, 300], b"0 0 1 rg 100 100 200 150 re f\n"), ([600, 400], b"1 0 0 rg 50 50 100 50 re f\n")],
+        false,
+    )
+}
+
+/// A PDF of the given pages (media box size in pt, content stream), written
+/// by hand with a correct xref table (ISO 32000-1 §7.5).
+fn pdf_with_pages(pages: &[([u32; 2], &[u8])], encrypt: bool) -> Vec<u8> {
+    // Objects: 1 catalog, 2 page tree, then per page its page and content.
+    let kids: Vec<String> = (0..pages.len()).map(|i| format!("{} 0 R", 3 + 2 * i)).collect();
     let mut objs: Vec<Vec<u8>> = vec![
         b"<< /Type /Catalog /Pages 2 0 R >>".to_vec(),
-        b"<< /Type /Pages /Kids [3 0 R] /Count 1 >>".to_vec(),
-        b"<< /Type /Page /Parent 2 0 R /MediaBox [0 0 400 300] /Contents 4 0 R /Resources << >> >>".to_vec(),
+        format!("<< /Type /Pages /Kids [{}] /Count {} >>", kids.join(" "), pages.len()).into_bytes(),
     ];
-    let mut stream = format!("<< /Length {} >>\nstream\n", content.len()).into_bytes();
-    stream.extend_from_slice(content);
-    stream.extend_from_slice(b"endstream");
-    objs.push(stream);
+    for (i, ([w, h], content)) in pages.iter().enumerate() {
+        objs.push(
+            format!(
+                "<< /Type /Page /Parent 2 0 R /MediaBox [0 0 {w} {h}] /Contents {} 0 R /Resources << >> >>",
+                4 + 2 * i
+            )
+            .into_bytes(),
+        );
+        let mut stream = format!("<< /Length {} >>\nstream\n", content.len()).into_bytes();
+        stream.extend_from_slice(content);
+        stream.extend_from_slice(b"endstream");
+        objs.push(stream);
+    }
+    let encrypt_obj = objs.len() + 1;
     if encrypt {
         let o = "AB".repeat(32);
         let u = "CD".repeat(32);
@@ -167,7 +192,8 @@ pub fn one_page_pdf(encrypt: bool) -> Vec<u8> {
     for off in offsets {
         out.extend_from_slice(format!("{off:010} 00000 n \n").as_bytes());
     }
-    let extra = if encrypt { format!(" /Encrypt 5 0 R /ID [<{0}> <{0}>]", "01".repeat(16)) } else { String::new() };
+    let extra =
+        if encrypt { format!(" /Encrypt {encrypt_obj} 0 R /ID [<{0}> <{0}>]", "01".repeat(16)) } else { String::new() };
     out.extend_from_slice(
         format!("trailer\n<< /Size {} /Root 1 0 R{extra} >>\nstartxref\n{xref}\n%%EOF\n", objs.len() + 1).as_bytes(),
     );

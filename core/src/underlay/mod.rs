@@ -1,8 +1,8 @@
-//! Reading plan underlays: an image (PNG, JPEG), the first page of a PDF
+//! Reading plan underlays: an image (PNG, JPEG), one page of a PDF
 //! (rasterised by `hayro`) or a DXF drawing (`dxf`: lines, polylines,
 //! arcs, circles and text as vector geometry).
 //!
-//! [`load`] reads a file into an [`UnderlayContent`] in the source's own
+//! [`load_page`] reads a file into an [`UnderlayContent`] in the source's own
 //! units (y up): image pixels, PDF points (1/72 in), DXF drawing units. It
 //! never panics on a bad file; every refusal is an [`UnderlayError`] that
 //! names the file, what is wrong and what to do. Reading is slow for big
@@ -41,7 +41,7 @@ pub const PDF_RENDER_SIDE_PX: u32 = 3000;
 pub enum SourceKind {
     /// PNG or JPEG image.
     Image,
-    /// First page of a PDF.
+    /// A page of a PDF.
     Pdf,
     /// DXF drawing.
     Dxf,
@@ -174,6 +174,10 @@ pub struct LoadedUnderlay {
     pub path: PathBuf,
     /// Its kind.
     pub kind: SourceKind,
+    /// The page read, counted from 1 (1 for images and drawings).
+    pub page: u32,
+    /// How many pages the file has (1 for images and drawings).
+    pub pages: u32,
     /// Its content.
     pub content: UnderlayContent,
 }
@@ -218,13 +222,23 @@ pub(crate) fn fail(path: &Path, message: impl Into<String>) -> UnderlayError {
     UnderlayError { path: path.display().to_string(), message: message.into() }
 }
 
-/// Read an underlay file.
+/// Read an underlay file (the first page of a PDF).
+///
+/// # Errors
+/// As [`load_page`].
+pub fn load(path: &Path) -> Result<LoadedUnderlay, UnderlayError> {
+    load_page(path, 1)
+}
+
+/// Read an underlay file; `page` (from 1) chooses the page of a PDF and is
+/// ignored for images and drawings.
 ///
 /// # Errors
 /// [`UnderlayError`] naming the file and the fix: unknown kind, missing or
 /// unreadable file, too large, corrupt image, encrypted or broken PDF, a
-/// DXF with too many entities or nothing to draw.
-pub fn load(path: &Path) -> Result<LoadedUnderlay, UnderlayError> {
+/// PDF page that is not there, a DXF with too many entities or nothing to
+/// draw.
+pub fn load_page(path: &Path, page: u32) -> Result<LoadedUnderlay, UnderlayError> {
     let Some(kind) = SourceKind::of(path) else {
         return Err(fail(path, "is not a plan file flowrise reads — choose a PNG, JPEG, PDF or DXF file"));
     };
@@ -242,12 +256,15 @@ pub fn load(path: &Path) -> Result<LoadedUnderlay, UnderlayError> {
             ),
         ));
     }
-    let content = match kind {
-        SourceKind::Image => UnderlayContent::Raster(raster::read_image(path)?),
-        SourceKind::Pdf => UnderlayContent::Raster(raster::read_pdf(path)?),
-        SourceKind::Dxf => UnderlayContent::Vector(dxf_read::read_dxf(path)?),
+    let (content, page, pages) = match kind {
+        SourceKind::Image => (UnderlayContent::Raster(raster::read_image(path)?), 1, 1),
+        SourceKind::Pdf => {
+            let (r, pages) = raster::read_pdf(path, page)?;
+            (UnderlayContent::Raster(r), page, pages)
+        }
+        SourceKind::Dxf => (UnderlayContent::Vector(dxf_read::read_dxf(path)?), 1, 1),
     };
-    Ok(LoadedUnderlay { path: path.to_path_buf(), kind, content })
+    Ok(LoadedUnderlay { path: path.to_path_buf(), kind, page, pages, content })
 }
 
 pub(crate) fn io_fail(path: &Path, e: &std::io::Error) -> UnderlayError {

@@ -67,8 +67,9 @@ pub(super) fn read_image(path: &Path) -> Result<Raster, UnderlayError> {
     Ok(bounded(img, 1.0, MAX_RASTER_SIDE_PX))
 }
 
-/// Render the first page of a PDF file on white.
-pub(super) fn read_pdf(path: &Path) -> Result<Raster, UnderlayError> {
+/// Render page `page` (from 1) of a PDF file on white; with the file's
+/// page count.
+pub(super) fn read_pdf(path: &Path, page: u32) -> Result<(Raster, u32), UnderlayError> {
     use hayro::hayro_syntax::{LoadPdfError, Pdf};
     let bytes = std::fs::read(path).map_err(|e| io_fail(path, &e))?;
     if !bytes.starts_with(b"%PDF-") && !bytes.get(..1024).unwrap_or(&bytes[..]).windows(5).any(|w| w == b"%PDF-") {
@@ -85,15 +86,23 @@ pub(super) fn read_pdf(path: &Path) -> Result<Raster, UnderlayError> {
         ),
         LoadPdfError::Invalid => fail(path, "is damaged: its structure cannot be read — export the plan to PDF again"),
     })?;
-    let Some(page) = pdf.pages().first() else {
+    let pages = pdf.pages();
+    let count = u32::try_from(pages.len()).unwrap_or(u32::MAX);
+    if count == 0 {
         return Err(fail(path, "has no page — export the plan to PDF again"));
+    }
+    let Some(page) = page.checked_sub(1).and_then(|i| pages.get(i as usize)) else {
+        return Err(fail(
+            path,
+            format!(
+                "has {count} page{} and page {page} was asked for — choose a page from 1 to {count}",
+                if count == 1 { "" } else { "s" }
+            ),
+        ));
     };
     let (w_pt, h_pt) = page.render_dimensions();
     if !(w_pt.is_finite() && h_pt.is_finite() && w_pt >= 1.0 && h_pt >= 1.0) {
-        return Err(fail(
-            path,
-            format!("its first page has no usable size ({w_pt} × {h_pt} pt) — export the plan again"),
-        ));
+        return Err(fail(path, format!("the page has no usable size ({w_pt} × {h_pt} pt) — export the plan again")));
     }
     let scale = PDF_RENDER_SIDE_PX as f32 / w_pt.max(h_pt);
     let settings = hayro::PixmapSettings {
@@ -113,18 +122,18 @@ pub(super) fn read_pdf(path: &Path) -> Result<Raster, UnderlayError> {
             &settings,
         )
     }))
-    .map_err(|_| fail(path, "its first page could not be drawn — export the plan to PDF again or as a PNG"))?;
+    .map_err(|_| fail(path, "the page could not be drawn — export the plan to PDF again or as a PNG"))?;
     let (w, h) = (u32::from(rendered.width()), u32::from(rendered.height()));
     if w == 0 || h == 0 {
-        return Err(fail(path, "its first page rendered empty — export the plan again or as a PNG"));
+        return Err(fail(path, "the page rendered empty — export the plan again or as a PNG"));
     }
     // Opaque white background: premultiplied and straight RGBA are the same.
     let rgba = rendered.data_as_u8_slice().to_vec();
     let units_per_px = f64::from(w_pt) / f64::from(w);
     let Some(buf) = image::RgbaImage::from_raw(w, h, rgba) else {
-        return Err(fail(path, "its first page rendered to an unexpected size — export the plan again or as a PNG"));
+        return Err(fail(path, "the page rendered to an unexpected size — export the plan again or as a PNG"));
     };
-    Ok(bounded(image::DynamicImage::ImageRgba8(buf), units_per_px, MAX_RASTER_SIDE_PX))
+    Ok((bounded(image::DynamicImage::ImageRgba8(buf), units_per_px, MAX_RASTER_SIDE_PX), count))
 }
 
 /// A raster as PNG bytes at most `max_side` pixels on its longer side,

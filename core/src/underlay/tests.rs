@@ -143,6 +143,37 @@ fn a_generated_dxf_reads_lines_arcs_circles_and_text_in_its_units() {
 }
 
 #[test]
+fn a_later_pdf_page_is_read_when_asked_for_and_a_missing_one_is_a_clear_message() {
+    let d = dir("pdf-pages");
+    let p = d.join("two pages.pdf");
+    std::fs::write(&p, super::invented::two_page_pdf()).unwrap();
+    let first = load(&p).unwrap();
+    assert_eq!((first.page, first.pages), (1, 2));
+    let second = load_page(&p, 2).unwrap();
+    assert_eq!((second.page, second.pages), (2, 2));
+    let UnderlayContent::Raster(r) = &second.content else { panic!("a picture") };
+    // Page 2 is 600 × 400 pt with a red rectangle from (50, 50) to (150, 100).
+    let [w, h] = r.size_units();
+    assert!((w - 600.0).abs() < 1e-9 && (h - 400.0).abs() < 1e-9, "{w} × {h}");
+    let at_pt = |x: f64, y: f64| {
+        let (px, py) = ((x / r.units_per_px) as u32, ((400.0 - y) / r.units_per_px) as u32);
+        let i = ((py * r.width + px) * 4) as usize;
+        [r.rgba[i], r.rgba[i + 1], r.rgba[i + 2]]
+    };
+    assert_eq!(at_pt(100.0, 75.0), [255, 0, 0], "inside page 2's rectangle");
+    assert_eq!(at_pt(200.0, 175.0), [255, 255, 255], "page 1's rectangle is not on page 2");
+    for missing in [0, 3] {
+        let e = load_page(&p, missing).unwrap_err();
+        assert!(e.message.contains("has 2 pages") && e.message.contains("from 1 to 2"), "{}", e.message);
+    }
+    // An image has one page whatever is asked.
+    let png = d.join("plan.png");
+    write_png(&png);
+    let img = load_page(&png, 3).unwrap();
+    assert_eq!((img.page, img.pages), (1, 1));
+}
+
+#[test]
 fn a_damaged_image_is_a_clear_message() {
     let d = dir("bad-image");
     let p = d.join("plan.png");

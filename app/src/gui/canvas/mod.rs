@@ -234,7 +234,9 @@ pub fn show(
     } else {
         Vec::new()
     };
-    handle_drag(ui, &resp, project, sol, state, out);
+    if !underlay.canvas_drag(ui, &resp, project, state, out) {
+        handle_drag(ui, &resp, project, sol, state, out);
+    }
     if !underlay.canvas_click(&resp, state, out) {
         handle_clicks(ui, &resp, project, selection, state, out);
     }

@@ -1,4 +1,4 @@
-//! Underlay files as read: one entry per file on disk, read on a worker
+//! Underlay files as read: one entry per file on disk (and page of a PDF), read on a worker
 //! thread (a big PDF or DXF takes seconds), with what the window draws
 //! from it cached beside it (the texture of a picture, a drawing's
 //! geometry on the plan).
@@ -52,21 +52,25 @@ impl Entry {
     }
 }
 
-/// Read `path` on a worker thread (or here, when `background` is off).
-pub fn spawn(path: &Path, background: bool) -> State {
+/// A file on disk and the page of it shown (1 unless a later PDF page).
+pub type Key = (PathBuf, u32);
+
+/// Read `path` (its page `page`) on a worker thread (or here, when
+/// `background` is off).
+pub fn spawn(path: &Path, page: u32, background: bool) -> State {
     let (tx, rx) = std::sync::mpsc::channel();
     let p = path.to_path_buf();
     if background {
         let spawned = std::thread::Builder::new().name("underlay-read".into()).spawn(move || {
             // The window may be gone when the file is read: nothing to tell.
-            tx.send(flowrise_core::underlay::load(&p)).ok();
+            tx.send(flowrise_core::underlay::load_page(&p, page)).ok();
         });
         if let Err(e) = spawned {
             return State::Failed(format!("cannot start reading it ({e})"));
         }
         State::Loading(rx)
     } else {
-        match flowrise_core::underlay::load(&p) {
+        match flowrise_core::underlay::load_page(&p, page) {
             Ok(l) => State::Ready(Arc::new(l)),
             Err(e) => State::Failed(e.message),
         }
@@ -84,33 +88,33 @@ pub fn poll(state: &mut State) {
     };
 }
 
-/// The files read, by their path on disk.
+/// The files read, by their path on disk and page.
 #[derive(Debug, Default)]
 pub struct Files {
-    entries: HashMap<PathBuf, Entry>,
+    entries: HashMap<Key, Entry>,
 }
 
 impl Files {
-    /// The entry of `path`, reading the file when it is not known yet.
-    pub fn get(&mut self, path: &Path, background: bool) -> &mut Entry {
-        let e = self.entries.entry(path.to_path_buf()).or_insert_with(|| Entry::new(spawn(path, background)));
+    /// The entry of `key`, reading the file when it is not known yet.
+    pub fn get(&mut self, key: &Key, background: bool) -> &mut Entry {
+        let e = self.entries.entry(key.clone()).or_insert_with(|| Entry::new(spawn(&key.0, key.1, background)));
         poll(&mut e.state);
         e
     }
 
     /// Put a file read elsewhere (an import) in.
-    pub fn insert(&mut self, path: &Path, loaded: Arc<LoadedUnderlay>) {
-        self.entries.insert(path.to_path_buf(), Entry::new(State::Ready(loaded)));
+    pub fn insert(&mut self, key: Key, loaded: Arc<LoadedUnderlay>) {
+        self.entries.insert(key, Entry::new(State::Ready(loaded)));
     }
 
     /// Forget a file (Reload reads it again).
-    pub fn forget(&mut self, path: &Path) {
-        self.entries.remove(path);
+    pub fn forget(&mut self, key: &Key) {
+        self.entries.remove(key);
     }
 
     /// Forget every file not in `keep` (files of another project).
-    pub fn retain(&mut self, keep: &[PathBuf]) {
-        self.entries.retain(|p, _| keep.contains(p));
+    pub fn retain(&mut self, keep: &[Key]) {
+        self.entries.retain(|k, _| keep.contains(k));
     }
 
     /// True while any file is being read.

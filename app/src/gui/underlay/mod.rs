@@ -47,6 +47,15 @@ pub struct Calibration {
     pub error: Option<String>,
 }
 
+/// Moving a level's plan by dragging on the canvas: armed from the panel
+/// until "Done moving"; `grab` while a drag runs.
+#[derive(Debug, Clone, PartialEq)]
+struct Moving {
+    level: LevelId,
+    /// Where the drag was pressed and where the plan's origin was then, m.
+    grab: Option<(PlanPoint, PlanPoint)>,
+}
+
 /// An import being read.
 #[derive(Debug)]
 struct Import {
@@ -64,6 +73,7 @@ pub struct UnderlayUi {
     pub background: bool,
     files: cache::Files,
     calibration: Option<Calibration>,
+    moving: Option<Moving>,
     import: Option<Import>,
     /// Folder of the project file (relative underlay paths start there).
     project_dir: Option<PathBuf>,
@@ -78,6 +88,7 @@ impl Default for UnderlayUi {
             background: true,
             files: cache::Files::default(),
             calibration: None,
+            moving: None,
             import: None,
             project_dir: None,
             snap_cache: Vec::new(),
@@ -98,12 +109,72 @@ impl UnderlayUi {
     /// Start setting the scale of `level`'s underlay by two points.
     pub fn start_calibration(&mut self, level: LevelId) {
         self.calibration = Some(Calibration { level, a: None, b: None, distance: String::new(), error: None });
+        self.moving = None;
+    }
+
+    /// True while dragging on the canvas moves `level`'s plan.
+    #[must_use]
+    pub fn moving(&self, level: LevelId) -> bool {
+        self.moving.as_ref().is_some_and(|m| m.level == level)
+    }
+
+    /// Arm (or, with `false`, end) moving `level`'s plan by dragging on the
+    /// canvas; it ends scaling by two points.
+    pub fn set_moving(&mut self, level: LevelId, on: bool) {
+        self.moving = on.then_some(Moving { level, grab: None });
+        if on {
+            self.calibration = None;
+        }
+    }
+
+    /// A canvas drag while moving the plan is armed: a primary-button drag
+    /// moves the shown level's plan (one undo step per drag); right and
+    /// middle drags still pan. True when the drag was taken.
+    pub fn canvas_drag(
+        &mut self,
+        ui: &egui::Ui,
+        resp: &egui::Response,
+        project: &Project,
+        state: &CanvasState,
+        out: &mut Intents,
+    ) -> bool {
+        let Some(m) = self.moving.as_mut().filter(|m| m.level == state.level) else { return false };
+        let Some(level) = project.levels.iter().find(|l| l.id == state.level) else { return false };
+        let Some(u) = level.underlay.as_ref().filter(|u| !u.locked) else {
+            m.grab = None;
+            return false;
+        };
+        if resp.hovered() {
+            ui.ctx().set_cursor_icon(egui::CursorIcon::Move);
+        }
+        if resp.drag_started_by(egui::PointerButton::Primary) {
+            let press = ui.input(|i| i.pointer.press_origin()).or(resp.interact_pointer_pos());
+            if let Some(p) = press {
+                m.grab = Some((state.view.plan_from_screen(p), u.origin));
+                out.drag_begin = true;
+            }
+        }
+        let Some((press, origin)) = m.grab else { return false };
+        if resp.dragged()
+            && let Some(p) = resp.interact_pointer_pos().map(|q| state.view.plan_from_screen(q))
+        {
+            let to = PlanPoint::new(origin.x_m + p.x_m - press.x_m, origin.y_m + p.y_m - press.y_m);
+            if to != u.origin {
+                let moved = Underlay { origin: to, ..u.clone() };
+                out.edit_during_drag(Edit::SetLevel(Level { underlay: Some(moved), ..level.clone() }));
+            }
+        }
+        if resp.drag_stopped() {
+            m.grab = None;
+            out.drag_end = true;
+        }
+        true
     }
 
     /// Read `path` and make it the underlay of `level` when it can be read
     /// (the project is unchanged when it cannot).
     pub fn start_import(&mut self, level: LevelId, path: PathBuf) {
-        let state = cache::spawn(&path, self.background);
+        let state = cache::spawn(&path, 1, self.background);
         self.import = Some(Import { level, path, state });
     }
 
@@ -113,8 +184,8 @@ impl UnderlayUi {
         self.import.as_ref().map(|i| i.path.as_path())
     }
 
-    fn file_of(&self, u: &Underlay) -> PathBuf {
-        u.resolve(self.project_dir.as_deref())
+    fn file_of(&self, u: &Underlay) -> cache::Key {
+        (u.resolve(self.project_dir.as_deref()), u.page)
     }
 
     /// The file of `level`'s underlay as read, when it has been.
@@ -177,7 +248,7 @@ impl UnderlayUi {
         let Some(level) = project.levels.iter().find(|l| l.id == state.level) else { return };
         let Some(u) = &level.underlay else { return };
         let path = self.file_of(u);
-        let name = path.file_name().map_or_else(|| u.path.clone(), |n| n.to_string_lossy().into_owned());
+        let name = path.0.file_name().map_or_else(|| u.path.clone(), |n| n.to_string_lossy().into_owned());
         let corner = state.view.rect.left_top() + vec2(10.0, 10.0);
         let entry = self.files.get(&path, self.background);
         match &entry.state {
@@ -221,7 +292,7 @@ impl UnderlayUi {
 
     /// Forget files no level of `project` names any more.
     fn tidy(&mut self, project: &Project) {
-        let keep: Vec<PathBuf> =
+        let keep: Vec<cache::Key> =
             project.levels.iter().filter_map(|l| l.underlay.as_ref()).map(|u| self.file_of(u)).collect();
         self.files.retain(&keep);
     }
@@ -341,7 +412,7 @@ impl FlowriseApp {
                 if let Some(old) = &level.underlay {
                     u.opacity = old.opacity;
                 }
-                self.underlay.files.insert(&abs, loaded);
+                self.underlay.files.insert((abs.clone(), loaded.page), loaded);
                 out.edit(Edit::SetLevel(Level { underlay: Some(u), ..level.clone() }));
                 out.status = Some(Status::note(format!(
                     "plan {} under {} — set its scale: Plan underlay, Set scale by two points",

@@ -52,7 +52,10 @@ fn describe(l: &LoadedUnderlay) -> String {
         UnderlayContent::Raster(r) => {
             let [w, h] = r.size_units();
             match l.kind {
-                SourceKind::Pdf => format!("PDF page, {w:.0} × {h:.0} pt, shown at {} × {} px", r.width, r.height),
+                SourceKind::Pdf => format!(
+                    "PDF page {} of {}, {w:.0} × {h:.0} pt, shown at {} × {} px",
+                    l.page, l.pages, r.width, r.height
+                ),
                 _ => format!("image, {w:.0} × {h:.0} px"),
             }
         }
@@ -93,7 +96,7 @@ pub fn window(app: &mut FlowriseApp, ctx: &egui::Context, out: &mut Intents) {
             let Some(u) = level.underlay.clone() else {
                 ui.label(format!(
                     "No plan under {}. Put a floor plan under the level to trace the network over it: \
-                     a PNG or JPEG image, the first page of a PDF, or a DXF drawing.",
+                     a PNG or JPEG image, a page of a PDF, or a DXF drawing.",
                     level.name
                 ));
                 if ui.button("Choose plan file…").clicked() {
@@ -118,9 +121,34 @@ pub fn window(app: &mut FlowriseApp, ctx: &egui::Context, out: &mut Intents) {
                 }
                 cache::State::Ready(l) => {
                     ui.label(RichText::new(describe(l)).weak());
-                    Some(l.kind)
+                    Some((l.kind, l.pages))
                 }
             };
+            // A PDF of several pages: which page lies under the level. A
+            // later page that cannot be shown can go back to the first.
+            if kind.is_none()
+                && u.page > 1
+                && !matches!(entry.state, cache::State::Loading(_))
+                && ui.button("Show page 1 instead").clicked()
+            {
+                push(out, &level, Underlay { page: 1, ..u.clone() }, None);
+            }
+            if let Some((SourceKind::Pdf, n)) = kind.filter(|&(_, n)| n > 1) {
+                ui.horizontal(|ui| {
+                    let mut page = u.page;
+                    if ui.add_enabled(page > 1, egui::Button::new("Previous page")).clicked() {
+                        page -= 1;
+                    }
+                    ui.label(format!("Page {} of {n}", u.page));
+                    if ui.add_enabled(page < n, egui::Button::new("Next page")).clicked() {
+                        page += 1;
+                    }
+                    if page != u.page {
+                        push(out, &level, Underlay { page: page.clamp(1, n), ..u.clone() }, None);
+                    }
+                });
+            }
+            let kind = kind.map(|(k, _)| k);
             ui.horizontal(|ui| {
                 if ui.button("Replace file…").clicked() {
                     choose = true;
@@ -138,7 +166,11 @@ pub fn window(app: &mut FlowriseApp, ctx: &egui::Context, out: &mut Intents) {
             });
             ui.separator();
             let movable = !u.locked;
+            if !movable {
+                app.underlay.set_moving(level.id, false);
+            }
             calibration_ui(app, ui, &level, &u, movable, out);
+            moving_ui(app, ui, &level, movable);
             ui.separator();
             egui::Grid::new("underlay_numbers").num_columns(2).show(ui, |ui| {
                 let unit = kind.map_or("source unit", SourceKind::unit_word);
@@ -205,6 +237,28 @@ pub fn window(app: &mut FlowriseApp, ctx: &egui::Context, out: &mut Intents) {
     if !open {
         app.underlay.open = false;
         app.underlay.calibration = None;
+        app.underlay.set_moving(level_id, false);
+    }
+}
+
+/// Move by dragging on the plan: the toggle and what to do.
+fn moving_ui(app: &mut FlowriseApp, ui: &mut Ui, level: &Level, movable: bool) {
+    let on = app.underlay.moving(level.id);
+    let label = if on { "Done moving" } else { "Move by dragging on the plan" };
+    let r = ui.add_enabled(movable, egui::Button::new(label).selected(on));
+    let r = if movable {
+        r.on_hover_text("While on, dragging anywhere on the plan moves the drawing instead of the network")
+    } else {
+        r.on_disabled_hover_text("The placement is locked — unlock it first")
+    };
+    if r.clicked() {
+        app.underlay.set_moving(level.id, !on);
+    }
+    if on {
+        ui.label(
+            RichText::new("Drag on the plan to move the drawing (right-drag still pans); each drag is one undo step.")
+                .color(theme::ACCENT),
+        );
     }
 }
 

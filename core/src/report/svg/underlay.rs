@@ -30,7 +30,7 @@ impl PlanUnderlays {
         let mut levels = BTreeMap::new();
         for l in &p.levels {
             if let Some(u) = l.underlay.as_ref().filter(|u| !u.hidden) {
-                let got = crate::underlay::load(&u.resolve(project_dir)).map_err(|e| e.message);
+                let got = crate::underlay::load_page(&u.resolve(project_dir), u.page).map_err(|e| e.message);
                 levels.insert(l.id, got);
             }
         }
