@@ -171,7 +171,10 @@ fn drag_frames(c: &mut Criterion, ctx: &egui::Context) {
         });
     });
     g.finish();
-    assert!(app.project().revision > revision, "the drag frames did not move the emitter");
+    // Only when the case ran (a filter or a profiling run may skip it).
+    if step > 0 {
+        assert!(app.project().revision > revision, "the drag frames did not move the emitter");
+    }
     // Which path the window's last drag solve took (design::solve_edit).
     eprintln!("last drag frame's solve: incremental path = {}", app.solution().timings.incremental);
 }

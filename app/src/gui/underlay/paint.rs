@@ -4,8 +4,9 @@
 //! drawing's polylines are turned into plan coordinates once per placement
 //! ([`Geometry`]: segments in f32 relative to an anchor point, sorted into
 //! a grid of cells with bounding boxes); each frame draws the cells the
-//! view overlaps as one mesh of thin quads, mapped to the screen with one
-//! multiply-add per point, skipping segments shorter than a pixel.
+//! view overlaps as one mesh of thin mitred strips (one per polyline),
+//! mapped to the screen with one multiply-add per point, joining pieces
+//! shorter than two pixels.
 
 use egui::{Color32, Mesh, Painter, Pos2, Rect, Shape, TextureOptions, pos2, vec2};
 use flowrise_core::project::{PlanPoint, Underlay};
@@ -199,49 +200,87 @@ fn draw_lines(painter: &Painter, view: &View, g: &mut Geometry, colour: Color32)
     draw_texts(painter, g, clip, o, s, colour);
 }
 
-/// The quads of every segment in view, one pixel wide.
+/// Every polyline in view as a strip one pixel wide: two vertices per
+/// point, mitred at the joints (a polyline of n pieces costs 2(n + 1)
+/// vertices, not 4n as separate quads would; the tessellator copies every
+/// vertex each frame).
 fn line_mesh(g: &Geometry, clip: Rect, o: Pos2, s: f32, view: &View, colour: Color32) -> Mesh {
     let lo = view.plan_from_screen(clip.left_bottom());
     let hi = view.plan_from_screen(clip.right_top());
     let vmin = [(lo.x_m - g.anchor.x_m) as f32, (lo.y_m - g.anchor.y_m) as f32];
     let vmax = [(hi.x_m - g.anchor.x_m) as f32, (hi.y_m - g.anchor.y_m) as f32];
     let mut mesh = Mesh::default();
-    let hw = 0.5_f32;
-    let mut quad = |pa: Pos2, pb: Pos2| {
-        let d = pb - pa;
-        let n = vec2(-d.y, d.x) * (hw / d.length().max(1e-6));
-        let i = mesh.vertices.len() as u32;
-        mesh.colored_vertex(pa + n, colour);
-        mesh.colored_vertex(pa - n, colour);
-        mesh.colored_vertex(pb + n, colour);
-        mesh.colored_vertex(pb - n, colour);
-        mesh.add_triangle(i, i + 1, i + 2);
-        mesh.add_triangle(i + 1, i + 2, i + 3);
-    };
+    let mut pts: Vec<Pos2> = Vec::with_capacity(64);
     for c in &g.cells {
         if c.max[0] < vmin[0] || c.min[0] > vmax[0] || c.max[1] < vmin[1] || c.min[1] > vmax[1] {
             continue;
         }
         // Consecutive segments of one polyline shorter than MIN_STEP_PX
         // are drawn as one chord (an arc seen from afar needs a few).
-        let mut from: Option<(Pos2, [f32; 2])> = None;
+        let mut end: Option<[f32; 2]> = None;
         for [a, b] in &c.segs {
-            let pb = pos2(o.x + b[0] * s, o.y - b[1] * s);
-            let start = match from {
-                // The same point of the polyline: the same bits.
-                Some((p, end)) if end[0].to_bits() == a[0].to_bits() && end[1].to_bits() == a[1].to_bits() => p,
-                _ => pos2(o.x + a[0] * s, o.y - a[1] * s),
-            };
-            let d = pb - start;
-            if d.x.abs() + d.y.abs() < MIN_STEP_PX {
-                from = Some((start, *b));
-                continue;
+            // The same point of the polyline: the same bits.
+            let continues = end.is_some_and(|e| e[0].to_bits() == a[0].to_bits() && e[1].to_bits() == a[1].to_bits());
+            if !continues {
+                strip(&mut mesh, &pts, colour);
+                pts.clear();
+                pts.push(pos2(o.x + a[0] * s, o.y - a[1] * s));
             }
-            quad(start, pb);
-            from = Some((pb, *b));
+            let pb = pos2(o.x + b[0] * s, o.y - b[1] * s);
+            if let Some(&last) = pts.last() {
+                let d = pb - last;
+                if d.x.abs() + d.y.abs() >= MIN_STEP_PX {
+                    pts.push(pb);
+                }
+            }
+            end = Some(*b);
         }
+        strip(&mut mesh, &pts, colour);
+        pts.clear();
     }
     mesh
+}
+
+/// One polyline (screen points) as a strip of half-width 0.5 px; nothing
+/// for fewer than two points.
+fn strip(mesh: &mut Mesh, pts: &[Pos2], colour: Color32) {
+    const HALF_WIDTH: f32 = 0.5;
+    if pts.len() < 2 {
+        return;
+    }
+    let normal = |p: Pos2, q: Pos2| {
+        let d = q - p;
+        vec2(-d.y, d.x) / d.length().max(1e-6)
+    };
+    let first = mesh.vertices.len() as u32;
+    for (i, &p) in pts.iter().enumerate() {
+        let before = (i > 0).then(|| normal(pts[i - 1], p));
+        let after = pts.get(i + 1).map(|&q| normal(p, q));
+        let off = match (before, after) {
+            (Some(n1), Some(n2)) => {
+                // The mitre: along the mean normal, long enough that both
+                // pieces keep their width; at most twice as long (a sharp
+                // turn is thinned rather than spiked).
+                let m = n1 + n2;
+                let len = m.length();
+                if len < 1e-3 {
+                    n2 * HALF_WIDTH
+                } else {
+                    let m = m / len;
+                    m * (HALF_WIDTH / m.dot(n2).max(0.5))
+                }
+            }
+            (Some(n), None) | (None, Some(n)) => n * HALF_WIDTH,
+            (None, None) => vec2(0.0, 0.0),
+        };
+        mesh.colored_vertex(p + off, colour);
+        mesh.colored_vertex(p - off, colour);
+    }
+    for k in 0..(pts.len() as u32 - 1) {
+        let i = first + 2 * k;
+        mesh.add_triangle(i, i + 1, i + 2);
+        mesh.add_triangle(i + 1, i + 2, i + 3);
+    }
 }
 
 fn draw_texts(painter: &Painter, g: &Geometry, clip: Rect, o: Pos2, s: f32, colour: Color32) {
@@ -297,4 +336,30 @@ pub fn missing_mark(painter: &Painter, at: Pos2, name: &str, why: &str) {
     painter.rect_filled(rect, 4, Color32::from_rgb(0xfb, 0xee, 0xe6));
     painter.rect_stroke(rect, 4, egui::Stroke::new(1.5, super::super::theme::ERROR), egui::StrokeKind::Inside);
     painter.galley(at + vec2(8.0, 5.0), galley, super::super::theme::ERROR);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_polyline_is_one_strip_of_two_vertices_per_point_one_pixel_wide() {
+        let mut mesh = Mesh::default();
+        let square = [pos2(0.0, 0.0), pos2(10.0, 0.0), pos2(10.0, 10.0), pos2(0.0, 10.0), pos2(0.0, 0.0)];
+        strip(&mut mesh, &square, Color32::BLACK);
+        assert_eq!(mesh.vertices.len(), 10, "2 per point, not 4 per piece");
+        assert_eq!(mesh.indices.len(), 4 * 6, "two triangles per piece");
+        // Ends offset by half a pixel across the piece; the corners by the
+        // mitre (half a pixel from both pieces' edges: √2/2 from the point).
+        let d = |i: usize, p: Pos2| mesh.vertices[i].pos.distance(p);
+        assert!((d(0, square[0]) - 0.5).abs() < 1e-6 && (d(1, square[0]) - 0.5).abs() < 1e-6);
+        for k in 1..4 {
+            assert!((d(2 * k, square[k]) - 0.5_f32.hypot(0.5)).abs() < 1e-5, "corner {k}");
+        }
+        // A single piece is one quad; one point draws nothing.
+        let mut one = Mesh::default();
+        strip(&mut one, &square[..2], Color32::BLACK);
+        strip(&mut one, &square[..1], Color32::BLACK);
+        assert_eq!((one.vertices.len(), one.indices.len()), (4, 6));
+    }
 }
