@@ -353,8 +353,8 @@ mod tests {
         // mitre (half a pixel from both pieces' edges: √2/2 from the point).
         let d = |i: usize, p: Pos2| mesh.vertices[i].pos.distance(p);
         assert!((d(0, square[0]) - 0.5).abs() < 1e-6 && (d(1, square[0]) - 0.5).abs() < 1e-6);
-        for k in 1..4 {
-            assert!((d(2 * k, square[k]) - 0.5_f32.hypot(0.5)).abs() < 1e-5, "corner {k}");
+        for (k, &corner) in square.iter().enumerate().take(4).skip(1) {
+            assert!((d(2 * k, corner) - 0.5_f32.hypot(0.5)).abs() < 1e-5, "corner {k}");
         }
         // A single piece is one quad; one point draws nothing.
         let mut one = Mesh::default();
