@@ -46,6 +46,7 @@ fn main() {
             first.findings.len()
         );
         let (mut total, mut derive, mut design, mut operate, mut solver) = (vec![], vec![], vec![], vec![], vec![]);
+        let mut runs = vec![];
         for i in 0..repeat {
             let dx = if i % 2 == 0 { 0.05 } else { -0.05 };
             let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
@@ -61,15 +62,17 @@ fn main() {
             design.push(s.timings.design_ms);
             operate.push(s.timings.operate_ms);
             solver.push(s.timings.solver_ms);
+            runs.push(f64::from(s.timings.solver_runs));
         }
         println!(
-            "  {}: edit -> results {:.2} ms; derive {:.2}, design {:.2}, operate {:.2} (solver {:.2}) ms",
+            "  {}: edit -> results {:.2} ms; derive {:.2}, design {:.2}, operate {:.2} (solver {:.2} ms in {} Newton solves)",
             if incremental { "incremental (solve_edit)" } else { "full re-solve (solve_project)" },
             median(total),
             median(derive),
             median(design),
             median(operate),
-            median(solver)
+            median(solver),
+            median(runs)
         );
     }
 }

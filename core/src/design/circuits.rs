@@ -453,6 +453,7 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
         out.timings.design_ms += sol.timings.design_ms;
         out.timings.operate_ms += sol.timings.operate_ms;
         out.timings.solver_ms += sol.timings.solver_ms;
+        out.timings.solver_runs += sol.timings.solver_runs;
         let connection = circuit_of(p, part.root).map(|c| c.connection);
         let name = p.node(part.root).map_or_else(String::new, |n| match &n.kind {
             NodeKind::Source(s) => s.name.clone(),

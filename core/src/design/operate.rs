@@ -80,6 +80,7 @@ impl Derivation<'_> {
         let mut report = match report {
             Ok(r) => {
                 sol.timings.solver_ms = r.timings.total_us / 1000.0;
+                sol.timings.solver_runs = 1;
                 r
             }
             Err(e) => {
@@ -101,6 +102,7 @@ impl Derivation<'_> {
             match solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(&start)) {
                 Ok(r) => {
                     sol.timings.solver_ms += r.timings.total_us / 1000.0;
+                    sol.timings.solver_runs += 1;
                     report = r;
                 }
                 Err(e) => {

@@ -349,6 +349,9 @@ pub struct StageTimings {
     /// The hydraulic solve alone, part of `operate_ms` (what a
     /// general-purpose network solver does: flows and pressures).
     pub solver_ms: f64,
+    /// Newton solves in the operate stage: one, plus one per regulation
+    /// round of the Δp controllers (design/devices.rs).
+    pub solver_runs: u32,
     /// The derivation was the one kept from the previous revision, brought
     /// up to date for the runs the edit touched ([`super::solve_edit`]);
     /// `derive_ms` is then that update.
