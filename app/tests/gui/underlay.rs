@@ -26,6 +26,12 @@ fn app_with(dir: &std::path::Path, underlay: Option<Underlay>) -> Harness<'stati
     harness_app(app)
 }
 
+/// Open the Plan underlay panel from the tool column.
+fn open_panel(h: &mut Harness<'_, FlowriseApp>) {
+    h.get_by_label(Action::PlanUnderlay.label()).click();
+    h.run();
+}
+
 #[test]
 fn the_underlay_scale_set_by_two_clicks_gives_the_typed_distance() {
     let dir = temp_dir("scale");
@@ -33,8 +39,7 @@ fn the_underlay_scale_set_by_two_clicks_gives_the_typed_distance() {
     let mut h = app_with(&dir, Some(Underlay::new("gf.png", 0.05)));
     let level = h.state().canvas().level;
     assert_eq!(level, h.state().project().levels[0].id);
-    h.get_by_label(Action::PlanUnderlay.label()).click();
-    h.run();
+    open_panel(&mut h);
     h.get_by_label("Set scale by two points").click();
     h.run();
     let before = h.state().project().levels[0].underlay.clone().unwrap();
@@ -70,8 +75,7 @@ fn a_typed_distance_that_is_not_a_number_is_refused_beside_the_field() {
     let dir = temp_dir("scale-bad");
     invented::plan_png(&dir.join("gf.png"), 200, 100, 50, 0.0, 1).unwrap();
     let mut h = app_with(&dir, Some(Underlay::new("gf.png", 0.05)));
-    h.get_by_label(Action::PlanUnderlay.label()).click();
-    h.run();
+    open_panel(&mut h);
     h.get_by_label("Set scale by two points").click();
     h.run();
     let view = h.state().canvas().view;
@@ -228,8 +232,7 @@ fn the_plan_moves_by_dragging_on_the_canvas_in_one_undo_step_and_not_when_locked
     let dir = temp_dir("move");
     invented::plan_png(&dir.join("gf.png"), 400, 300, 50, 0.0, 1).unwrap();
     let mut h = app_with(&dir, Some(Underlay::new("gf.png", 0.05)));
-    h.get_by_label(Action::PlanUnderlay.label()).click();
-    h.run();
+    open_panel(&mut h);
     h.get_by_label("Move by dragging on the plan").click();
     h.run();
     let before = h.state().project().clone();

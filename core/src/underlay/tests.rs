@@ -247,33 +247,25 @@ fn the_report_embeds_a_picture_and_draws_a_drawing() {
         &mut crate::design::Workspace::default(),
     );
     let parts = crate::parts::parts_list(&p, &sol, &crate::parts::PartsOptions::default()).unwrap();
-    let u = crate::report::svg::PlanUnderlays::read(&p, Some(&d));
-    let html = crate::report::report_html_with(
-        &p,
-        &sol,
-        &parts,
-        crate::report::Studies { underlays: Some(&u), ..Default::default() },
-    );
+    // The report of `p` with its underlays read from `d`.
+    let report = |p: &Project| {
+        let u = crate::report::svg::PlanUnderlays::read(p, Some(&d));
+        crate::report::report_html_with(
+            p,
+            &sol,
+            &parts,
+            crate::report::Studies { underlays: Some(&u), ..Default::default() },
+        )
+    };
+    let html = report(&p);
     assert!(html.contains("<g class=\"underlay\" data-level=\"L0\""), "underlay group");
     assert!(html.contains("href=\"data:image/png;base64,iVBORw0KGgo"), "a PNG data URI");
     p.levels[0].underlay = Some(Underlay::new("gf.dxf", 0.001));
-    let u = crate::report::svg::PlanUnderlays::read(&p, Some(&d));
-    let html = crate::report::report_html_with(
-        &p,
-        &sol,
-        &parts,
-        crate::report::Studies { underlays: Some(&u), ..Default::default() },
-    );
+    let html = report(&p);
     assert!(html.contains("<path d=\"M"), "drawing as a path");
     // A missing file: the plan is drawn without it and says why.
     p.levels[0].underlay = Some(Underlay::new("moved-away.dxf", 0.001));
-    let u = crate::report::svg::PlanUnderlays::read(&p, Some(&d));
-    let html = crate::report::report_html_with(
-        &p,
-        &sol,
-        &parts,
-        crate::report::Studies { underlays: Some(&u), ..Default::default() },
-    );
+    let html = report(&p);
     assert!(html.contains("plan underlay moved-away.dxf not drawn"), "says the underlay is missing");
     assert!(html.contains("class=\"level-plan\""));
 }
