@@ -14,7 +14,7 @@
 
 use std::time::Instant;
 
-use flowrise_core::design::{EditHint, SolveOptions, Workspace, solve_edit, solve_project};
+use flowrise_core::design::{EditHint, SolveOptions, Workspace, solve_edit, solve_preview, solve_project};
 use flowrise_core::generate::{BuildingSpec, generate_building};
 use flowrise_core::project::{Edit, NodeKind};
 
@@ -35,8 +35,8 @@ fn main() {
     let mut p = generate_building(&BuildingSpec::new(floors, per_floor)).expect("generate");
     let opts = SolveOptions::default();
     let mover = p.nodes().find(|x| matches!(x.kind, NodeKind::Emitter(_))).map(|x| x.id).expect("an emitter");
-    for incremental in [false, true] {
-        let mut ws = Workspace::default();
+    for mode in 0..3 {
+        let mut ws = if mode == 0 { Workspace::default() } else { Workspace::for_edits() };
         let t = Instant::now();
         let first = solve_project(&p, &opts, &mut ws);
         println!(
@@ -46,15 +46,16 @@ fn main() {
             first.findings.len()
         );
         let (mut total, mut derive, mut design, mut operate, mut solver) = (vec![], vec![], vec![], vec![], vec![]);
-        let mut runs = vec![];
+        let (mut runs, mut passes) = (vec![], vec![]);
         for i in 0..repeat {
             let dx = if i % 2 == 0 { 0.05 } else { -0.05 };
             let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
             let t = Instant::now();
             let hint = EditHint::for_edit(&p, &edit);
             p.apply(edit).expect("move");
-            let s = match (&hint, incremental) {
-                (Some(h), true) => solve_edit(&p, &opts, &mut ws, h),
+            let s = match (&hint, mode) {
+                (Some(h), 2) => solve_preview(&p, &opts, &mut ws, h).expect("a preview"),
+                (Some(h), 1) => solve_edit(&p, &opts, &mut ws, h),
                 _ => solve_project(&p, &opts, &mut ws),
             };
             total.push(t.elapsed().as_secs_f64() * 1e3);
@@ -63,14 +64,16 @@ fn main() {
             operate.push(s.timings.operate_ms);
             solver.push(s.timings.solver_ms);
             runs.push(f64::from(s.timings.solver_runs));
+            passes.push(f64::from(s.timings.operate_passes));
         }
         println!(
-            "  {}: edit -> results {:.2} ms; derive {:.2}, design {:.2}, operate {:.2} (solver {:.2} ms in {} Newton solves)",
-            if incremental { "incremental (solve_edit)" } else { "full re-solve (solve_project)" },
+            "  {}: edit -> results {:.2} ms; derive {:.2}, design {:.2}, operate {:.2} in {} passes (last pass: solver {:.2} ms in {} Newton solves)",
+            ["full re-solve (solve_project)", "incremental (solve_edit)", "drag preview (solve_preview)"][mode],
             median(total),
             median(derive),
             median(design),
             median(operate),
+            median(passes),
             median(solver),
             median(runs)
         );

@@ -454,6 +454,7 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
         out.timings.operate_ms += sol.timings.operate_ms;
         out.timings.solver_ms += sol.timings.solver_ms;
         out.timings.solver_runs += sol.timings.solver_runs;
+        out.timings.operate_passes += sol.timings.operate_passes;
         let connection = circuit_of(p, part.root).map(|c| c.connection);
         let name = p.node(part.root).map_or_else(String::new, |n| match &n.kind {
             NodeKind::Source(s) => s.name.clone(),

@@ -176,6 +176,7 @@ impl Derivation<'_> {
                 kind: dev.device.name(),
                 family: String::new(),
                 setting: String::new(),
+                setpoint_kpa: 0.0,
                 kv_m3_h: 0.0,
                 design_flow_l_h: q_m3_h * 1000.0,
                 design_dp_pa: 0.0,
@@ -236,6 +237,7 @@ impl Derivation<'_> {
                     let sp_pa = sp_pa.clamp(lo, hi);
                     self.devices[d].setpoint_pa = sp_pa;
                     result.setting = format!("{:.1} kPa", sp_pa / 1000.0);
+                    result.setpoint_kpa = sp_pa / 1000.0;
                     result.design_dp_pa = dp_dev;
                     result.branch_dp_pa = f.held_dp_pa(sp_pa, kv_design);
                     result.state = DeviceState::Regulating;

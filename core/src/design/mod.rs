@@ -36,6 +36,7 @@ pub mod findings;
 mod freeze;
 mod incremental;
 mod operate;
+mod preview;
 mod results;
 mod size;
 mod state;
@@ -50,6 +51,7 @@ pub use devices::{HELD_DP_TOLERANCE_PA, MAX_REGULATION_ROUNDS};
 pub use findings::{Finding, FindingKind, ItemRef, Severity};
 pub use freeze::{freeze_edit, thaw_edit};
 pub use incremental::EditHint;
+pub use preview::solve_preview;
 pub use results::{
     CircuitResult, DeviceResult, DeviceState, EmitterResult, LinkRole, PipeResult, PumpResult, Side, Solution,
     StageTimings,
@@ -104,6 +106,9 @@ pub struct Workspace {
     retain: bool,
     /// The derivation kept for the next edit.
     retained: Option<Box<incremental::Retained>>,
+    /// What a drag preview starts from ([`solve_preview`]), kept with
+    /// `retain`.
+    preview: Option<Box<preview::PreviewBase>>,
 }
 
 impl Workspace {
@@ -120,6 +125,7 @@ impl Workspace {
 /// becomes a finding naming the item.
 #[must_use]
 pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> Solution {
+    ws.preview = None;
     if circuits::has_circuits(p) {
         ws.retained = None;
         return circuits::solve_composite(p, opts, ws);
@@ -134,6 +140,7 @@ pub fn solve_project(p: &Project, opts: &SolveOptions, ws: &mut Workspace) -> So
 /// otherwise by the full path (see `design/incremental.rs`).
 #[must_use]
 pub fn solve_edit(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint: &EditHint) -> Solution {
+    ws.preview = None;
     let Some(mut kept) = ws.retained.take().filter(|r| r.fits(p, hint)) else {
         return solve_project(p, opts, ws);
     };
@@ -151,7 +158,15 @@ pub fn solve_edit(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint: &E
     sol.timings.incremental = true;
     finish(&mut d, p, &dn, opts, ws, &mut sol, true, Instant::now());
     drop(d);
-    with_findings(sol, findings)
+    kept_for_preview(ws, with_findings(sol, findings))
+}
+
+/// Give the preview base the full solve's solution.
+fn kept_for_preview(ws: &mut Workspace, sol: Solution) -> Solution {
+    if let Some(base) = ws.preview.as_mut() {
+        base.set_solution(&sol);
+    }
+    sol
 }
 
 /// Design and operate one circuit: a project with one source, where the
@@ -172,7 +187,7 @@ fn solve_one(p: &Project, opts: &SolveOptions, ws: &mut Workspace, feeds: BTreeM
     ws.retained = (ws.retain && ok && d.feeds.is_empty()).then(|| Box::new(incremental::Retained::keep(&d, p)));
     finish(&mut d, p, &dn, opts, ws, &mut sol, ok, t1);
     drop(d);
-    with_findings(sol, findings)
+    kept_for_preview(ws, with_findings(sol, findings))
 }
 
 /// The stages after sizing — balance, operate, commission — and the
@@ -213,6 +228,9 @@ fn finish(
             }
         }
         sol.timings.operate_ms = ms_since(t2);
+        if ws.retain && d.feeds.is_empty() && sol.pump.is_some() {
+            ws.preview = Some(Box::new(preview::PreviewBase::keep(d, p, mark)));
+        }
     }
     if !d.pipes_filled {
         let flows = std::mem::take(&mut d.design_flows);

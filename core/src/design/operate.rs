@@ -40,6 +40,7 @@ impl Derivation<'_> {
         if sol.pump.is_none() || sol.emitters.is_empty() {
             return;
         }
+        sol.timings.operate_passes += 1;
         // The design sized and balanced with the conservative friction law;
         // the network operates on the continuous one (smooth for Newton).
         for k in &mut self.net.links {

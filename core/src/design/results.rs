@@ -314,6 +314,10 @@ pub struct DeviceResult {
     pub family: String,
     /// Setting (balancing valve) or set-point in kPa (controller), as text.
     pub setting: String,
+    /// A controller's set-point as the design chose or the project gave
+    /// it, unrounded, kPa (`setting` shows it to 0.1 kPa, the resolution of
+    /// a controller's dial); 0 for a balancing valve.
+    pub setpoint_kpa: f64,
     /// Kv at the setting (valve) or Kvs (controller), m³/h.
     pub kv_m3_h: f64,
     /// Design flow through it, l/h.
@@ -346,12 +350,16 @@ pub struct StageTimings {
     /// Operating solve (the hydraulic solve and the results at the real
     /// flows: emitter outputs, pipe velocities and gradients, findings).
     pub operate_ms: f64,
-    /// The hydraulic solve alone, part of `operate_ms` (what a
-    /// general-purpose network solver does: flows and pressures).
+    /// The hydraulic solve alone of the last operating pass, part of
+    /// `operate_ms` (what a general-purpose network solver does: flows and
+    /// pressures).
     pub solver_ms: f64,
-    /// Newton solves in the operate stage: one, plus one per regulation
-    /// round of the Δp controllers (design/devices.rs).
+    /// Newton solves in the last operating pass: one, plus one per
+    /// regulation round of the Δp controllers (design/devices.rs).
     pub solver_runs: u32,
+    /// Operating passes in `operate_ms`: one, plus one per commissioning
+    /// pass that moved a stepped presetting (design/commission.rs).
+    pub operate_passes: u32,
     /// The derivation was the one kept from the previous revision, brought
     /// up to date for the runs the edit touched ([`super::solve_edit`]);
     /// `derive_ms` is then that update.
@@ -363,6 +371,11 @@ pub struct StageTimings {
 pub struct Solution {
     /// Project revision the results belong to.
     pub revision: u64,
+    /// A drag preview ([`super::solve_preview`]): the operating figures of
+    /// the last design with the moved runs at their new lengths; sizes,
+    /// presettings, index circuit and pump duty are that design's, not yet
+    /// chosen again for this revision.
+    pub preview: bool,
     /// Pipes (both sides of every run), sorted by run then side.
     pub pipes: Vec<PipeResult>,
     /// Emitters in id order.
