@@ -175,8 +175,13 @@ fn drag_frames(c: &mut Criterion, ctx: &egui::Context) {
     if step > 0 {
         assert!(app.project().revision > revision, "the drag frames did not move the emitter");
     }
-    // Which path the window's last drag solve took (design::solve_edit).
-    eprintln!("last drag frame's solve: incremental path = {}", app.solution().timings.incremental);
+    // Which path the window's last drag solve took: a drag preview
+    // (design::solve_preview) while the pointer is down.
+    eprintln!(
+        "last drag frame's solve: preview = {}, incremental path = {}",
+        app.solution().preview,
+        app.solution().timings.incremental
+    );
 }
 
 criterion_group!(benches, bench);

@@ -149,6 +149,50 @@ fn shift_dragging_a_branch_in_installed_mode_changes_the_flows() {
 }
 
 #[test]
+fn a_drag_shows_previews_and_the_full_design_on_release() {
+    let mut h = harness(demo(FLAT));
+    let level = h.state().canvas().level;
+    let project = h.state().project().clone();
+    let node = project.nodes().find(|n| n.level == level && matches!(n.kind, NodeKind::Emitter(_))).unwrap().clone();
+    let design = h.state().solution().clone();
+    assert!(!design.preview);
+
+    // Mid-drag: a preview of the moved network on the last design.
+    let from = h.state().screen_from_plan(node.pos);
+    h.hover_at(from);
+    h.drag_at(from);
+    h.hover_at(from + Vec2::new(40.0, 30.0));
+    h.hover_at(from + Vec2::new(90.0, 60.0));
+    h.run();
+    let moving = h.state().project().clone();
+    assert_ne!(moving.node(node.id).unwrap().pos, node.pos, "the emitter follows the pointer");
+    let sol = h.state().solution().clone();
+    assert!(sol.preview, "a drag preview while the pointer is down");
+    assert_eq!(sol.revision, moving.revision, "of the moved project");
+    assert!(h.query_by_label_contains("drag preview in").is_some(), "the top bar says it is a preview");
+    for (a, b) in sol.emitters.iter().zip(&design.emitters) {
+        assert_eq!((&a.presetting, &a.lockshield), (&b.presetting, &b.lockshield), "the last design's settings");
+    }
+
+    // Released: the full design of the moved project, as a cold solve has it.
+    h.drop_at(from + Vec2::new(90.0, 60.0));
+    h.run();
+    let sol = h.state().solution().clone();
+    assert!(!sol.preview, "the design follows on release");
+    assert!(h.query_by_label_contains("drag preview in").is_none());
+    let cold = flowrise_core::design::solve_project(
+        h.state().project(),
+        &flowrise_core::design::SolveOptions::default(),
+        &mut flowrise_core::design::Workspace::default(),
+    );
+    assert_eq!(sol.findings.len(), cold.findings.len());
+    for (a, b) in sol.emitters.iter().zip(&cold.emitters) {
+        assert_eq!((a.id, &a.presetting, &a.lockshield), (b.id, &b.presetting, &b.lockshield));
+        assert!((a.flow_kg_s - b.flow_kg_s).abs() <= 1e-5 * b.flow_kg_s.abs(), "{a:?}\n{b:?}");
+    }
+}
+
+#[test]
 fn undo_restores_exactly_after_a_drag_and_after_an_inspector_edit_and_redo_reapplies() {
     let mut h = harness(demo(FLAT));
     let original = h.state().project().clone();

@@ -5,8 +5,9 @@
 //! Per size: the full pipeline from a cold start (derive + design + operate
 //! with a new workspace), the warm edit → results cycle of a drag (move one
 //! emitter by ±5 cm, solve with the same workspace: symbolic factor reused,
-//! warm start) and the same drag on the incremental path (`solve_edit`, see
-//! `design/incremental.rs`), load (parse + validate the RON text) and save (write the RON
+//! warm start), the same drag on the incremental path (`solve_edit`, see
+//! `design/incremental.rs`) and as a drag preview (`solve_preview`, see
+//! `design/preview.rs`), load (parse + validate the RON text) and save (write the RON
 //! text), and the parts list of a solved project. Sample counts are small so
 //! a full run fits in about ten minutes on two cores.
 //!
@@ -24,7 +25,7 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{BenchmarkId, Criterion, criterion_group, criterion_main};
-use flowrise_core::design::{EditHint, SolveOptions, Workspace, solve_edit, solve_project};
+use flowrise_core::design::{EditHint, SolveOptions, Workspace, solve_edit, solve_preview, solve_project};
 use flowrise_core::generate::{BuildingSpec, generate_building};
 use flowrise_core::parts::{PartsOptions, parts_list};
 use flowrise_core::project::{Edit, NodeKind, Project};
@@ -76,6 +77,24 @@ fn pipeline(c: &mut Criterion) {
                 let sol = solve_edit(&drag, &opts, &mut ws, &hint);
                 assert!(sol.timings.incremental, "the drag took the full path");
                 black_box(sol)
+            });
+        });
+
+        // The same drag as the window solves it while the pointer is down:
+        // a drag preview (`solve_preview`, design/preview.rs) on the last
+        // full design.
+        let mut moving = project.clone();
+        let mut ws = Workspace::for_edits();
+        let _ = solve_project(&moving, &opts, &mut ws);
+        let mut step = 0u64;
+        g.bench_function(BenchmarkId::new("drag_preview", n), |b| {
+            b.iter(|| {
+                step += 1;
+                let dx = if step.is_multiple_of(2) { 0.05 } else { -0.05 };
+                let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
+                let hint = EditHint::for_edit(&moving, &edit).expect("a move has a hint");
+                moving.apply(edit).expect("move");
+                black_box(solve_preview(&moving, &opts, &mut ws, &hint).expect("a preview"))
             });
         });
 

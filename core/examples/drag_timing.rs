@@ -34,7 +34,14 @@ fn main() {
     let repeat = args.get(2).copied().unwrap_or(15) as usize;
     let mut p = generate_building(&BuildingSpec::new(floors, per_floor)).expect("generate");
     let opts = SolveOptions::default();
-    let mover = p.nodes().find(|x| matches!(x.kind, NodeKind::Emitter(_))).map(|x| x.id).expect("an emitter");
+    // `source` as a fourth argument moves the heat source (its mains)
+    // instead of the first emitter.
+    let source = std::env::args().nth(4).is_some_and(|a| a == "source");
+    let mover = p
+        .nodes()
+        .find(|x| if source { matches!(x.kind, NodeKind::Source(_)) } else { matches!(x.kind, NodeKind::Emitter(_)) })
+        .map(|x| x.id)
+        .expect("a node to move");
     for mode in 0..3 {
         let mut ws = if mode == 0 { Workspace::default() } else { Workspace::for_edits() };
         let t = Instant::now();
@@ -48,7 +55,8 @@ fn main() {
         let (mut total, mut derive, mut design, mut operate, mut solver) = (vec![], vec![], vec![], vec![], vec![]);
         let (mut runs, mut passes) = (vec![], vec![]);
         for i in 0..repeat {
-            let dx = if i % 2 == 0 { 0.05 } else { -0.05 };
+            let step: f64 = std::env::var("DRAG_STEP_M").ok().and_then(|s| s.parse().ok()).unwrap_or(0.05);
+            let dx = if i % 2 == 0 { step } else { -step };
             let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
             let t = Instant::now();
             let hint = EditHint::for_edit(&p, &edit);

@@ -618,11 +618,12 @@ impl FlowriseApp {
         let mut changed = false;
         for q in out.edits {
             let before = (!q.during_drag).then(|| self.project.clone());
+            let during_drag = q.during_drag;
             let hint = flowrise_core::design::EditHint::for_edit(&self.project, &q.edit);
             match self.project.apply(q.edit) {
                 Ok(outcome) => {
                     changed = true;
-                    self.solver.note_edit(hint);
+                    self.solver.note_edit(hint, during_drag);
                     if let Some(b) = before {
                         self.history.push(b);
                     }
@@ -651,6 +652,7 @@ impl FlowriseApp {
         }
         if out.drag_end {
             self.history.drop_if_unchanged(&self.project);
+            self.solver.end_drag();
         }
         if let Some(s) = out.status {
             self.status = Some(s);

@@ -271,6 +271,13 @@ fn solve_status(ui: &mut Ui, m: &TopBar<'_>, sol: &Solution, out: &mut Intents) 
     {
         out.drawer_tab = Some(super::drawer::Tab::Findings);
     }
+    if sol.preview && !m.stale {
+        ui.label(RichText::new(format!("drag preview in {:.1} ms", m.solve_ms)).color(theme::ACCENT)).on_hover_text(
+            "While you drag, the flows are solved on the last design with the moved pipes at their new lengths; \
+             pipe sizes, presettings and the pump duty are chosen again when you release",
+        );
+        return;
+    }
     let text = if m.stale {
         "solving…".to_owned()
     } else if sol.iterations > 0 || sol.converged {

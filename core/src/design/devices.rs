@@ -280,7 +280,7 @@ impl Derivation<'_> {
             let outside = p_s - p_r; // branch + device
             let kv = kv_of(r, rho);
             let target = f.held_dp_pa(dev.setpoint_pa, kv);
-            let tol = HELD_DP_TOLERANCE_PA.max(1e-4 * target);
+            let tol = self.held_dp_tolerance_pa.max(1e-4 * target);
             let at_kvs = r <= r_kvs * (1.0 + 1e-9);
             if (branch - target).abs() <= tol || (at_kvs && branch < target) {
                 continue;

@@ -51,7 +51,7 @@ pub use devices::{HELD_DP_TOLERANCE_PA, MAX_REGULATION_ROUNDS};
 pub use findings::{Finding, FindingKind, ItemRef, Severity};
 pub use freeze::{freeze_edit, thaw_edit};
 pub use incremental::EditHint;
-pub use preview::solve_preview;
+pub use preview::{PREVIEW_HELD_DP_TOLERANCE_PA, solve_preview};
 pub use results::{
     CircuitResult, DeviceResult, DeviceState, EmitterResult, LinkRole, PipeResult, PumpResult, Side, Solution,
     StageTimings,

@@ -12,11 +12,20 @@ use super::results::{LinkRole, Side, Solution};
 use super::state::Derivation;
 use super::{SolveOptions, Workspace};
 use crate::friction::{FrictionLaw, friction_gradient_pa_m, pipe_dp};
-use crate::network::solver::{self, SolverWorkspace};
+use crate::network::solver::{self, SolveSettings, SolverWorkspace};
 use crate::network::{HydLink, HydraulicNetwork, LinkLaw};
 use crate::project::{Mode, NodeId, Project};
 use crate::pump::PumpControl;
 use crate::water;
+
+/// Relative flow change at which a drag preview's solve stops while the
+/// Δp controllers still regulate (the full tolerance applies to the solve
+/// that confirms they hold): Newton is then within a step or two of the
+/// full tolerance ([`SolveSettings::flow_tolerance`]).
+const LOOSE_FLOW_TOLERANCE: f64 = 1e-3;
+/// Pressure balance at which such a solve stops, Pa (the preview's
+/// controllers hold to 10 Pa: `super::preview::PREVIEW_HELD_DP_TOLERANCE_PA`).
+const LOOSE_PRESSURE_TOLERANCE_PA: f64 = 1.0;
 
 impl Derivation<'_> {
     /// Matched physics ([`SolveOptions::matched_physics`]): one density and
@@ -77,42 +86,57 @@ impl Derivation<'_> {
             }
         };
         let initial: &[f64] = if same_topology { &ws.last_flows } else { &self.design_flows };
-        let report = solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(initial));
-        let mut report = match report {
-            Ok(r) => {
-                sol.timings.solver_ms = r.timings.total_us / 1000.0;
-                sol.timings.solver_runs = 1;
-                r
-            }
-            Err(e) => {
-                ws.solver = Some(solver_ws);
-                self.findings.push(findings::network_invalid(&e));
-                return;
-            }
-        };
         // Δp controllers: their states and openings in an outer loop around
-        // the Newton solve (design/devices.rs).
+        // the Newton solve (design/devices.rs). In a drag preview, while they
+        // still move, each solve stops at a loose tolerance (the next round
+        // changes the network anyway); once they hold, a solve to the full
+        // tolerance confirms it, and any round after that solves fully.
+        let regulated = self.devices.iter().any(|d| d.controller.is_some());
+        let loose = SolveSettings {
+            flow_tolerance: opts.solver.flow_tolerance.max(LOOSE_FLOW_TOLERANCE),
+            pressure_tolerance_pa: opts.solver.pressure_tolerance_pa.max(LOOSE_PRESSURE_TOLERANCE_PA),
+            ..opts.solver
+        };
+        let mut tight = !(regulated && self.loose_regulation);
+        sol.timings.solver_ms = 0.0;
+        sol.timings.solver_runs = 0;
+        let mut start = initial.to_vec();
         let mut rounds = 0;
-        while report.converged && !self.regulate(&report.flows_kg_s, &report.pressures_pa) {
-            rounds += 1;
-            if rounds > super::devices::MAX_REGULATION_ROUNDS {
-                self.findings.push(findings::regulation_not_settled(rounds - 1));
-                break;
-            }
-            let start = report.flows_kg_s.clone();
-            match solver::solve(&self.net, &opts.solver, &mut solver_ws, Some(&start)) {
-                Ok(r) => {
-                    sol.timings.solver_ms += r.timings.total_us / 1000.0;
-                    sol.timings.solver_runs += 1;
-                    report = r;
-                }
+        let report = loop {
+            let settings = if tight { &opts.solver } else { &loose };
+            let report = match solver::solve(&self.net, settings, &mut solver_ws, Some(&start)) {
+                Ok(r) => r,
                 Err(e) => {
                     ws.solver = Some(solver_ws);
                     self.findings.push(findings::network_invalid(&e));
                     return;
                 }
+            };
+            sol.timings.solver_ms += report.timings.total_us / 1000.0;
+            sol.timings.solver_runs += 1;
+            if !report.converged {
+                if tight {
+                    break report;
+                }
+                // A loose solve that stalls: go on at the full tolerance.
+                tight = true;
+                continue;
             }
-        }
+            let settled = self.regulate(&report.flows_kg_s, &report.pressures_pa);
+            if settled && tight {
+                break report;
+            }
+            if settled {
+                tight = true;
+            } else {
+                rounds += 1;
+                if rounds > super::devices::MAX_REGULATION_ROUNDS {
+                    self.findings.push(findings::regulation_not_settled(rounds - 1));
+                    break report;
+                }
+            }
+            start.clone_from(&report.flows_kg_s);
+        };
         sol.iterations = report.iterations;
         sol.converged = report.converged;
         if !report.converged {

@@ -29,6 +29,13 @@ use super::topology::Dense;
 use super::{SolveOptions, Workspace, ms_since, with_findings};
 use crate::project::{Project, RunId};
 
+/// How close a Δp controller holds its target in a preview, Pa: ten times
+/// the full solve's ([`super::HELD_DP_TOLERANCE_PA`]). When a drag moves a
+/// main every controller re-regulates, and the last rounds only move the
+/// flows by some 1e-4 (½ · 10 Pa over a set-point of 5 kPa or more); the
+/// full design on release settles them to the full tolerance.
+pub const PREVIEW_HELD_DP_TOLERANCE_PA: f64 = 10.0;
+
 /// What a preview starts from (see the module docs).
 #[derive(Debug)]
 pub(super) struct PreviewBase {
@@ -60,9 +67,28 @@ impl PreviewBase {
         }
     }
 
-    /// Record the full solve's solution.
+    /// Record the full solve's solution: its design figures (a preview
+    /// makes its own network, roles, topology, flows, pressures and
+    /// findings, so those are not copied).
     pub(super) fn set_solution(&mut self, sol: &Solution) {
-        self.solution = Some(sol.clone());
+        self.solution = Some(Solution {
+            revision: sol.revision,
+            preview: sol.preview,
+            pipes: sol.pipes.clone(),
+            emitters: sol.emitters.clone(),
+            devices: sol.devices.clone(),
+            pump: sol.pump.clone(),
+            index_emitter: sol.index_emitter,
+            heat_load_w: sol.heat_load_w,
+            water_volume_l: sol.water_volume_l,
+            vessel: sol.vessel.clone(),
+            iterations: sol.iterations,
+            converged: sol.converged,
+            timings: sol.timings,
+            index_path: sol.index_path.clone(),
+            circuits: sol.circuits.clone(),
+            ..Solution::default()
+        });
     }
 }
 
@@ -82,6 +108,8 @@ pub fn solve_preview(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint:
         return None;
     }
     d.result_emitter.clone_from(&base.result_emitter);
+    d.held_dp_tolerance_pa = PREVIEW_HELD_DP_TOLERANCE_PA;
+    d.loose_regulation = true;
     d.available_pa = base.available_pa;
     d.findings.truncate(base.design_findings);
     base.moved.extend_from_slice(&hint.runs);
@@ -108,6 +136,8 @@ pub fn solve_preview(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint:
     d.operate(p, opts, ws, &mut sol);
     sol.timings.operate_ms = ms_since(t1);
     sol.network = std::mem::take(&mut d.net);
+    sol.roles = std::mem::take(&mut d.roles);
+    sol.topology = std::mem::take(&mut d.topo);
     drop(d);
     ws.preview = Some(base);
     Some(with_findings(sol, findings))

@@ -186,6 +186,13 @@ pub(super) struct Derivation<'f> {
     pub(super) tree_orders: Option<(Vec<usize>, Vec<usize>)>,
     /// Emitters that stand for pumped circuits or separators.
     pub(super) feeds: std::collections::BTreeMap<NodeId, Feed>,
+    /// How close a regulating Δp controller must hold its target before
+    /// the operating solve stops regulating, Pa (at least; see
+    /// `devices::HELD_DP_TOLERANCE_PA`, and the drag preview's own).
+    pub(super) held_dp_tolerance_pa: f64,
+    /// Solve loosely while the controllers still move (drag preview only:
+    /// the path then depends on the start, which a full solve must not).
+    pub(super) loose_regulation: bool,
 }
 
 impl<'f> Derivation<'f> {
@@ -216,6 +223,8 @@ impl<'f> Derivation<'f> {
             result_emitter: Vec::new(),
             tree_orders: None,
             feeds: std::collections::BTreeMap::new(),
+            held_dp_tolerance_pa: super::devices::HELD_DP_TOLERANCE_PA,
+            loose_regulation: false,
         }
     }
 
