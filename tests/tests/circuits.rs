@@ -286,3 +286,23 @@ fn odd_circuit_layouts_are_named_not_fatal() {
     let own: f64 = sol.emitters.iter().filter(|e| o.nodes.contains(&e.id)).map(|e| e.output_w).sum();
     assert!((o.heat_w - own - i.heat_w).abs() <= 1e-6 * o.heat_w);
 }
+
+/// The project's results stay in the order their lookups rely on after
+/// the circuits are merged: emitters by id, pipes by run then side (both
+/// looked up by binary search, `Solution::emitter` and `run_pipes`).
+#[test]
+fn merged_results_are_in_lookup_order() {
+    let (p, _, _) = mixed_project();
+    let sol = solve(&p);
+    assert!(!sol.circuits.is_empty(), "a project with pumped circuits");
+    assert!(sol.emitters.windows(2).all(|w| w[0].id < w[1].id));
+    assert!(sol.pipes.windows(2).all(|w| (w[0].run, w[0].side) < (w[1].run, w[1].side)));
+    for run in p.runs() {
+        let found: Vec<_> = sol.run_pipes(run.id).map(|x| (x.run, x.side)).collect();
+        let scanned: Vec<_> = sol.pipes.iter().filter(|x| x.run == run.id).map(|x| (x.run, x.side)).collect();
+        assert_eq!(found, scanned, "{:?}", run.id);
+    }
+    for e in &sol.emitters {
+        assert_eq!(sol.emitter(e.id).map(|x| x.id), Some(e.id));
+    }
+}

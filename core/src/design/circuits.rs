@@ -503,6 +503,8 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
     }
     out.index_path = circuit_results.first().map(|c| c.index_path.clone()).unwrap_or_default();
     out.emitters.sort_by_key(|e| e.id);
+    // Each circuit's pipes are sorted; the project's are too (run, side).
+    out.pipes.sort_by_key(|x| (x.run, x.side));
     out.heat_load_w = out.emitters.iter().map(|e| e.load_w).sum();
     if let Some(source) = topo.source {
         match size_vessel(p, source, out.water_volume_l) {

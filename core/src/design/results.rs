@@ -436,14 +436,18 @@ impl Solution {
         kinds.iter().any(|&k| self.finding_keys.binary_search(&(item, k)).is_ok())
     }
 
-    /// Results of emitter `id`.
+    /// Results of emitter `id` (a binary search: `emitters` is in id order;
+    /// the window looks up every emitter it draws, every frame).
     #[must_use]
     pub fn emitter(&self, id: NodeId) -> Option<&EmitterResult> {
-        self.emitters.iter().find(|e| e.id == id)
+        self.emitters.binary_search_by_key(&id, |e| e.id).ok().and_then(|i| self.emitters.get(i))
     }
 
-    /// Results of both sides of run `run`.
+    /// Results of both sides of run `run` (a binary search: `pipes` is
+    /// sorted by run then side; the window looks up every run it draws,
+    /// every frame).
     pub fn run_pipes(&self, run: RunId) -> impl Iterator<Item = &PipeResult> + '_ {
-        self.pipes.iter().filter(move |p| p.run == run)
+        let start = self.pipes.partition_point(|p| p.run < run);
+        self.pipes[start..].iter().take_while(move |p| p.run == run)
     }
 }
