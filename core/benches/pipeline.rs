@@ -25,10 +25,10 @@ use std::hint::black_box;
 use std::time::Duration;
 
 use criterion::{BenchmarkId, Criterion, criterion_group, criterion_main};
-use flowrise_core::design::{EditHint, SolveOptions, Workspace, solve_edit, solve_preview, solve_project};
+use flowrise_core::design::{EditHint, Solution, SolveOptions, Workspace, solve_edit, solve_preview, solve_project};
 use flowrise_core::generate::{BuildingSpec, generate_building};
 use flowrise_core::parts::{PartsOptions, parts_list};
-use flowrise_core::project::{Edit, NodeKind, Project};
+use flowrise_core::project::{Edit, NodeId, NodeKind, Project};
 
 /// (floors, emitters per floor) for 100, 1,000, 10,000 and 50,000 emitters.
 const SIZES: [(u32, u32); 4] = [(5, 20), (10, 100), (20, 500), (50, 1000)];
@@ -63,39 +63,16 @@ fn pipeline(c: &mut Criterion) {
         // The same drag on the incremental path the window uses
         // (`solve_edit` with the edit's hint, a workspace that keeps the
         // derivation).
-        let mut drag = project.clone();
-        let mut ws = Workspace::for_edits();
-        let _ = solve_project(&drag, &opts, &mut ws);
-        let mut step = 0u64;
-        g.bench_function(BenchmarkId::new("drag_edit_to_results_incremental", n), |b| {
-            b.iter(|| {
-                step += 1;
-                let dx = if step.is_multiple_of(2) { 0.05 } else { -0.05 };
-                let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
-                let hint = EditHint::for_edit(&drag, &edit).expect("a move has a hint");
-                drag.apply(edit).expect("move");
-                let sol = solve_edit(&drag, &opts, &mut ws, &hint);
-                assert!(sol.timings.incremental, "the drag took the full path");
-                black_box(sol)
-            });
+        hinted_drag(&mut g, "drag_edit_to_results_incremental", n, &project, mover, |p, ws, hint| {
+            let sol = solve_edit(p, &opts, ws, hint);
+            assert!(sol.timings.incremental, "the drag took the full path");
+            sol
         });
-
         // The same drag as the window solves it while the pointer is down:
         // a drag preview (`solve_preview`, design/preview.rs) on the last
         // full design.
-        let mut moving = project.clone();
-        let mut ws = Workspace::for_edits();
-        let _ = solve_project(&moving, &opts, &mut ws);
-        let mut step = 0u64;
-        g.bench_function(BenchmarkId::new("drag_preview", n), |b| {
-            b.iter(|| {
-                step += 1;
-                let dx = if step.is_multiple_of(2) { 0.05 } else { -0.05 };
-                let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
-                let hint = EditHint::for_edit(&moving, &edit).expect("a move has a hint");
-                moving.apply(edit).expect("move");
-                black_box(solve_preview(&moving, &opts, &mut ws, &hint).expect("a preview"))
-            });
+        hinted_drag(&mut g, "drag_preview", n, &project, mover, |p, ws, hint| {
+            solve_preview(p, &opts, ws, hint).expect("a preview")
         });
 
         let text = project.to_ron().expect("ron");
@@ -113,6 +90,33 @@ fn pipeline(c: &mut Criterion) {
         });
         g.finish();
     }
+}
+
+/// A drag of `mover` by ±5 cm per iteration on a workspace that keeps the
+/// derivation ([`Workspace::for_edits`]), each move solved by `solve` with
+/// its edit's hint.
+fn hinted_drag(
+    g: &mut criterion::BenchmarkGroup<'_, criterion::measurement::WallTime>,
+    name: &str,
+    n: u32,
+    project: &Project,
+    mover: NodeId,
+    mut solve: impl FnMut(&Project, &mut Workspace, &EditHint) -> Solution,
+) {
+    let mut moving = project.clone();
+    let mut ws = Workspace::for_edits();
+    let _ = solve_project(&moving, &SolveOptions::default(), &mut ws);
+    let mut step = 0u64;
+    g.bench_function(BenchmarkId::new(name, n), |b| {
+        b.iter(|| {
+            step += 1;
+            let dx = if step.is_multiple_of(2) { 0.05 } else { -0.05 };
+            let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
+            let hint = EditHint::for_edit(&moving, &edit).expect("a move has a hint");
+            moving.apply(edit).expect("move");
+            black_box(solve(&moving, &mut ws, &hint))
+        });
+    });
 }
 
 criterion_group!(benches, pipeline);

@@ -2,11 +2,14 @@
 //! one emitter back and forth and print the median of each stage of the
 //! re-solve (derive, design, operate, the hydraulic solve inside operate)
 //! and of the whole edit → results cycle, for the cold path
-//! (`solve_project` with the kept workspace) and the incremental path
-//! (`solve_edit` with the edit's hint).
+//! (`solve_project` with the kept workspace), the incremental path
+//! (`solve_edit` with the edit's hint) and the drag preview
+//! (`solve_preview`).
 //!
-//! Run: `cargo run --release -p flowrise-core --example drag_timing -- [floors] [per_floor] [repeat]`
-//! (defaults 20 × 500 = 10,000 emitters, 15 repeats). A profiling aid, not
+//! Run: `cargo run --release -p flowrise-core --example drag_timing -- [floors] [per_floor] [repeat] [source]`
+//! (defaults 20 × 500 = 10,000 emitters, 15 repeats; `source` moves the
+//! heat source instead of the first emitter; `DRAG_STEP_M` sets the step,
+//! default 0.05 m). A profiling aid, not
 //! a benchmark: the recorded figures come from criterion
 //! (`cargo bench -p flowrise-core --bench pipeline`).
 
@@ -37,6 +40,7 @@ fn main() {
     // `source` as a fourth argument moves the heat source (its mains)
     // instead of the first emitter.
     let source = std::env::args().nth(4).is_some_and(|a| a == "source");
+    let step: f64 = std::env::var("DRAG_STEP_M").ok().and_then(|s| s.parse().ok()).unwrap_or(0.05);
     let mover = p
         .nodes()
         .find(|x| if source { matches!(x.kind, NodeKind::Source(_)) } else { matches!(x.kind, NodeKind::Emitter(_)) })
@@ -55,7 +59,6 @@ fn main() {
         let (mut total, mut derive, mut design, mut operate, mut solver) = (vec![], vec![], vec![], vec![], vec![]);
         let (mut runs, mut passes) = (vec![], vec![]);
         for i in 0..repeat {
-            let step: f64 = std::env::var("DRAG_STEP_M").ok().and_then(|s| s.parse().ok()).unwrap_or(0.05);
             let dx = if i % 2 == 0 { step } else { -step };
             let edit = Edit::MoveNodes { ids: vec![mover], dx_m: dx, dy_m: 0.0 };
             let t = Instant::now();
