@@ -26,6 +26,14 @@
 //!   and the run to each header), its model and set-point chosen by the
 //!   design; or a static balancing valve there, or nothing.
 //!
+//! The radiator valves have presettings in half steps ([`VALVE_FAMILY`]),
+//! so that a 300 W room behind a branch controller is throttled by its
+//! valve rather than its lockshield; the safety valve is the lowest usual
+//! set pressure that leaves the expansion vessel a working range over the
+//! building's static height ([`SAFETY_VALVE_STEPS_BAR`]). Up to about
+//! 25 storeys a generated building then designs without a warning; above
+//! that no single pressure zone fits and the design says so.
+//!
 //! Loads are drawn uniformly from 300–2500 W (floor loops 300–1200 W) in
 //! 10 W steps and room temperatures from 18–24 °C in 0.5 K steps, with the
 //! splitmix64 generator seeded by [`BuildingSpec::seed`] (Steele, Lea &
@@ -54,6 +62,7 @@ use crate::project::{
     PipeClass, PlanPoint, Project, PumpSpec, ReturnLayout, Run, RunId, RunProps,
 };
 use crate::pump::PumpControl;
+use crate::vessel;
 
 /// Height between levels, m (common practice for residential and office
 /// storeys).
@@ -74,6 +83,17 @@ pub const CORE_SPACING_M: f64 = 40.0;
 pub const PLANT_MAIN_Y_M: f64 = -(BRANCH_SPACING_M * EMITTERS_PER_BRANCH as f64) - 6.0;
 /// Pipe series of mains and risers in generated buildings.
 pub const MAIN_SERIES: &str = "steel-en10220-welded";
+/// Radiator valve family of generated buildings: presettings in half
+/// steps, so that the valve (not the lockshield) throttles a 300 W room
+/// behind a branch controller and keeps its authority.
+pub const VALVE_FAMILY: &str = "trv-demo-fine";
+/// Safety valve set pressures the generator chooses from, bar (common
+/// practice: the usual set pressures of heating-system safety valves).
+pub const SAFETY_VALVE_STEPS_BAR: [f64; 6] = [3.0, 4.0, 5.0, 6.0, 8.0, 10.0];
+/// Least range between the vessel's pre-charge and final pressure the
+/// generator leaves when it chooses the safety valve, bar (common practice:
+/// below about half a bar the vessel grows out of proportion).
+pub const VESSEL_WORKING_RANGE_BAR: f64 = 0.5;
 /// Floor loops per header at most.
 pub const LOOPS_PER_HEADER: u32 = 8;
 /// Most levels a generated building has.
@@ -267,6 +287,7 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     spec.validate()?;
     let mut settings = DesignSettings::default();
     MAIN_SERIES.clone_into(&mut settings.series.main);
+    VALVE_FAMILY.clone_into(&mut settings.valve_family);
     let mut rng = SplitMix64::new(spec.seed);
     let mut d = Draft { nodes: Vec::new(), runs: Vec::new(), next_node: 1, next_run: 1 };
     let levels: Vec<Level> = (0..spec.floors)
@@ -421,12 +442,16 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     let mut project = Project::from_file(file)
         .map_err(|e| PhysicsError::Inconsistent(format!("generated building does not validate: {e}")))?;
 
-    // Pump for the building: duty head and design flow from a first pass.
+    // Pump for the building: duty head and design flow from a first pass;
+    // the safety valve for its height.
     let sol = solve_project(&project, &SolveOptions::default(), &mut Workspace::default());
     if let Some(pump) = &sol.pump {
         let head_kpa = (pump.duty_head_pa / 1000.0).max(1.0);
         let q = pump.design_flow_m3_h.max(0.01);
+        let z_src = project.elevation_m(source);
+        let z_max = project.nodes().map(|n| project.elevation_m(n.id)).fold(z_src, f64::max);
         let mut file = project.to_file();
+        file.settings.safety_valve_bar = safety_valve_for(z_max - z_src + 1.0, file.settings.fill_temperature_c);
         if let Some(n) = file.nodes.iter_mut().find(|n| n.id == source) {
             n.kind = source_kind(total_load_w, pump_curve(q, head_kpa), head_kpa);
         }
@@ -434,6 +459,22 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
             .map_err(|e| PhysicsError::Inconsistent(format!("generated building does not validate: {e}")))?;
     }
     Ok(project)
+}
+
+/// The safety valve set pressure for a static height of `static_height_m`
+/// above the vessel, bar: the lowest of [`SAFETY_VALVE_STEPS_BAR`] whose
+/// final pressure lies at least [`VESSEL_WORKING_RANGE_BAR`] above the
+/// vessel's pre-charge (as the design sizes it, [`vessel`]), else the
+/// highest — a building that tall needs pressure zones, and the design
+/// says so.
+fn safety_valve_for(static_height_m: f64, fill_temperature_c: f64) -> f64 {
+    let rho = crate::water::density_kg_m3(fill_temperature_c).unwrap_or(1000.0);
+    let p0 = rho * crate::network::GRAVITY_M_S2 * static_height_m / 1e5 + vessel::DEFAULT_PRECHARGE_MARGIN_BAR;
+    let last = SAFETY_VALVE_STEPS_BAR[SAFETY_VALVE_STEPS_BAR.len() - 1];
+    SAFETY_VALVE_STEPS_BAR
+        .into_iter()
+        .find(|&sv| vessel::final_pressure_bar(sv).is_ok_and(|pe| pe - p0 >= VESSEL_WORKING_RANGE_BAR))
+        .unwrap_or(last)
 }
 
 #[cfg(test)]
@@ -488,6 +529,32 @@ mod tests {
         }
         let other = generate_building(&BuildingSpec { seed: 2, ..BuildingSpec::new(3, 17) }).unwrap();
         assert_ne!(other, generate_building(&BuildingSpec::new(3, 17)).unwrap());
+    }
+
+    /// The generator's own choices (valve family, safety valve, pump)
+    /// leave a 10-storey building without a warning: no low valve
+    /// authority in the small rooms behind the branch controllers, and an
+    /// expansion vessel that can be sized for 28 m of static height.
+    #[test]
+    fn a_ten_storey_building_designs_without_warnings() {
+        let p = generate_building(&BuildingSpec::new(10, 20)).unwrap();
+        assert!((p.settings.safety_valve_bar - 5.0).abs() < 1e-12);
+        let sol = solve_project(&p, &SolveOptions::default(), &mut Workspace::default());
+        assert!(sol.converged && sol.vessel.is_some());
+        let warnings: Vec<_> = sol.findings.iter().map(|f| &f.message).collect();
+        assert!(warnings.is_empty(), "{warnings:#?}");
+    }
+
+    #[test]
+    fn the_safety_valve_follows_the_static_height() {
+        // p0 = ρ·g·h + 0.3 bar; the final pressure p_e (p_sv − 0.5 bar up
+        // to 5 bar, 0.9·p_sv above) at least 0.5 bar above it.
+        assert!((safety_valve_for(7.0, 10.0) - 3.0).abs() < 1e-12);
+        assert!((safety_valve_for(16.0, 10.0) - 3.0).abs() < 1e-12); // p0 1.87, p_e 2.5
+        assert!((safety_valve_for(19.0, 10.0) - 4.0).abs() < 1e-12); // p0 2.16 > 2.0
+        assert!((safety_valve_for(28.0, 10.0) - 5.0).abs() < 1e-12);
+        assert!((safety_valve_for(60.0, 10.0) - 8.0).abs() < 1e-12); // p0 6.18, p_e 7.2
+        assert!((safety_valve_for(300.0, 10.0) - 10.0).abs() < 1e-12); // pressure zones needed
     }
 
     #[test]

@@ -227,3 +227,42 @@ fn branch_controllers_halve_the_worst_part_load_excess_at_fixed_speed() {
         assert!(c.worst_over_supply() < o.worst_over_supply(), "{}", c.control);
     }
 }
+
+/// Behind a branch controller a valve's authority is judged against the Δp
+/// its controller holds, in the balance stage and after commissioning
+/// re-trims it alike: a re-trimmed valve was once judged against the pump's
+/// head (a few per cent "authority" for a valve taking half its zone's Δp)
+/// and its pair chosen for an authority it could not reach. A 10-storey
+/// generated building on the coarse 8-step valve family, whose small rooms
+/// commissioning re-trims.
+#[test]
+fn valves_behind_a_controller_are_judged_against_its_zone_after_commissioning() {
+    use flowrise_core::generate::{BuildingSpec, generate_building};
+    let p = generate_building(&BuildingSpec::new(10, 100)).unwrap();
+    let mut file = p.to_file();
+    "trv-demo-8".clone_into(&mut file.settings.valve_family);
+    for n in &mut file.nodes {
+        if let NodeKind::Emitter(e) = &mut n.kind {
+            "trv-demo-8".clone_into(&mut e.valves.valve_family);
+        }
+    }
+    let p = Project::from_file(file).unwrap();
+    let sol = solve(&p);
+    assert!(sol.converged);
+    let pump_pa = sol.pump.as_ref().unwrap().available_pa;
+    let largest_held_pa = sol.devices.iter().map(|d| d.branch_dp_pa).fold(0.0, f64::max);
+    assert!(largest_held_pa > 0.0 && largest_held_pa < 0.5 * pump_pa, "{largest_held_pa} Pa of {pump_pa} Pa");
+    for e in sol.emitters.iter().filter(|e| e.authority > 0.0) {
+        // authority = valve Δp / Δp available to the circuit.
+        let reference_pa = e.valve_dp_pa / e.authority;
+        assert!(
+            reference_pa <= 1.01 * largest_held_pa,
+            "{} ({}): authority {:.3} judged against {:.1} kPa; the controllers hold at most {:.1} kPa",
+            e.name,
+            e.id,
+            e.authority,
+            reference_pa / 1000.0,
+            largest_held_pa / 1000.0
+        );
+    }
+}

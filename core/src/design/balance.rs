@@ -111,6 +111,7 @@ impl Derivation<'_> {
         by_id.sort_unstable_by_key(|&i| emitters[i].id);
         let mut results = Vec::with_capacity(emitters.len());
         let mut result_emitter = Vec::with_capacity(emitters.len());
+        let mut circuit_available = Vec::with_capacity(emitters.len());
         for &i in &by_id {
             let e = &emitters[i];
             let Some(node) = dn.node(e.id) else { continue };
@@ -158,11 +159,13 @@ impl Derivation<'_> {
             }
             let mut lock_kv = e.lockshield_kv;
             r.lockshield = e.lockshield.and_then(|l| l.settings.last()).map_or_else(String::new, |st| st.label.clone());
+            // In a zone: the zone's Δp, the rest from its entry.
+            let zone = zones.of_emitter.get(i).copied().flatten();
+            let zone_available = zone.map_or(available, |d| zones.available_pa[d]);
             if let (Some(family), true) = (e.valve, m > 0.0) {
-                // In a zone: the zone's Δp, the rest from its entry.
-                let (zone_available, rest) = match zones.of_emitter.get(i).copied().flatten() {
-                    Some(d) => (zones.available_pa[d], zones.rest_in(d, c.rest_pa[i], src_dp, &p_node, &self.devices)),
-                    None => (available, c.rest_pa[i]),
+                let rest = match zone {
+                    Some(d) => zones.rest_in(d, c.rest_pa[i], src_dp, &p_node, &self.devices),
+                    None => c.rest_pa[i],
                 };
                 let inputs = CircuitInputs {
                     available_pa: zone_available,
@@ -191,9 +194,11 @@ impl Derivation<'_> {
             }
             results.push(r);
             result_emitter.push(i);
+            circuit_available.push(zone_available);
         }
         self.emitters = emitters;
         self.result_emitter = result_emitter;
+        self.circuit_available_pa = circuit_available;
         sol.emitters = results;
 
         self.set_pump_law(p, dn, &curve, source);

@@ -33,6 +33,12 @@ pub(super) struct Retrim {
 }
 
 impl Derivation<'_> {
+    /// The Δp available at design to the circuit of result `k` (its zone's
+    /// behind a balancing device, else the pump's), Pa.
+    fn circuit_available(&self, k: usize) -> f64 {
+        self.circuit_available_pa.get(k).copied().unwrap_or(self.available_pa)
+    }
+
     /// Choose the valve pair again for every emitter outside the tolerance
     /// whose valves the design chooses (not fixed by the user), from the
     /// operating solve's pressures; apply the new settings to the network
@@ -106,7 +112,7 @@ impl Derivation<'_> {
                 dp_own_rest_pa: own,
                 density_kg_m3: rho_mean,
                 tolerance_fraction: s.flow_tolerance_fraction,
-                authority_dp_pa: valves::AUTHORITY_WARN_BELOW * self.available_pa,
+                authority_dp_pa: valves::AUTHORITY_WARN_BELOW * self.circuit_available(k),
             };
             let Ok(t) = valves::choose_trim(valve, lock, &need) else { continue };
             let same = valve.settings[t.valve_index].label == r.presetting
@@ -145,8 +151,8 @@ impl Derivation<'_> {
         });
         let (Some(sp), Some(rp)) = (self.supply_props, self.return_props) else { return };
         let rho_mean = 0.5 * (sp.density_kg_m3 + rp.density_kg_m3);
-        let available = self.available_pa;
         for d in done {
+            let available = self.circuit_available(d.result);
             let Some(i) = self.result_emitter.get(d.result).copied() else { continue };
             let Some(e) = self.emitters.get(i) else { continue };
             let (Some(valve), Some(lock), id) = (e.valve, e.lockshield, e.id) else { continue };

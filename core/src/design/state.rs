@@ -182,6 +182,10 @@ pub(super) struct Derivation<'f> {
     pub(super) pipes_filled: bool,
     /// Index into `emitters` of each entry of `Solution::emitters`.
     pub(super) result_emitter: Vec<usize>,
+    /// Δp available at design to each entry of `Solution::emitters`, Pa:
+    /// its Δp controller's or balancing valve's zone's when it has one,
+    /// else the pump's. The reference of its valve's authority.
+    pub(super) circuit_available_pa: Vec<f64>,
     /// Breadth-first link orders of the supply and return trees.
     pub(super) tree_orders: Option<(Vec<usize>, Vec<usize>)>,
     /// Emitters that stand for pumped circuits or separators.
@@ -221,6 +225,7 @@ impl<'f> Derivation<'f> {
             total_design_kg_s: 0.0,
             pipes_filled: false,
             result_emitter: Vec::new(),
+            circuit_available_pa: Vec::new(),
             tree_orders: None,
             feeds: std::collections::BTreeMap::new(),
             held_dp_tolerance_pa: super::devices::HELD_DP_TOLERANCE_PA,
