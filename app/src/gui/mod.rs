@@ -283,6 +283,12 @@ impl FlowriseApp {
         self.solver.latest()
     }
 
+    /// How long the last solve took, ms (what the top bar shows).
+    #[must_use]
+    pub fn last_solve_ms(&self) -> f64 {
+        self.solver.last_ms()
+    }
+
     /// The document's file (absolute), if it has one.
     #[must_use]
     pub fn path(&self) -> Option<&std::path::Path> {
@@ -361,7 +367,7 @@ impl FlowriseApp {
         let stale = sol.revision != self.project.revision;
 
         let recent = self.prefs.recent.clone();
-        let has_risers = self.project.runs().any(|r| self.project.is_vertical(r));
+        let has_risers = self.project.vertical_runs().next().is_some();
         let width = ui.available_width();
         // Sized to its contents of the last frame: it wraps onto a second
         // row in a narrow window and shrinks back in a wide one.

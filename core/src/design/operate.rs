@@ -87,21 +87,24 @@ impl Derivation<'_> {
         };
         let initial: &[f64] = if same_topology { &ws.last_flows } else { &self.design_flows };
         // Δp controllers: their states and openings in an outer loop around
-        // the Newton solve (design/devices.rs). In a drag preview, after a
-        // first full solve and while they still move, each solve stops at a
-        // loose tolerance (the next round changes the network anyway); once
-        // they hold, a solve to the full tolerance confirms it, and any
-        // round after that solves fully.
+        // the Newton solve (design/devices.rs). In a drag preview every
+        // solve stops at a loose tolerance (a relative flow step of 1e-3:
+        // Newton's last step being quadratic, the flows left are well
+        // inside the preview's 10 Pa hold of the controllers), and the
+        // preview ends with the first round in which they hold; a loose
+        // solve that stalls goes on at the full tolerance.
         let regulated = self.devices.iter().any(|d| d.controller.is_some());
         let loose = SolveSettings {
             flow_tolerance: opts.solver.flow_tolerance.max(LOOSE_FLOW_TOLERANCE),
             pressure_tolerance_pa: opts.solver.pressure_tolerance_pa.max(LOOSE_PRESSURE_TOLERANCE_PA),
+            reuse_relative_flow_change: opts
+                .solver
+                .reuse_relative_flow_change
+                .max(solver::PREVIEW_REUSE_RELATIVE_FLOW_CHANGE),
             ..opts.solver
         };
-        // The first solve is a full one (after a small edit the controllers
-        // often hold already); loose solves follow only while they move.
         let mut loose_allowed = regulated && self.loose_regulation;
-        let mut tight = true;
+        let mut tight = !loose_allowed;
         sol.timings.solver_ms = 0.0;
         sol.timings.solver_runs = 0;
         let mut start = initial.to_vec();
@@ -127,22 +130,15 @@ impl Derivation<'_> {
                 loose_allowed = false;
                 continue;
             }
-            let settled = self.regulate(&report.flows_kg_s, &report.pressures_pa);
-            if settled && tight {
+            if self.regulate(&report.flows_kg_s, &report.pressures_pa) {
                 break report;
             }
-            if settled {
-                // Held at the loose tolerance: confirm at the full one.
-                tight = true;
-                loose_allowed = false;
-            } else {
-                rounds += 1;
-                if rounds > super::devices::MAX_REGULATION_ROUNDS {
-                    self.findings.push(findings::regulation_not_settled(rounds - 1));
-                    break report;
-                }
-                tight = !loose_allowed;
+            rounds += 1;
+            if rounds > super::devices::MAX_REGULATION_ROUNDS {
+                self.findings.push(findings::regulation_not_settled(rounds - 1));
+                break report;
             }
+            tight = !loose_allowed;
             start.clone_from(&report.flows_kg_s);
         };
         sol.iterations = report.iterations;

@@ -127,8 +127,15 @@ pub const QUADRATIC_LINEAR_BELOW_KG_S: f64 = 1e-6;
 
 /// Largest relative flow change |m − m₀|/|m₀| over which a link law's last
 /// exact evaluation at m₀ is carried along its slope instead of evaluated
-/// again (a NaN m₀, the state of a new or changed law, never qualifies).
-const LINEAR_REUSE_MAX_RELATIVE_FLOW_CHANGE: f64 = 1e-7;
+/// again (a NaN m₀, the state of a new or changed law, never qualifies):
+/// the default of [`SolveSettings::reuse_relative_flow_change`].
+pub const LINEAR_REUSE_MAX_RELATIVE_FLOW_CHANGE: f64 = 1e-7;
+
+/// The same for a drag preview's solves: 1e-4, so a drop is off by at most
+/// about 1e-8 of itself — far inside the preview's loose tolerance — and a
+/// move that shifts the whole building's flows by a few parts in ten
+/// thousand evaluates only the links whose flows moved more.
+pub const PREVIEW_REUSE_RELATIVE_FLOW_CHANGE: f64 = 1e-4;
 
 /// Largest relative flow change Σ|Δm|/Σ|m| of a chord step (the first step
 /// of a warm start, solved with the factor kept from the last solve) that is
@@ -198,6 +205,13 @@ pub struct SolveSettings {
     /// from one iteration to the next, from the third iteration on. Default
     /// 0.5 (halving, the usual line-search choice); 1 disables damping.
     pub damping_factor: f64,
+    /// Largest relative flow change |m − m₀|/|m₀| over which a link law's
+    /// last exact evaluation at m₀ is carried along its slope instead of
+    /// evaluated again. The drop it gives is off by about |Δp|·(Δm/m₀)²:
+    /// default [`LINEAR_REUSE_MAX_RELATIVE_FLOW_CHANGE`] (1e-7, 1e-14 of
+    /// the drop: a full solve's answer does not depend on where it
+    /// started); the drag preview allows [`PREVIEW_REUSE_RELATIVE_FLOW_CHANGE`].
+    pub reuse_relative_flow_change: f64,
 }
 
 impl Default for SolveSettings {
@@ -211,6 +225,7 @@ impl Default for SolveSettings {
             initial_quadratic_dp_pa: 3000.0,
             initial_flow_kg_s: 0.1,
             damping_factor: 0.5,
+            reuse_relative_flow_change: LINEAR_REUSE_MAX_RELATIVE_FLOW_CHANGE,
         }
     }
 }
@@ -232,6 +247,7 @@ impl SolveSettings {
         check::positive("initial link flow", self.initial_flow_kg_s, "kg/s")?;
         check::positive("damping factor", self.damping_factor, "")?;
         check::in_range("damping factor", self.damping_factor, "", f64::MIN_POSITIVE, 1.0)?;
+        check::in_range("linear reuse of a link law", self.reuse_relative_flow_change, "", 0.0, 1e-3)?;
         Ok(())
     }
 }
@@ -830,7 +846,7 @@ fn evaluate_links(
         let m0 = ws.eval_flow_kg_s[k];
         let (drop_pa, slope) = if m0.to_bits() == m.to_bits() {
             (ws.eval_drop_pa[k], ws.eval_slope_pa_s_kg[k])
-        } else if (m - m0).abs() <= LINEAR_REUSE_MAX_RELATIVE_FLOW_CHANGE * m0.abs() {
+        } else if (m - m0).abs() <= settings.reuse_relative_flow_change * m0.abs() {
             // A flow within 1e-7 of the last evaluation (the rest of the
             // network during a warm re-solve): first-order step from it,
             // which stays the anchor. The step's error, about

@@ -455,6 +455,24 @@ impl Project {
         self.run_ix.values().filter_map(|&ix| self.graph.edge_weight(ix))
     }
 
+    /// Runs in id order with their end nodes `(run, a, b)`, read from the
+    /// graph: no lookup by id per run (what a frame that walks every run
+    /// wants).
+    pub fn runs_with_ends(&self) -> impl Iterator<Item = (&Run, &Node, &Node)> + '_ {
+        self.run_ix.values().filter_map(|&ix| {
+            let run = self.graph.edge_weight(ix)?;
+            let (x, y) = self.graph.edge_endpoints(ix)?;
+            let (nx, ny) = (self.graph.node_weight(x)?, self.graph.node_weight(y)?);
+            Some(if nx.id == run.a { (run, nx, ny) } else { (run, ny, nx) })
+        })
+    }
+
+    /// The runs that join two levels (risers), with their end nodes, in id
+    /// order.
+    pub fn vertical_runs(&self) -> impl Iterator<Item = (&Run, &Node, &Node)> + '_ {
+        self.runs_with_ends().filter(|(_, a, b)| a.level != b.level)
+    }
+
     /// Number of nodes.
     #[must_use]
     pub fn node_count(&self) -> usize {

@@ -8,7 +8,7 @@ use flowrise_core::design::{FindingKind, ItemRef, Severity, Side, Solution};
 use flowrise_core::emitters::EmitterModel;
 use flowrise_core::project::{BranchDevice, LevelId, Node, NodeKind, Project, Run};
 
-use super::hit::{Hit, run_polyline};
+use super::hit::{Hit, run_polyline_between};
 use super::view::View;
 use crate::gui::intents::Selection;
 use crate::gui::theme::{self, ColourBy};
@@ -192,8 +192,8 @@ pub fn draw_circuits(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) 
 /// Draw the runs of the level; their labels go to `labels`.
 pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
     let limit = s.project.settings.gradient_limit_pa_m;
-    for run in s.project.runs() {
-        let Some(pts) = run_polyline(s.project, run, s.level, s.view) else { continue };
+    for (run, a, b) in s.project.runs_with_ends() {
+        let Some(pts) = run_polyline_between(a, b, run, s.level, s.view) else { continue };
         let value = s.colour_by.run_value(s.sol, run.id, limit);
         let (stroke, over) = theme::run_stroke(value, s.view.px_per_m);
         // Drawn as over the limit only with a finding behind it.

@@ -88,7 +88,7 @@ pub fn draw(
             last_label_y = y;
         }
     }
-    let vertical: Vec<_> = project.runs().filter(|r| project.is_vertical(r)).collect();
+    let vertical: Vec<_> = project.vertical_runs().collect();
     if vertical.is_empty() {
         painter.text(
             rect.center(),
@@ -99,7 +99,7 @@ pub fn draw(
         );
         return bands;
     }
-    let xs: Vec<f64> = vertical.iter().filter_map(|r| project.node(r.a)).map(|n| n.pos.x_m).collect();
+    let xs: Vec<f64> = vertical.iter().map(|(_, a, _)| a.pos.x_m).collect();
     let x_min = xs.iter().copied().fold(f64::INFINITY, f64::min);
     let x_max = xs.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let x_span = (x_max - x_min).max(1.0);
@@ -110,8 +110,7 @@ pub fn draw(
         if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { right }
     };
     let limit = project.settings.gradient_limit_pa_m;
-    for r in vertical {
-        let (Some(a), Some(b)) = (project.node(r.a), project.node(r.b)) else { continue };
+    for (r, a, b) in vertical {
         let x = x_of(a.pos.x_m);
         let (ya, yb) = (y_of(project.elevation_m(a.id)), y_of(project.elevation_m(b.id)));
         let value = colour_by.run_value(sol, r.id, limit);

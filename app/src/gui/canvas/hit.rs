@@ -3,7 +3,7 @@
 //! the node or the run's polyline.
 
 use egui::{Pos2, Rect};
-use flowrise_core::project::{LevelId, NodeId, PlanPoint, Project, Run, RunId};
+use flowrise_core::project::{LevelId, Node, NodeId, PlanPoint, Project, Run, RunId};
 
 use super::view::View;
 
@@ -24,8 +24,14 @@ pub enum Hit {
 /// The screen polyline of a run drawn on `level` (both ends on it).
 #[must_use]
 pub fn run_polyline(project: &Project, run: &Run, level: LevelId, view: &View) -> Option<Vec<Pos2>> {
-    let a = project.node(run.a)?;
-    let b = project.node(run.b)?;
+    run_polyline_between(project.node(run.a)?, project.node(run.b)?, run, level, view)
+}
+
+/// [`run_polyline`] with the run's end nodes `a` and `b` given (from
+/// [`Project::runs_with_ends`]: a frame that walks every run looks up no
+/// node).
+#[must_use]
+pub fn run_polyline_between(a: &Node, b: &Node, run: &Run, level: LevelId, view: &View) -> Option<Vec<Pos2>> {
     if a.level != level || b.level != level {
         return None;
     }
@@ -66,8 +72,8 @@ pub fn hit_node(project: &Project, level: LevelId, view: &View, pos: Pos2) -> Op
 #[must_use]
 pub fn hit_run(project: &Project, level: LevelId, view: &View, pos: Pos2) -> Option<(RunId, PlanPoint)> {
     let mut best: Option<(f32, RunId, Pos2)> = None;
-    for run in project.runs() {
-        let Some(pts) = run_polyline(project, run, level, view) else { continue };
+    for (run, a, b) in project.runs_with_ends() {
+        let Some(pts) = run_polyline_between(a, b, run, level, view) else { continue };
         let bbox = Rect::from_points(&pts).expand(RUN_PICK_PX);
         if !bbox.contains(pos) {
             continue;

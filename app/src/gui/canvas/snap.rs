@@ -221,11 +221,10 @@ impl Targets {
             t.points.push(n.pos);
             t.nodes.push(n.id);
         }
-        for r in project.runs() {
+        for (r, a, b) in project.runs_with_ends() {
             if moving.contains(&r.a) || moving.contains(&r.b) {
                 continue;
             }
-            let (Some(a), Some(b)) = (project.node(r.a), project.node(r.b)) else { continue };
             if a.level != level || b.level != level {
                 continue;
             }
