@@ -150,17 +150,23 @@ impl Derivation<'_> {
             self.emitters.iter().enumerate().map(|(i, e)| (e.id, i)).collect();
         let mut order: Vec<usize> = (0..self.devices.len()).collect();
         order.sort_by_key(|&d| self.devices[d].run);
+        let mut members: Vec<usize> = Vec::new();
         for d in order {
             let dev = self.devices[d].clone();
+            members.clear();
             for n in self.topo.subtree(dev.down) {
                 if let Some(&i) = slot_of.get(&n) {
                     zones.of_emitter[i] = Some(d);
+                    members.push(i);
                 }
             }
             // The zone's own index circuit: the most its circuits need at
-            // its entry, the valve taking at least its minimum.
-            let need = (0..self.emitters.len())
-                .filter(|&i| zones.of_emitter[i] == Some(d) && self.emitters[i].flow_kg_s > 0.0)
+            // its entry, the valve taking at least its minimum (over its
+            // own emitters, not a scan of the building's per device).
+            let need = members
+                .iter()
+                .copied()
+                .filter(|&i| self.emitters[i].flow_kg_s > 0.0)
                 .map(|i| {
                     zones.rest_in(d, rest_pa[i], src_dp, p_node, &self.devices)
                         + open_valve_pa[i].max(s.min_valve_dp_pa)
