@@ -11,7 +11,9 @@
 //! - the heat source on the lowest level: with one core it feeds the riser
 //!   directly; with several, the source sits beside the middle core and two
 //!   plant-level mains leave it, one each way, to the foot of every riser (so
-//!   no main carries more than about half the building);
+//!   no main carries more than about half the building) — more mains, each
+//!   feeding a chain of fewer cores, where a main would carry more than
+//!   [`MAX_PLANT_MAIN_LOAD_W`];
 //! - per level and core a corridor main of junctions [`CORRIDOR_SPACING_M`]
 //!   apart (class main), and from each corridor junction a branch of up to
 //!   [`EMITTERS_PER_BRANCH`] tee junctions with one radiator each (type 22,
@@ -83,6 +85,14 @@ pub const CORE_SPACING_M: f64 = 40.0;
 pub const PLANT_MAIN_Y_M: f64 = -(BRANCH_SPACING_M * EMITTERS_PER_BRANCH as f64) - 6.0;
 /// Pipe series of mains and risers in generated buildings.
 pub const MAIN_SERIES: &str = "steel-en10220-welded";
+/// Most design load one plant-level main of a generated building carries,
+/// W: about what a DN800 welded-steel main passes inside its 1.2 m/s limit
+/// at a 15 K drop (0.6 m³/s · 4.2 MJ/(m³·K) · 15 K ≈ 38 MW, with a
+/// margin). A building whose cores would load a main beyond it gets more
+/// mains from the source, each feeding a chain of fewer cores.
+pub const MAX_PLANT_MAIN_LOAD_W: f64 = 35.0e6;
+/// Mean of the radiator loads drawn (uniform over 300–2500 W), W.
+const MEAN_ROOM_LOAD_W: f64 = 1400.0;
 /// Radiator valve family of generated buildings: presettings in half
 /// steps, so that the valve (not the lockshield) throttles a 300 W room
 /// behind a branch controller and keeps its authority.
@@ -324,18 +334,21 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     let mut below = vec![source; cores as usize];
     if cores > 1 {
         let plant: Vec<NodeId> = (0..cores).map(|c| d.node(0, core_x(c), PLANT_MAIN_Y_M, NodeKind::Junction)).collect();
-        // Two mains leave the source: one towards core 0, one towards the
-        // last core.
+        // Mains leave the source both ways: towards core 0 and towards the
+        // last core, each feeding at most `per_main` cores in a chain (one
+        // main each way unless the building is very large).
+        let core_load_w = MEAN_ROOM_LOAD_W * f64::from(spec.floors) * f64::from(per_core.min(spec.per_floor));
+        let per_main = ((MAX_PLANT_MAIN_LOAD_W / core_load_w).floor() as usize).max(1);
         let mid = middle as usize;
-        d.run(source, plant[mid], main.clone());
-        for c in (0..mid).rev() {
-            d.run(plant[c + 1], plant[c], main.clone());
-        }
-        if mid + 1 < plant.len() {
-            d.run(source, plant[mid + 1], main.clone());
-        }
-        for c in mid + 2..cores as usize {
-            d.run(plant[c - 1], plant[c], main.clone());
+        let left: Vec<usize> = (0..=mid).rev().collect();
+        let right: Vec<usize> = (mid + 1..cores as usize).collect();
+        for side in [left, right] {
+            for group in side.chunks(per_main) {
+                d.run(source, plant[group[0]], main.clone());
+                for w in group.windows(2) {
+                    d.run(plant[w[0]], plant[w[1]], main.clone());
+                }
+            }
         }
         below = plant;
     }
