@@ -10,6 +10,9 @@ use flowrise_core::project::{LevelId, Project};
 /// Where each level is drawn: (level, y on screen).
 pub type Bands = Vec<(LevelId, f32)>;
 
+/// Horizontal room a riser's size label needs beside it, px.
+const SIZE_LABEL_ROOM_PX: f32 = 44.0;
+
 /// The level drawn nearest to `y`, within half the spacing to its
 /// neighbours (at least 6 points).
 #[must_use]
@@ -109,6 +112,13 @@ pub fn draw(
     let x_of = |x: f64| {
         if x_max > x_min { left + ((x - x_min) / x_span) as f32 * (right - left) } else { right }
     };
+    // Sizes beside every riser only when the risers stand far enough apart
+    // for a label; else beside the rightmost one alone (labels of risers a
+    // few points apart would print over each other).
+    let mut distinct: Vec<f32> = xs.iter().map(|&x| x_of(x)).collect();
+    distinct.sort_by(f32::total_cmp);
+    distinct.dedup_by(|a, b| (*a - *b).abs() < 0.5);
+    let room_for_all = distinct.windows(2).all(|w| w[1] - w[0] >= SIZE_LABEL_ROOM_PX);
     let limit = project.settings.gradient_limit_pa_m;
     for (r, a, b) in vertical {
         let x = x_of(a.pos.x_m);
@@ -123,6 +133,7 @@ pub fn draw(
         // The size where there is room for it (a riser a level high in a
         // tall building is a few points long).
         if (ya - yb).abs() >= 14.0
+            && (room_for_all || a.pos.x_m >= x_max)
             && let Some(p) = sol.run_pipes(r.id).find(|p| p.side == Side::Supply)
         {
             painter.text(
