@@ -461,10 +461,9 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     if let Some(pump) = &sol.pump {
         let head_kpa = (pump.duty_head_pa / 1000.0).max(1.0);
         let q = pump.design_flow_m3_h.max(0.01);
-        let z_src = project.elevation_m(source);
-        let z_max = project.nodes().map(|n| project.elevation_m(n.id)).fold(z_src, f64::max);
+        let static_height_m = project.static_height_above_m(source);
         let mut file = project.to_file();
-        file.settings.safety_valve_bar = safety_valve_for(z_max - z_src + 1.0, file.settings.fill_temperature_c);
+        file.settings.safety_valve_bar = safety_valve_for(static_height_m, file.settings.fill_temperature_c);
         if let Some(n) = file.nodes.iter_mut().find(|n| n.id == source) {
             n.kind = source_kind(total_load_w, pump_curve(q, head_kpa), head_kpa);
         }
@@ -482,7 +481,7 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
 /// says so.
 fn safety_valve_for(static_height_m: f64, fill_temperature_c: f64) -> f64 {
     let rho = crate::water::density_kg_m3(fill_temperature_c).unwrap_or(1000.0);
-    let p0 = rho * crate::network::GRAVITY_M_S2 * static_height_m / 1e5 + vessel::DEFAULT_PRECHARGE_MARGIN_BAR;
+    let p0 = vessel::static_pressure_bar(static_height_m, rho) + vessel::DEFAULT_PRECHARGE_MARGIN_BAR;
     let last = SAFETY_VALVE_STEPS_BAR[SAFETY_VALVE_STEPS_BAR.len() - 1];
     SAFETY_VALVE_STEPS_BAR
         .into_iter()

@@ -133,6 +133,13 @@ pub fn final_pressure_bar(safety_valve_set_pressure_bar: f64) -> PhysicsResult<f
     Ok(if p_sv <= 5.0 { p_sv - 0.5 } else { 0.9 * p_sv })
 }
 
+/// Static pressure of `static_height_m` of water at `density_kg_m3`, bar:
+/// p_st = ρ·g·h.
+#[must_use]
+pub fn static_pressure_bar(static_height_m: f64, density_kg_m3: f64) -> f64 {
+    density_kg_m3 * G_M_S2 * static_height_m / PA_PER_BAR
+}
+
 /// Expansion coefficient between two temperatures, fraction:
 /// e = ρ(θ_low)/ρ(θ_high) − 1, densities from [`crate::water::density_kg_m3`].
 ///
@@ -187,7 +194,7 @@ pub fn size_expansion_vessel(input: &VesselInput) -> PhysicsResult<VesselSizing>
     let e = expansion_coefficient(t_fill, t_max)?;
     let expansion_volume_l = e * v_l;
     let water_reserve_l = (WATER_RESERVE_SHARE * v_l).max(WATER_RESERVE_MIN_L);
-    let static_pressure_bar = density_fill_kg_m3 * G_M_S2 * h_m / PA_PER_BAR;
+    let static_pressure_bar = static_pressure_bar(h_m, density_fill_kg_m3);
     let p0 = static_pressure_bar + margin;
     if p_e <= p0 {
         return Err(PhysicsError::Inconsistent(format!(

@@ -545,9 +545,7 @@ pub(super) fn size_vessel(
     water_volume_l: f64,
 ) -> crate::error::PhysicsResult<vessel::VesselSizing> {
     let s = &p.settings;
-    let z_src = p.elevation_m(source);
-    let z_max = p.nodes().map(|n| p.elevation_m(n.id)).fold(z_src, f64::max);
-    let static_height = s.static_height_m.unwrap_or(z_max - z_src + 1.0);
+    let static_height = s.static_height_m.unwrap_or_else(|| p.static_height_above_m(source));
     let max_flow_c = match p.node(source).map(|n| &n.kind) {
         Some(NodeKind::Source(src)) => src.max_flow_temperature_c(s.supply_c),
         _ => s.supply_c + crate::project::DEFAULT_MAX_FLOW_ABOVE_DESIGN_K,

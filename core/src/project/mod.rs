@@ -531,6 +531,17 @@ impl Project {
         self.node(id).and_then(|n| self.level(n.level)).map_or(0.0, |l| l.elevation_m)
     }
 
+    /// Static height of the system above a vessel at `source`, m: from the
+    /// source's level to the highest node, plus 1 m for the radiators and
+    /// vents above their level (what the design takes when
+    /// `settings.static_height_m` is not set).
+    #[must_use]
+    pub fn static_height_above_m(&self, source: NodeId) -> f64 {
+        let z_src = self.elevation_m(source);
+        let z_max = self.nodes().map(|n| self.elevation_m(n.id)).fold(z_src, f64::max);
+        z_max - z_src + 1.0
+    }
+
     /// Drawn length of a run: plan polyline plus the height between the
     /// levels of its ends, m (before any override).
     #[must_use]
