@@ -377,9 +377,56 @@ fn on_path(program: &str) -> bool {
     std::env::var_os("PATH").is_some_and(|p| std::env::split_paths(&p).any(|d| d.join(program).is_file()))
 }
 
+/// A private X server for one test. `Xvfb -displayfd` picks a free display
+/// number itself and writes it once the server accepts connections, so two
+/// servers started at once cannot race for one number and no client connects
+/// before the server is up (`xvfb-run -a` guesses the number from lock files
+/// and a CI run once found no server behind it).
+struct VirtualDisplay {
+    child: std::process::Child,
+    display: String,
+}
+
+impl VirtualDisplay {
+    fn start(dir: &std::path::Path) -> Result<Self, String> {
+        use std::io::BufRead;
+        let log = dir.join("xvfb.log");
+        let stderr = std::fs::File::create(&log).map_err(|e| format!("{}: {e}", log.display()))?;
+        let mut child = std::process::Command::new("Xvfb")
+            .args(["-displayfd", "1", "-screen", "0", "1280x800x24", "-nolisten", "tcp"])
+            .stdout(std::process::Stdio::piped())
+            .stderr(stderr)
+            .spawn()
+            .map_err(|e| format!("Xvfb did not start: {e}"))?;
+        let stdout = child.stdout.take().ok_or("Xvfb has no stdout")?;
+        let (tx, rx) = std::sync::mpsc::channel();
+        std::thread::spawn(move || {
+            let mut line = String::new();
+            let _ = std::io::BufReader::new(stdout).read_line(&mut line);
+            let _ = tx.send(line);
+        });
+        let number = rx.recv_timeout(std::time::Duration::from_secs(30)).unwrap_or_default();
+        let number = number.trim();
+        if number.is_empty() || !number.chars().all(|c| c.is_ascii_digit()) {
+            let _ = child.kill();
+            let _ = child.wait();
+            let why = std::fs::read_to_string(&log).unwrap_or_default();
+            return Err(format!("Xvfb gave no display number within 30 s: {}", why.trim()));
+        }
+        Ok(Self { child, display: format!(":{number}") })
+    }
+}
+
+impl Drop for VirtualDisplay {
+    fn drop(&mut self) {
+        let _ = self.child.kill();
+        let _ = self.child.wait();
+    }
+}
+
 /// Issue 16: `flowrise FILE` opens FILE. Without a display the file is
 /// still read first: a missing or broken file is named with exit 2, a good
-/// one reaches the "no display" message. Under Xvfb (when `xvfb-run` and
+/// one reaches the "no display" message. Under Xvfb (when `Xvfb` and
 /// `xdotool` are installed) the real window opens with the project's name
 /// in its title.
 #[test]
@@ -399,28 +446,39 @@ fn cli_flowrise_file_opens_the_file() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("no display found"), "the file loaded, then no display");
 
-    if !(on_path("xvfb-run") && on_path("xdotool")) {
-        eprintln!("notice: xvfb-run or xdotool missing; the real window is not opened");
+    if !(on_path("Xvfb") && on_path("xdotool")) {
+        eprintln!("notice: Xvfb or xdotool missing; the real window is not opened");
         std::fs::remove_dir_all(&dir).ok();
         return;
     }
     let name = flowrise_core::project::Project::load(&demo).unwrap().name;
+    let xvfb = match VirtualDisplay::start(&dir) {
+        Ok(x) => x,
+        Err(why) => {
+            eprintln!("notice: no virtual display ({why}); the real window is not opened");
+            std::fs::remove_dir_all(&dir).ok();
+            return;
+        }
+    };
     let script = format!(
-        "for i in $(seq 1 40); do xdotool getdisplaygeometry >/dev/null 2>&1 && break; sleep 0.25; done; \
-         '{bin}' '{file}' & pid=$!; found=1; for i in $(seq 1 120); do \
+        "'{bin}' '{file}' & pid=$!; found=1; for i in $(seq 1 120); do \
          if xdotool search --name 'flat-six-radiators.ron' >/dev/null 2>&1; then \
          xdotool getwindowname $(xdotool search --name 'flat-six-radiators.ron' | head -n1); found=0; break; fi; \
          sleep 0.5; done; kill $pid; wait $pid 2>/dev/null; exit $found",
         bin = env!("CARGO_BIN_EXE_flowrise"),
         file = demo.display()
     );
-    let out = std::process::Command::new("xvfb-run")
-        .args(["-a", "-s", "-screen 0 1280x800x24 -nolisten tcp", "bash", "-c", &script])
+    let out = std::process::Command::new("bash")
+        .args(["-c", &script])
+        .env("DISPLAY", &xvfb.display)
+        .env_remove("WAYLAND_DISPLAY")
+        .env_remove("XAUTHORITY")
         .env("XDG_CONFIG_HOME", &dir)
         .env("XDG_DATA_HOME", &dir)
         .env("FLOWRISE_RECOVERY_DIR", dir.join("recovery"))
         .output()
         .unwrap();
+    drop(xvfb);
     let title = String::from_utf8_lossy(&out.stdout);
     eprintln!("window title under Xvfb: {}", title.trim());
     assert!(out.status.success(), "no window titled with the file: {title} {}", String::from_utf8_lossy(&out.stderr));
