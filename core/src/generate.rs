@@ -97,6 +97,14 @@ const MEAN_ROOM_LOAD_W: f64 = 1400.0;
 /// steps, so that the valve (not the lockshield) throttles a 300 W room
 /// behind a branch controller and keeps its authority.
 pub const VALVE_FAMILY: &str = "trv-demo-fine";
+/// Pressure-gradient limit of the pipes behind each branch's Δp controller
+/// in generated buildings, Pa/m (the general limit stays at its default).
+/// Chosen so that a ten-room branch's own pipes take about a third of the
+/// Δp its controller holds: the radiator valves keep an authority of about
+/// 0.5 inside the branch (common practice) and the rooms left open when
+/// half the others close see little more than their design Δp
+/// (docs/part-load.md has the figures that led to it).
+pub const CONTROLLED_GRADIENT_LIMIT_PA_M: f64 = 60.0;
 /// Safety valve set pressures the generator chooses from, bar (common
 /// practice: the usual set pressures of heating-system safety valves).
 pub const SAFETY_VALVE_STEPS_BAR: [f64; 6] = [3.0, 4.0, 5.0, 6.0, 8.0, 10.0];
@@ -298,6 +306,9 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     let mut settings = DesignSettings::default();
     MAIN_SERIES.clone_into(&mut settings.series.main);
     VALVE_FAMILY.clone_into(&mut settings.valve_family);
+    if spec.branch_devices == BranchDevices::DpControllers {
+        settings.controlled_gradient_limit_pa_m = Some(CONTROLLED_GRADIENT_LIMIT_PA_M);
+    }
     let mut rng = SplitMix64::new(spec.seed);
     let mut d = Draft { nodes: Vec::new(), runs: Vec::new(), next_node: 1, next_run: 1 };
     let levels: Vec<Level> = (0..spec.floors)

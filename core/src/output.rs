@@ -217,6 +217,7 @@ fn pipe_json(x: &PipeResult) -> Value {
         "flow_l_h": round(x.flow_l_h, 2),
         "velocity_m_s": round(x.velocity_m_s, 4),
         "velocity_limit_m_s": round(x.velocity_limit_m_s, 3),
+        "gradient_limit_pa_m": round(x.gradient_limit_pa_m, 1),
         "gradient_pa_m": round(x.gradient_pa_m, 2),
         "dp_kpa": round(x.dp_pa / 1000.0, 4),
         "zeta": round(x.zeta, 3),

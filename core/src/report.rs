@@ -154,6 +154,9 @@ fn conditions(h: &mut String, p: &Project, sol: &Solution, parts: &PartsList) {
         ),
     );
     kv_row(h, "Pressure-gradient limit", &format!("{:.0} Pa/m (common practice)", s.gradient_limit_pa_m));
+    if let Some(g) = s.controlled_gradient_limit_pa_m {
+        kv_row(h, "Pressure-gradient limit behind Δp controllers", &format!("{g:.0} Pa/m"));
+    }
     kv_row(h, "Pump head margin", &format!("{:.0} % (common practice)", s.head_margin_fraction * 100.0));
     kv_row(h, "Minimum index-valve Δp", &format!("{:.1} kPa (common practice)", s.min_valve_dp_pa / 1000.0));
     kv_row(h, "Fill temperature", &format!("{:.1} °C", s.fill_temperature_c));
@@ -638,8 +641,14 @@ fn methods(h: &mut String, p: &Project, parts: &PartsList) {
             "Pipe sizing",
             format!(
                 "The smallest size of the series meeting the velocity limit of the pipe's class and the pressure-gradient limit \
-                 {:.0} Pa/m (both common practice; lower velocities next to rooms for noise).",
-                p.settings.gradient_limit_pa_m
+                 {:.0} Pa/m (both common practice; lower velocities next to rooms for noise){}.",
+                p.settings.gradient_limit_pa_m,
+                p.settings.controlled_gradient_limit_pa_m.map_or_else(String::new, |g| format!(
+                    "; inside a branch held by a Δp controller (its run and everything it feeds) {:.0} Pa/m, so that the \
+                     branch's own pipes stay a small share of the Δp the controller holds and the valves keep their authority \
+                     when other rooms close",
+                    g.min(p.settings.gradient_limit_pa_m)
+                ))
             ),
         ),
         (

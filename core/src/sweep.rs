@@ -477,7 +477,7 @@ fn point_at(
         emitters,
         flow_l_h: pump.map_or(0.0, |x| if frozen { x.operating_flow_m3_h } else { x.design_flow_m3_h } * 1000.0),
         pump_head_kpa: pump.map_or(0.0, |x| x.duty_head_pa / 1000.0),
-        system: system_constraint(&q, &sol),
+        system: system_constraint(&sol),
     }
 }
 
@@ -497,7 +497,7 @@ fn emitter_constraint(p: &Project, id: NodeId, supply_c: f64, frozen: bool) -> L
 /// A network limit the design at this temperature breaks: the pump's head
 /// (the index room), a pipe over its velocity or gradient limit (the
 /// largest room it feeds).
-fn system_constraint(p: &Project, sol: &Solution) -> Option<(LimitingConstraint, String, String)> {
+fn system_constraint(sol: &Solution) -> Option<(LimitingConstraint, String, String)> {
     let pump_short = sol.findings.iter().any(|f| {
         matches!(f.kind, FindingKind::PumpTooWeak | FindingKind::ValveCannotDeliver | FindingKind::KvAboveLargest)
     });
@@ -513,11 +513,10 @@ fn system_constraint(p: &Project, sol: &Solution) -> Option<(LimitingConstraint,
             .map_or_else(String::new, |n| n.to_string());
         return Some((LimitingConstraint::PumpHead, room, "pump".to_owned()));
     }
-    let gradient_limit = p.settings.gradient_limit_pa_m;
     let over = sol.pipes.iter().find_map(|pr| {
         if pr.velocity_m_s > pr.velocity_limit_m_s * 1.0001 {
             Some((LimitingConstraint::Velocity, pr))
-        } else if pr.gradient_pa_m > gradient_limit * 1.0001 {
+        } else if pr.gradient_pa_m > pr.gradient_limit_pa_m * 1.0001 {
             Some((LimitingConstraint::Gradient, pr))
         } else {
             None

@@ -186,7 +186,7 @@ pub fn show(
         body.set_clip_rect(rect.intersect(ui.clip_rect()));
         let ui = &mut body;
         match st.tab {
-            Tab::Pipes => pipes_table(ui, project, sol, out),
+            Tab::Pipes => pipes_table(ui, sol, out),
             Tab::Emitters => emitter_table::show(ui, project, sol, &mut st.table, out),
             Tab::Findings => {
                 ScrollArea::vertical().auto_shrink([false, false]).show(ui, |ui| findings_list(ui, sol, out));
@@ -327,8 +327,8 @@ fn virtual_table(
     });
 }
 
-fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents) {
-    const COLUMNS: [(&str, f32); 10] = [
+fn pipes_table(ui: &mut Ui, sol: &Solution, out: &mut Intents) {
+    const COLUMNS: [(&str, f32); 11] = [
         ("Run", 60.0),
         ("Side", 55.0),
         ("Class", 80.0),
@@ -338,9 +338,9 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
         ("v m/s", 55.0),
         ("v limit", 55.0),
         ("R Pa/m", 60.0),
+        ("R limit", 55.0),
         ("Δp kPa", 60.0),
     ];
-    let limit = project.settings.gradient_limit_pa_m;
     virtual_table(ui, "pipes_table", &COLUMNS, sol.pipes.len(), |ui, r, c| {
         let Some(p) = sol.pipes.get(r) else { return };
         match c {
@@ -376,8 +376,14 @@ fn pipes_table(ui: &mut Ui, project: &Project, sol: &Solution, out: &mut Intents
             }
             8 => {
                 let g = RichText::new(format!("{:.0}", p.gradient_pa_m));
-                let over = p.gradient_pa_m > limit && sol.has_finding(ItemRef::Run(p.run), &FindingKind::GRADIENT);
+                let over = p.gradient_pa_m > p.gradient_limit_pa_m
+                    && sol.has_finding(ItemRef::Run(p.run), &FindingKind::GRADIENT);
                 cell_label(ui, if over { g.color(theme::WARNING) } else { g });
+            }
+            9 => {
+                // The limit it was sized to: lower behind a Δp controller
+                // when the settings give one there.
+                cell_label(ui, format!("{:.0}", p.gradient_limit_pa_m));
             }
             _ => {
                 cell_label(ui, format!("{:.2}", p.dp_pa / 1000.0));

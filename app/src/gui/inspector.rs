@@ -776,7 +776,7 @@ fn run_results(ui: &mut Ui, sol: &Solution, id: RunId) {
         line("Length", &|p| format!("{:.2} m", p.length_m));
         line("Flow", &|p| format!("{:.0} l/h", p.flow_l_h));
         line("Velocity", &|p| format!("{:.2} m/s (≤ {:.1})", p.velocity_m_s, p.velocity_limit_m_s));
-        line("Gradient", &|p| format!("{:.0} Pa/m", p.gradient_pa_m));
+        line("Gradient", &|p| format!("{:.0} Pa/m (≤ {:.0})", p.gradient_pa_m, p.gradient_limit_pa_m));
         line("Δp", &|p| format!("{:.2} kPa", p.dp_pa / 1000.0));
         line("Water", &|p| format!("{:.0} °C", p.temperature_c));
     });

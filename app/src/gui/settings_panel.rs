@@ -66,6 +66,28 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState,
         ) {
             set(out, DesignSettings { gradient_limit_pa_m: v, ..s.clone() }, "set.grad");
         }
+        // Behind Δp controllers: the general limit, or an own (lower) one.
+        ui.label("Behind Δp controllers");
+        let mut own = s.controlled_gradient_limit_pa_m.is_some();
+        let toggled = ui
+            .checkbox(&mut own, "own gradient limit")
+            .on_hover_text(
+                "Size the pipes inside a branch held by a differential-pressure controller to a lower gradient, so \
+                 they stay a small share of the Δp it holds and the radiator valves keep their authority when other \
+                 rooms close",
+            )
+            .changed();
+        ui.end_row();
+        if toggled {
+            let g = own.then(|| (s.gradient_limit_pa_m * 0.5).max(L::GRADIENT_LIMIT_PA_M.min));
+            set(out, DesignSettings { controlled_gradient_limit_pa_m: g, ..s.clone() }, "set.cgrad");
+        }
+        if let Some(g0) = s.controlled_gradient_limit_pa_m
+            && let Some(v) =
+                fs.number(ui, "set.cgrad", "Gradient limit there", "Pa/m", g0, L::GRADIENT_LIMIT_PA_M.scaled(1.0), 0)
+        {
+            set(out, DesignSettings { controlled_gradient_limit_pa_m: Some(v), ..s.clone() }, "set.cgrad");
+        }
         if let Some(v) = fs.number(
             ui,
             "set.margin",

@@ -99,10 +99,10 @@ impl ColourBy {
 
     /// Scale value of one pipe (1 = at the limit).
     #[must_use]
-    pub fn pipe_value(self, p: &PipeResult, gradient_limit_pa_m: f64) -> f64 {
+    pub fn pipe_value(self, p: &PipeResult) -> f64 {
         match self {
             Self::VelocityMargin => p.velocity_m_s / p.velocity_limit_m_s.max(1e-9),
-            Self::Gradient => p.gradient_pa_m / gradient_limit_pa_m.max(1e-9),
+            Self::Gradient => p.gradient_pa_m / p.gradient_limit_pa_m.max(1e-9),
             Self::FlowDeviation => {
                 if p.design_flow_kg_s > 1e-12 {
                     (p.flow_kg_s / p.design_flow_kg_s - 1.0).abs() / Self::DEVIATION_FULL_SCALE
@@ -115,8 +115,8 @@ impl ColourBy {
 
     /// Scale value of a run: the worse of its supply and return pipes.
     #[must_use]
-    pub fn run_value(self, sol: &Solution, run: RunId, gradient_limit_pa_m: f64) -> Option<f64> {
-        sol.run_pipes(run).map(|p| self.pipe_value(p, gradient_limit_pa_m)).reduce(f64::max)
+    pub fn run_value(self, sol: &Solution, run: RunId) -> Option<f64> {
+        sol.run_pipes(run).map(|p| self.pipe_value(p)).reduce(f64::max)
     }
 }
 

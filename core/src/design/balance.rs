@@ -523,6 +523,7 @@ impl Derivation<'_> {
                 flow_l_h: 0.0,
                 velocity_m_s: 0.0,
                 velocity_limit_m_s: *s.velocity_limit_m_s.get(pd.class),
+                gradient_limit_pa_m: pd.gradient_limit_pa_m,
                 gradient_pa_m: 0.0,
                 dp_pa: 0.0,
                 link: pd.link,

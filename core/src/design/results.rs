@@ -93,6 +93,9 @@ pub struct PipeResult {
     pub velocity_m_s: f64,
     /// Velocity limit of its class, m/s.
     pub velocity_limit_m_s: f64,
+    /// Pressure-gradient limit it was sized to, Pa/m (the general limit,
+    /// or the lower one behind a Δp controller).
+    pub gradient_limit_pa_m: f64,
     /// Friction pressure gradient at operating flow, Pa/m.
     pub gradient_pa_m: f64,
     /// Total pressure drop (friction + local) at operating flow, Pa.

@@ -116,6 +116,41 @@ impl Derivation<'_> {
         self.size_devices();
     }
 
+    /// Per run slot ([`super::topology::Topology::rix`]): whether the run
+    /// lies in a branch held by a differential-pressure controller (the
+    /// controller's own run and every tree run below it). Empty when the
+    /// settings give no own limit there or the layout has no controller:
+    /// then no run is behind one for sizing purposes.
+    fn runs_behind_controllers(&self, s: &crate::project::DesignSettings) -> Vec<bool> {
+        if s.controlled_gradient_limit_pa_m.is_none_or(|g| g >= s.gradient_limit_pa_m) {
+            return Vec::new();
+        }
+        let mut behind = Vec::new();
+        let mut stack = Vec::new();
+        for dev in &self.devices {
+            if !matches!(dev.device, crate::project::BranchDevice::DpController { .. }) {
+                continue;
+            }
+            if behind.is_empty() {
+                behind = vec![false; self.topo.run_slots()];
+            }
+            let mut mark = |run: RunId| {
+                if let Some(b) = behind.get_mut(self.topo.rix(run)) {
+                    *b = true;
+                }
+            };
+            mark(dev.run);
+            stack.push(dev.down);
+            while let Some(n) = stack.pop() {
+                for tr in self.topo.children_of(n) {
+                    mark(tr.run);
+                    stack.push(tr.down);
+                }
+            }
+        }
+        behind
+    }
+
     /// Size every pipe (a run's fixed size where it has one).
     fn choose_sizes(
         &mut self,
@@ -126,9 +161,12 @@ impl Derivation<'_> {
         rp: WaterProperties,
     ) {
         let s = &p.settings;
+        let behind = self.runs_behind_controllers(s);
         for i in 0..self.pipes.len() {
             let pd = &self.pipes[i];
             let (run, side, class, link) = (pd.run, pd.side, pd.class, pd.link);
+            let gradient_limit_pa_m = s.gradient_limit_for(behind.get(self.topo.rix(run)).copied().unwrap_or(false));
+            self.pipes[i].gradient_limit_pa_m = gradient_limit_pa_m;
             let water = if side == Side::Supply { sp } else { rp };
             let series = match pipes::find_series(s.series.get(class)) {
                 Ok(x) => x,
@@ -142,7 +180,7 @@ impl Derivation<'_> {
                 mass_flow_kg_s: self.design_flows[link].abs(),
                 water,
                 velocity_limit_m_s: *s.velocity_limit_m_s.get(class),
-                gradient_limit_pa_m: s.gradient_limit_pa_m,
+                gradient_limit_pa_m,
             };
             let fixed = dn.run(run).and_then(|r| match side {
                 Side::Supply => r.props.fixed_size.clone(),

@@ -91,6 +91,10 @@ pub(super) struct PipeData {
     /// by the sizing stage; kept so the incremental path can rebuild the
     /// pipe's law after a change of geometry with the same arithmetic.
     pub(super) fitting_zeta: f64,
+    /// The pressure-gradient limit it was sized to, Pa/m (set by the
+    /// sizing stage: lower inside a branch held by a Δp controller when the
+    /// settings ask for it).
+    pub(super) gradient_limit_pa_m: f64,
 }
 
 impl PipeData {
@@ -273,6 +277,7 @@ impl<'f> Derivation<'f> {
             series: None,
             size: 0,
             fitting_zeta: 0.0,
+            gradient_limit_pa_m: 0.0,
         });
     }
 }

@@ -104,6 +104,15 @@ pub struct DesignSettings {
     /// Pressure-gradient limit for sizing, Pa/m. Default 150 Pa/m: common
     /// practice (100–200 Pa/m).
     pub gradient_limit_pa_m: f64,
+    /// Pressure-gradient limit for the pipes inside a branch held by a
+    /// differential-pressure controller (the controlled run and everything
+    /// it feeds), Pa/m; `None` = the general limit. A lower limit there
+    /// keeps the branch's own pipes a small share of the Δp the controller
+    /// holds, so the radiator valves keep their authority and the rooms
+    /// left open when others close see little more than their design Δp
+    /// (common practice: the valves' authority inside a controlled branch
+    /// about 0.5 or more).
+    pub controlled_gradient_limit_pa_m: Option<f64>,
     /// Pipe series id per class.
     pub series: PerClass<String>,
     /// Margin added to the index-circuit pressure drop for the pump head,
@@ -151,6 +160,7 @@ impl Default for DesignSettings {
             room_c: 20.0,
             velocity_limit_m_s: PerClass { main: 1.2, branch: 0.8, connection: 0.5 },
             gradient_limit_pa_m: 150.0,
+            controlled_gradient_limit_pa_m: None,
             series: PerClass {
                 main: "steel-en10255-medium".to_owned(),
                 branch: "multilayer-iso21003".to_owned(),
@@ -168,6 +178,19 @@ impl Default for DesignSettings {
             flow_tolerance_fraction: 0.10,
             hot_return_margin_k: 3.0,
             min_water_drop_k: crate::emitters::MIN_WATER_DELTA_K,
+        }
+    }
+}
+
+impl DesignSettings {
+    /// The pressure-gradient limit of a pipe, Pa/m: inside a branch held by
+    /// a differential-pressure controller the lower of the general limit
+    /// and [`Self::controlled_gradient_limit_pa_m`], else the general one.
+    #[must_use]
+    pub fn gradient_limit_for(&self, behind_controller: bool) -> f64 {
+        match self.controlled_gradient_limit_pa_m {
+            Some(g) if behind_controller => g.min(self.gradient_limit_pa_m),
+            _ => self.gradient_limit_pa_m,
         }
     }
 }
@@ -224,6 +247,11 @@ impl DesignSettings {
         }
         if !limits::GRADIENT_LIMIT_PA_M.contains(self.gradient_limit_pa_m) {
             bad("pressure gradient limit", outside(&limits::GRADIENT_LIMIT_PA_M, self.gradient_limit_pa_m));
+        }
+        if let Some(g) = self.controlled_gradient_limit_pa_m
+            && !limits::GRADIENT_LIMIT_PA_M.contains(g)
+        {
+            bad("gradient limit behind Δp controllers", outside(&limits::GRADIENT_LIMIT_PA_M, g));
         }
         if !limits::HEAD_MARGIN_FRACTION.contains(self.head_margin_fraction) {
             bad(

@@ -191,10 +191,9 @@ pub fn draw_circuits(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) 
 
 /// Draw the runs of the level; their labels go to `labels`.
 pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
-    let limit = s.project.settings.gradient_limit_pa_m;
     for (run, a, b) in s.project.runs_with_ends() {
         let Some(pts) = run_polyline_between(a, b, run, s.level, s.view) else { continue };
-        let value = s.colour_by.run_value(s.sol, run.id, limit);
+        let value = s.colour_by.run_value(s.sol, run.id);
         let (stroke, over) = theme::run_stroke(value, s.view.px_per_m);
         // Drawn as over the limit only with a finding behind it.
         let over = over && s.sol.has_finding(ItemRef::Run(run.id), s.colour_by.finding_kinds());

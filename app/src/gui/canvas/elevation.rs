@@ -119,11 +119,10 @@ pub fn draw(
     distinct.sort_by(f32::total_cmp);
     distinct.dedup_by(|a, b| (*a - *b).abs() < 0.5);
     let room_for_all = distinct.windows(2).all(|w| w[1] - w[0] >= SIZE_LABEL_ROOM_PX);
-    let limit = project.settings.gradient_limit_pa_m;
     for (r, a, b) in vertical {
         let x = x_of(a.pos.x_m);
         let (ya, yb) = (y_of(project.elevation_m(a.id)), y_of(project.elevation_m(b.id)));
-        let value = colour_by.run_value(sol, r.id, limit);
+        let value = colour_by.run_value(sol, r.id);
         let (stroke, _) = theme::run_stroke(value, 40.0);
         painter.line_segment([pos2(x, ya), pos2(x, yb)], Stroke::new(stroke.width + 2.0, theme::CASING));
         painter.line_segment([pos2(x, ya), pos2(x, yb)], stroke);
