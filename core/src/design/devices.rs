@@ -17,7 +17,9 @@
 //!   rounds): *regulating* — its resistance is set so that the branch's Δp
 //!   equals what it holds at its opening (its proportional law), estimated
 //!   from the last solve with the outside pressure difference and the
-//!   branch's quadratic law, then solved again; *saturated* — fully open at
+//!   branch's quadratic law (`held_resistance`), then solved again, the
+//!   rounds' steps mixed by Anderson acceleration (`super::accel`);
+//!   *saturated* — fully open at
 //!   Kvs when the pump leaves less than that (a finding names the missing
 //!   Δp); *closed* — when its branch draws nothing. The states are checked
 //!   for consistency when the loop ends.
@@ -291,17 +293,42 @@ impl Derivation<'_> {
             if (branch - target).abs() <= tol || (at_kvs && branch < target) {
                 continue;
             }
-            // The branch's flow follows √Δp; the device takes the rest of
-            // the outside difference at that flow.
-            let m_new = m * (target.max(1.0) / branch.max(1.0)).sqrt();
-            let dp_dev = outside - target;
-            let r_new = if dp_dev > 0.0 { (dp_dev / (m_new * m_new)).max(r_kvs) } else { r_kvs };
+            let r_new = held_resistance(f, dev.setpoint_pa, m, branch, outside, rho).max(r_kvs);
             if (r_new - r).abs() > 1e-12 * r.max(1.0) {
                 self.net.links[dev.link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r_new };
                 settled = false;
             }
         }
         settled
+    }
+
+    /// The regulating controllers' log-resistances, in device order (the
+    /// iterate of the outer loop, see [`super::accel`]).
+    pub(super) fn controller_log_r(&self) -> Vec<f64> {
+        self.devices
+            .iter()
+            .filter(|d| d.controller.is_some())
+            .filter_map(|d| match self.net.links[d.link].law {
+                LinkLaw::Quadratic { r_pa_s2_kg2 } => Some(r_pa_s2_kg2.max(f64::MIN_POSITIVE).ln()),
+                LinkLaw::Pipe(_) | LinkLaw::Pump { .. } => None,
+            })
+            .collect()
+    }
+
+    /// Set the controllers' resistances from log-resistances in the order
+    /// of [`Self::controller_log_r`], none below its resistance at Kvs.
+    pub(super) fn set_controller_log_r(&mut self, x: &[f64]) {
+        let Some(rp) = self.return_props else { return };
+        let mut values = x.iter();
+        for d in &self.devices {
+            let Some(f) = d.controller else { continue };
+            let law = &mut self.net.links[d.link].law;
+            if !matches!(law, LinkLaw::Quadratic { .. }) {
+                continue;
+            }
+            let Some(&v) = values.next() else { return };
+            *law = LinkLaw::Quadratic { r_pa_s2_kg2: v.exp().max(r_of(f.kvs_m3_h, rp.density_kg_m3)) };
+        }
     }
 
     /// The devices' operating results, their states and findings.
@@ -351,6 +378,70 @@ impl Derivation<'_> {
             }
         }
     }
+}
+
+/// The controller's resistance at which it holds what its law asks, with
+/// the outside difference `outside_pa` (branch + controller) as it stands
+/// and the branch a quadratic resistance through its present point
+/// (`m_kg_s` at `branch_pa`), Pa·s²/kg².
+///
+/// Solves B = Δp_held(Kv(B)) for the branch's Δp B, where the branch then
+/// passes m(B) = m·√(B / branch) and the controller takes the rest,
+/// Kv(B) from r = (outside − B) / m(B)²: the proportional band (the held Δp
+/// rises as the controller closes) is inside the equation, so one round
+/// lands where the controller's law and the branch agree, not where the
+/// old opening's set-point was. B − Δp_held is increasing in B (a larger B
+/// opens the controller, which lowers what it holds), so a bracketed
+/// Newton iteration finds the root. When even fully open (Kv ≥ Kvs) the
+/// branch would get less than the set-point, returns 0 (the caller clamps
+/// to the resistance at Kvs).
+fn held_resistance(
+    f: &crate::controllers::DpControllerFamily,
+    setpoint_pa: f64,
+    m_kg_s: f64,
+    branch_pa: f64,
+    outside_pa: f64,
+    rho: f64,
+) -> f64 {
+    let (o, b0) = (outside_pa, branch_pa.max(1e-9));
+    if o <= 0.0 {
+        return 0.0;
+    }
+    // kv(B) = a · √(B / (O − B)), with a = √(K)·c and r = K / kv².
+    let k = valves::PA_PER_BAR * 3600.0 * 3600.0 / (valves::RHO_REF_KG_M3 * rho);
+    let c2 = m_kg_s * m_kg_s / b0; // m² per Pa of branch Δp
+    let a = (k * c2).sqrt();
+    let kvs = f.kvs_m3_h;
+    let band = f.proportional_band_kpa * 1000.0;
+    // Fully open at B_open (kv = Kvs); there the controller holds its
+    // set-point.
+    let b_open = o * kvs * kvs / (a * a + kvs * kvs);
+    if b_open <= setpoint_pa {
+        return 0.0;
+    }
+    let g = |b: f64| -> (f64, f64) {
+        let ratio = b / (o - b);
+        let kv = a * ratio.sqrt();
+        let held = setpoint_pa + band * (1.0 - kv / kvs);
+        let dkv = 0.5 * a / ratio.sqrt() * o / ((o - b) * (o - b));
+        (b - held, 1.0 + band / kvs * dkv)
+    };
+    let (mut lo, mut hi) = (0.0, b_open);
+    let mut b = b0.clamp(0.5 * b_open.min(setpoint_pa), b_open);
+    for _ in 0..60 {
+        let (gb, dg) = g(b);
+        if gb.abs() <= 1e-9 * setpoint_pa.max(1.0) {
+            break;
+        }
+        if gb > 0.0 {
+            hi = b;
+        } else {
+            lo = b;
+        }
+        let step = b - gb / dg;
+        b = if step > lo && step < hi && dg.is_finite() { step } else { 0.5 * (lo + hi) };
+    }
+    (o - b) / (c2 * b)
 }
 
 /// Effective Kv of a quadratic resistance, m³/h (inverse of

@@ -26,6 +26,7 @@
 //! supply and return temperatures; no heat loss from pipes; supply
 //! temperature at every emitter = source supply temperature.
 
+mod accel;
 mod balance;
 mod cache;
 mod circuits;

@@ -109,6 +109,7 @@ impl Derivation<'_> {
         sol.timings.solver_runs = 0;
         let mut start = initial.to_vec();
         let mut rounds = 0;
+        let mut accel = super::accel::Anderson::default();
         let report = loop {
             let settings = if tight { &opts.solver } else { &loose };
             let report = match solver::solve(&self.net, settings, &mut solver_ws, Some(&start)) {
@@ -130,9 +131,12 @@ impl Derivation<'_> {
                 loose_allowed = false;
                 continue;
             }
+            let x = self.controller_log_r();
             if self.regulate(&report.flows_kg_s, &report.pressures_pa) {
                 break report;
             }
+            let next = accel.step(x, self.controller_log_r());
+            self.set_controller_log_r(&next);
             rounds += 1;
             if rounds > super::devices::MAX_REGULATION_ROUNDS {
                 self.findings.push(findings::regulation_not_settled(rounds - 1));
