@@ -9,7 +9,8 @@
 //! Run: `cargo run --release -p flowrise-core --example drag_timing -- [floors] [per_floor] [repeat] [source]`
 //! (defaults 20 × 500 = 10,000 emitters, 15 repeats; `source` moves the
 //! heat source instead of the first emitter; `DRAG_STEP_M` sets the step,
-//! default 0.05 m). A profiling aid, not
+//! default 0.05 m; `MATCHED=1` solves with matched physics, as the
+//! side-by-side with EPANET does). A profiling aid, not
 //! a benchmark: the recorded figures come from criterion
 //! (`cargo bench -p flowrise-core --bench pipeline`).
 
@@ -36,7 +37,7 @@ fn main() {
     let per_floor = args.get(1).copied().unwrap_or(500);
     let repeat = args.get(2).copied().unwrap_or(15) as usize;
     let mut p = generate_building(&BuildingSpec::new(floors, per_floor)).expect("generate");
-    let opts = SolveOptions::default();
+    let opts = SolveOptions { matched_physics: std::env::var_os("MATCHED").is_some(), ..SolveOptions::default() };
     // `source` as a fourth argument moves the heat source (its mains)
     // instead of the first emitter.
     let source = std::env::args().nth(4).is_some_and(|a| a == "source");
