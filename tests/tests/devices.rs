@@ -125,6 +125,32 @@ fn pipes_behind_a_controller_are_sized_to_their_own_gradient_limit() {
     assert!(bad.problems().iter().any(|pr| pr.field == "gradient limit behind Δp controllers"));
 }
 
+/// A branch that needs less than the lowest set-point of its controller's
+/// model: the controller is set to its lowest, which is a note (the
+/// branch's valves are trimmed against what it then holds and every room
+/// still gets its flow), not a warning; a branch needing more than the
+/// model's highest stays a warning.
+#[test]
+fn a_set_point_below_the_models_range_is_a_note_and_the_rooms_get_their_flows() {
+    // DN50 (demo): set-points 10–80 kPa; the four-room branch needs ~6 kPa.
+    let device = BranchDevice::DpController { family: Some("dpc-demo-dn50".to_owned()), setpoint_kpa: None };
+    let (p, run) = branch_project(device);
+    let sol = solve(&p);
+    let f = sol.findings.iter().find(|f| f.kind == FindingKind::SetpointOutOfRange).expect("a set-point finding");
+    assert_eq!(f.severity, flowrise_core::design::Severity::Note, "{}", f.message);
+    assert_eq!(f.item, flowrise_core::design::ItemRef::Run(run));
+    assert!(f.message.contains("10.0 kPa"), "{}", f.message);
+    assert!((sol.devices[0].setpoint_kpa - 10.0).abs() < 1e-9);
+    for e in &sol.emitters {
+        assert!(e.flow_within_tolerance, "{}: {:+.1} %", e.id, e.flow_deviation * 100.0);
+    }
+    assert!(
+        !sol.findings.iter().any(|f| f.severity == flowrise_core::design::Severity::Warning),
+        "{:#?}",
+        sol.findings
+    );
+}
+
 /// Issue 17 acceptance: with the pump head ±30 % around a set-point with
 /// reserve (1.5 × the design duty: at the duty itself the index branch's
 /// controller is already fully open, as designed), the branch behind the

@@ -239,7 +239,9 @@ impl Derivation<'_> {
                     };
                     let lo = f.setpoint_min_kpa * 1000.0;
                     let hi = f.setpoint_max_kpa * 1000.0;
-                    if !(lo..=hi).contains(&sp_pa) {
+                    if sp_pa < lo {
+                        self.findings.push(findings::setpoint_below_range(dev.run, &f.name, sp_pa, lo));
+                    } else if sp_pa > hi {
                         self.findings.push(findings::setpoint_out_of_range(dev.run, &f.name, sp_pa, lo, hi));
                     }
                     let sp_pa = sp_pa.clamp(lo, hi);

@@ -145,6 +145,25 @@ pub(crate) fn setpoint_out_of_range(run: RunId, family: &str, sp_pa: f64, lo_pa:
     )
 }
 
+/// The design's set-point below the model's range: the controller is set to
+/// its lowest and holds a little more than its branch needs; the branch's
+/// valves are trimmed against what it holds, so its rooms still get their
+/// flows (a note, not a warning).
+pub(crate) fn setpoint_below_range(run: RunId, family: &str, sp_pa: f64, lo_pa: f64) -> Finding {
+    Finding::note(
+        FindingKind::SetpointOutOfRange,
+        ItemRef::Run(run),
+        format!(
+            "run {run}: the branch needs a Δp controller set-point of {:.1} kPa, below the lowest {:.1} kPa of {family}; \
+             it is set to {:.1} kPa and the branch's valves take the extra {:.1} kPa",
+            sp_pa / 1000.0,
+            lo_pa / 1000.0,
+            lo_pa / 1000.0,
+            (lo_pa - sp_pa) / 1000.0
+        ),
+    )
+}
+
 pub(crate) fn controller_saturated(run: RunId, family: &str, target_pa: f64, held_pa: f64) -> Finding {
     Finding::warning(
         FindingKind::ControllerSaturated,
