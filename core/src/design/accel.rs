@@ -23,7 +23,7 @@ use std::collections::VecDeque;
 
 /// Rounds of history mixed (small depths suffice for linearly converging
 /// iterations, Walker & Ni; with 3 the generated 10,000-emitter building's
-/// loop takes 7 solves instead of 15).
+/// loop takes 7 solves instead of 16).
 const DEPTH: usize = 3;
 /// Largest change of a log-resistance the mixed step may make beyond the
 /// plain one (a factor e² on the resistance); beyond it the plain step is
