@@ -444,6 +444,39 @@ fn a_return_temperature_above_supply_is_refused_beside_the_field() {
     assert!(h.query_by_label_contains("must be below supply").is_some(), "the refusal is shown beside the field");
 }
 
+/// The own gradient limit behind Δp controllers: ticked it takes the
+/// generated buildings' 60 Pa/m and re-sizes the pipes behind the
+/// controllers (the pipes table's limit column follows); a value typed
+/// there is applied; unticked the general limit is back.
+#[test]
+fn the_gradient_limit_behind_controllers_is_set_from_the_settings() {
+    use flowrise_core::generate::{BuildingSpec, CONTROLLED_GRADIENT_LIMIT_PA_M, generate_building};
+    let mut file = generate_building(&BuildingSpec::new(2, 10)).unwrap().to_file();
+    file.settings.controlled_gradient_limit_pa_m = None;
+    let mut h = harness(Project::from_file(file).unwrap());
+    h.state_mut().select(Selection::None);
+    h.run();
+    let limits = |h: &Harness<'_, FlowriseApp>| -> Vec<f64> {
+        let mut v: Vec<f64> = h.state().solution().pipes.iter().map(|p| p.gradient_limit_pa_m).collect();
+        v.sort_by(f64::total_cmp);
+        v.dedup();
+        v
+    };
+    assert_eq!(limits(&h), vec![150.0]);
+    h.get_by_label("Design settings").click();
+    h.run();
+    h.get_by_label("own gradient limit").click();
+    h.run();
+    assert_eq!(h.state().project().settings.controlled_gradient_limit_pa_m, Some(CONTROLLED_GRADIENT_LIMIT_PA_M));
+    assert_eq!(limits(&h), vec![CONTROLLED_GRADIENT_LIMIT_PA_M, 150.0], "the pipes behind the controllers");
+    type_into(&mut h, "Gradient limit there", "80");
+    assert_eq!(h.state().project().settings.controlled_gradient_limit_pa_m, Some(80.0));
+    h.get_by_label("own gradient limit").click();
+    h.run();
+    assert_eq!(h.state().project().settings.controlled_gradient_limit_pa_m, None);
+    assert_eq!(limits(&h), vec![150.0]);
+}
+
 #[test]
 fn a_project_starts_from_a_building_outline() {
     let mut h = harness(Project::new("Empty"));

@@ -79,7 +79,13 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState,
             .changed();
         ui.end_row();
         if toggled {
-            let g = own.then(|| (s.gradient_limit_pa_m * 0.5).max(L::GRADIENT_LIMIT_PA_M.min));
+            // Ticked: the limit the generated buildings use (measured in
+            // docs/part-load.md), never above the general one.
+            let g = own.then(|| {
+                flowrise_core::generate::CONTROLLED_GRADIENT_LIMIT_PA_M
+                    .min(s.gradient_limit_pa_m)
+                    .max(L::GRADIENT_LIMIT_PA_M.min)
+            });
             set(out, DesignSettings { controlled_gradient_limit_pa_m: g, ..s.clone() }, "set.cgrad");
         }
         if let Some(g0) = s.controlled_gradient_limit_pa_m
