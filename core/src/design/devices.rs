@@ -304,32 +304,36 @@ impl Derivation<'_> {
         settled
     }
 
-    /// The regulating controllers' log-resistances, in device order (the
-    /// iterate of the outer loop, see [`super::accel`]).
+    /// The controllers whose link is a quadratic resistance (the ones the
+    /// outer loop regulates), in device order: their links, models and
+    /// present resistances.
+    fn regulated_links(
+        &self,
+    ) -> impl Iterator<Item = (usize, &'static crate::controllers::DpControllerFamily, f64)> + '_ {
+        self.devices.iter().filter_map(|d| match (d.controller, &self.net.links[d.link].law) {
+            (Some(f), &LinkLaw::Quadratic { r_pa_s2_kg2 }) => Some((d.link, f, r_pa_s2_kg2)),
+            _ => None,
+        })
+    }
+
+    /// The regulated controllers' log-resistances, in the order of
+    /// [`Self::regulated_links`] (the iterate of the outer loop, see
+    /// [`super::accel`]).
     pub(super) fn controller_log_r(&self) -> Vec<f64> {
-        self.devices
-            .iter()
-            .filter(|d| d.controller.is_some())
-            .filter_map(|d| match self.net.links[d.link].law {
-                LinkLaw::Quadratic { r_pa_s2_kg2 } => Some(r_pa_s2_kg2.max(f64::MIN_POSITIVE).ln()),
-                LinkLaw::Pipe(_) | LinkLaw::Pump { .. } => None,
-            })
-            .collect()
+        self.regulated_links().map(|(_, _, r)| r.max(f64::MIN_POSITIVE).ln()).collect()
     }
 
     /// Set the controllers' resistances from log-resistances in the order
     /// of [`Self::controller_log_r`], none below its resistance at Kvs.
     pub(super) fn set_controller_log_r(&mut self, x: &[f64]) {
         let Some(rp) = self.return_props else { return };
-        let mut values = x.iter();
-        for d in &self.devices {
-            let Some(f) = d.controller else { continue };
-            let law = &mut self.net.links[d.link].law;
-            if !matches!(law, LinkLaw::Quadratic { .. }) {
-                continue;
-            }
-            let Some(&v) = values.next() else { return };
-            *law = LinkLaw::Quadratic { r_pa_s2_kg2: v.exp().max(r_of(f.kvs_m3_h, rp.density_kg_m3)) };
+        let targets: Vec<(usize, f64)> = self
+            .regulated_links()
+            .zip(x)
+            .map(|((link, f, _), &v)| (link, v.exp().max(r_of(f.kvs_m3_h, rp.density_kg_m3))))
+            .collect();
+        for (link, r) in targets {
+            self.net.links[link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r };
         }
     }
 

@@ -126,7 +126,6 @@ impl Derivation<'_> {
             return Vec::new();
         }
         let mut behind = Vec::new();
-        let mut stack = Vec::new();
         for dev in &self.devices {
             if !matches!(dev.device, crate::project::BranchDevice::DpController { .. }) {
                 continue;
@@ -134,17 +133,11 @@ impl Derivation<'_> {
             if behind.is_empty() {
                 behind = vec![false; self.topo.run_slots()];
             }
-            let mut mark = |run: RunId| {
+            // The controller's run, then the run feeding each node below it.
+            let below = self.topo.subtree(dev.down).into_iter().skip(1).filter_map(|n| self.topo.parent_run_of(n));
+            for run in std::iter::once(dev.run).chain(below) {
                 if let Some(b) = behind.get_mut(self.topo.rix(run)) {
                     *b = true;
-                }
-            };
-            mark(dev.run);
-            stack.push(dev.down);
-            while let Some(n) = stack.pop() {
-                for tr in self.topo.children_of(n) {
-                    mark(tr.run);
-                    stack.push(tr.down);
                 }
             }
         }
