@@ -48,10 +48,15 @@
 //! H the duty head (invented demo data, constant-Δp control).
 //!
 //! Mains and risers are welded steel (`steel-en10220-welded`, DN15–DN800),
-//! so every run stays inside its velocity limit up to 50,000 emitters
-//! (50 levels × 1,000): a core riser then carries about 7 MW and the largest
-//! plant-level main about 35 MW — a campus-scale plant, generated to test
-//! and benchmark the engine at size, not a real building.
+//! so every run stays inside its velocity limit up to 200,000 emitters
+//! (25 levels × 8,000; 50 levels × 1,000 carries as much per core): a core
+//! riser then carries up to about 7 MW and the largest plant-level main
+//! about 35 MW — a campus-scale plant, generated to test and benchmark the
+//! engine at size, not a real building. Pipes are sized with a 2 % velocity
+//! reserve ([`VELOCITY_RESERVE_FRACTION`]) so that the operating flows, a
+//! little above design, keep the mains inside their limit too; the
+//! expansion vessel of such a plant is several vessels in parallel (a
+//! note, not a warning).
 //!
 //! Loads and sizes are demo data, not a real building.
 
@@ -105,6 +110,12 @@ pub const VALVE_FAMILY: &str = "trv-demo-fine";
 /// half the others close see little more than their design Δp
 /// (docs/part-load.md has the figures that led to it).
 pub const CONTROLLED_GRADIENT_LIMIT_PA_M: f64 = 60.0;
+/// Velocity sizing reserve of generated buildings, fraction of the limit
+/// ([`DesignSettings::velocity_reserve_fraction`]). Our choice: the
+/// operating flows of the 50,000-emitter building ran up to 0.25 % above
+/// design on its mains (docs/benchmarks.md), so mains sized right at their
+/// limit ended just over it; 2 % keeps them inside with room to spare.
+pub const VELOCITY_RESERVE_FRACTION: f64 = 0.02;
 /// Safety valve set pressures the generator chooses from, bar (common
 /// practice: the usual set pressures of heating-system safety valves).
 pub const SAFETY_VALVE_STEPS_BAR: [f64; 6] = [3.0, 4.0, 5.0, 6.0, 8.0, 10.0];
@@ -306,6 +317,7 @@ pub fn generate_building(spec: &BuildingSpec) -> PhysicsResult<Project> {
     let mut settings = DesignSettings::default();
     MAIN_SERIES.clone_into(&mut settings.series.main);
     VALVE_FAMILY.clone_into(&mut settings.valve_family);
+    settings.velocity_reserve_fraction = VELOCITY_RESERVE_FRACTION;
     if spec.branch_devices == BranchDevices::DpControllers {
         settings.controlled_gradient_limit_pa_m = Some(CONTROLLED_GRADIENT_LIMIT_PA_M);
     }
@@ -595,17 +607,14 @@ mod tests {
             .collect();
         assert_eq!(risers.len(), 3, "{risers:?}");
         // Every pipe within its class's velocity limit at the operating
-        // flow, but for the pump-head margin (operating flows run up to a
-        // few per cent above design under a constant-Δp pump).
+        // flow: the sizing reserve covers the operating flows' small excess
+        // over design.
         for pr in &sol.pipes {
-            assert!(
-                pr.velocity_m_s <= 1.03 * pr.velocity_limit_m_s,
-                "run {}: {} m/s in {}",
-                pr.run,
-                pr.velocity_m_s,
-                pr.size
-            );
+            assert!(pr.velocity_m_s <= pr.velocity_limit_m_s, "run {}: {} m/s in {}", pr.run, pr.velocity_m_s, pr.size);
         }
+        // No warning from the generator's own choices.
+        let warnings: Vec<_> = sol.findings.iter().filter(|f| f.severity != Severity::Note).collect();
+        assert!(warnings.is_empty(), "{warnings:#?}");
         // Operating flow close to the design flow: the presettings work.
         let pump = sol.pump.as_ref().unwrap();
         let design_m3_h = pump.design_flow_m3_h;

@@ -73,7 +73,7 @@ impl serde::Serialize for SolveJson<'_> {
 /// A sequence serialised from an iterator, one item at a time.
 struct Items<I>(I);
 
-impl<I: Iterator<Item = Value> + Clone> serde::Serialize for Items<I> {
+impl<I: Iterator<Item: serde::Serialize> + Clone> serde::Serialize for Items<I> {
     fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
         serializer.collect_seq(self.0.clone())
     }
@@ -177,51 +177,112 @@ fn device_json(d: &DeviceResult) -> Value {
     })
 }
 
-fn emitter_json(e: &EmitterResult) -> Value {
-    json!({
-        "id": e.id.to_string(),
-        "name": e.name,
-        "level": e.level,
-        "load_w": round(e.load_w, 1),
-        "room_c": round(e.room_c, 2),
-        "design_flow_l_h": round(e.design_flow_l_h, 2),
-        "flow_l_h": round(e.flow_l_h, 2),
-        "flow_deviation": round(e.flow_deviation, 5),
-        "supply_c": round(e.supply_c, 2),
-        "return_c": round(e.return_c, 2),
-        "design_return_c": round(e.design_return_c, 2),
-        "circuit_dp_kpa": round(e.circuit_dp_open_pa / 1000.0, 3),
-        "valve_dp_kpa": round(e.valve_dp_pa / 1000.0, 3),
-        "kv_needed_m3_h": round(e.kv_needed_m3_h, 4),
-        "presetting": e.presetting,
-        "valve_kv_m3_h": round(e.valve_kv_m3_h, 4),
-        "lockshield": e.lockshield,
-        "lockshield_kv_m3_h": round(e.lockshield_kv_m3_h, 4),
-        "lockshield_dp_kpa": round(e.lockshield_dp_pa / 1000.0, 3),
-        "flow_within_tolerance": e.flow_within_tolerance,
-        "authority": round(e.authority, 3),
-        "output_w": round(e.output_w, 1),
-        "closed": e.closed,
-    })
+/// An id written through its `Display`, without a `String` per item.
+struct Shown<T>(T);
+
+impl<T: std::fmt::Display> serde::Serialize for Shown<T> {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.collect_str(&self.0)
+    }
 }
 
-fn pipe_json(x: &PipeResult) -> Value {
-    json!({
-        "run": x.run.to_string(),
-        "side": match x.side { Side::Supply => "supply", Side::Return => "return" },
-        "class": x.class.name(),
-        "length_m": round(x.length_m, 3),
-        "series": x.series,
-        "size": x.size,
-        "inner_mm": round(x.inner_mm, 2),
-        "flow_l_h": round(x.flow_l_h, 2),
-        "velocity_m_s": round(x.velocity_m_s, 4),
-        "velocity_limit_m_s": round(x.velocity_limit_m_s, 3),
-        "gradient_limit_pa_m": round(x.gradient_limit_pa_m, 1),
-        "gradient_pa_m": round(x.gradient_pa_m, 2),
-        "dp_kpa": round(x.dp_pa / 1000.0, 4),
-        "zeta": round(x.zeta, 3),
-    })
+/// One emitter of the document, serialised straight from its result (no
+/// value tree per item). Fields in key order: the document's maps are
+/// sorted by key.
+#[derive(serde::Serialize)]
+struct EmitterJson<'a> {
+    authority: f64,
+    circuit_dp_kpa: f64,
+    closed: bool,
+    design_flow_l_h: f64,
+    design_return_c: f64,
+    flow_deviation: f64,
+    flow_l_h: f64,
+    flow_within_tolerance: bool,
+    id: Shown<crate::project::NodeId>,
+    kv_needed_m3_h: f64,
+    level: &'a str,
+    load_w: f64,
+    lockshield: &'a str,
+    lockshield_dp_kpa: f64,
+    lockshield_kv_m3_h: f64,
+    name: &'a str,
+    output_w: f64,
+    presetting: &'a str,
+    return_c: f64,
+    room_c: f64,
+    supply_c: f64,
+    valve_dp_kpa: f64,
+    valve_kv_m3_h: f64,
+}
+
+fn emitter_json(e: &EmitterResult) -> EmitterJson<'_> {
+    EmitterJson {
+        authority: round(e.authority, 3),
+        circuit_dp_kpa: round(e.circuit_dp_open_pa / 1000.0, 3),
+        closed: e.closed,
+        design_flow_l_h: round(e.design_flow_l_h, 2),
+        design_return_c: round(e.design_return_c, 2),
+        flow_deviation: round(e.flow_deviation, 5),
+        flow_l_h: round(e.flow_l_h, 2),
+        flow_within_tolerance: e.flow_within_tolerance,
+        id: Shown(e.id),
+        kv_needed_m3_h: round(e.kv_needed_m3_h, 4),
+        level: &e.level,
+        load_w: round(e.load_w, 1),
+        lockshield: &e.lockshield,
+        lockshield_dp_kpa: round(e.lockshield_dp_pa / 1000.0, 3),
+        lockshield_kv_m3_h: round(e.lockshield_kv_m3_h, 4),
+        name: &e.name,
+        output_w: round(e.output_w, 1),
+        presetting: &e.presetting,
+        return_c: round(e.return_c, 2),
+        room_c: round(e.room_c, 2),
+        supply_c: round(e.supply_c, 2),
+        valve_dp_kpa: round(e.valve_dp_pa / 1000.0, 3),
+        valve_kv_m3_h: round(e.valve_kv_m3_h, 4),
+    }
+}
+
+/// One pipe of the document (as [`EmitterJson`]).
+#[derive(serde::Serialize)]
+struct PipeJson {
+    class: &'static str,
+    dp_kpa: f64,
+    flow_l_h: f64,
+    gradient_limit_pa_m: f64,
+    gradient_pa_m: f64,
+    inner_mm: f64,
+    length_m: f64,
+    run: Shown<crate::project::RunId>,
+    series: &'static str,
+    side: &'static str,
+    size: &'static str,
+    velocity_limit_m_s: f64,
+    velocity_m_s: f64,
+    zeta: f64,
+}
+
+fn pipe_json(x: &PipeResult) -> PipeJson {
+    PipeJson {
+        class: x.class.name(),
+        dp_kpa: round(x.dp_pa / 1000.0, 4),
+        flow_l_h: round(x.flow_l_h, 2),
+        gradient_limit_pa_m: round(x.gradient_limit_pa_m, 1),
+        gradient_pa_m: round(x.gradient_pa_m, 2),
+        inner_mm: round(x.inner_mm, 2),
+        length_m: round(x.length_m, 3),
+        run: Shown(x.run),
+        series: x.series,
+        side: match x.side {
+            Side::Supply => "supply",
+            Side::Return => "return",
+        },
+        size: x.size,
+        velocity_limit_m_s: round(x.velocity_limit_m_s, 3),
+        velocity_m_s: round(x.velocity_m_s, 4),
+        zeta: round(x.zeta, 3),
+    }
 }
 
 /// A finding as one line of text: its message, led by its item ("N6: …")

@@ -49,6 +49,18 @@ pub const WATER_RESERVE_SHARE: f64 = 0.005;
 /// verified against the document).
 pub const WATER_RESERVE_MIN_L: f64 = 3.0;
 
+/// Largest single membrane expansion vessel the design counts on, l
+/// (common practice: the largest membrane vessels commonly made hold a few
+/// thousand litres; recalled from memory, not from a catalogue). A larger
+/// nominal volume is several vessels in parallel on one connection, or a
+/// pump-pressurisation unit ([`vessels_in_parallel`]).
+pub const LARGEST_MEMBRANE_VESSEL_L: f64 = 5000.0;
+
+/// Most system water volume the method accepts, l: a sanity bound on the
+/// input (10⁸ l is beyond the water any one heating network holds), not a
+/// limit of the method, whose volumes are proportional to the system's.
+pub const MAX_SYSTEM_VOLUME_L: f64 = 1.0e8;
+
 /// Highest fill temperature accepted, °C.
 pub const MAX_FILL_TEMPERATURE_C: f64 = 40.0;
 
@@ -157,6 +169,15 @@ pub fn expansion_coefficient(low_temperature_c: f64, high_temperature_c: f64) ->
     Ok(rho_low / rho_high - 1.0)
 }
 
+/// Number of membrane vessels of at most [`LARGEST_MEMBRANE_VESSEL_L`]
+/// that together give `nominal_volume_l` (at least one).
+#[must_use]
+pub fn vessels_in_parallel(nominal_volume_l: f64) -> u32 {
+    let n = (nominal_volume_l.max(0.0) / LARGEST_MEMBRANE_VESSEL_L).ceil();
+    // Saturates for absurd volumes; the input bound keeps n far below.
+    (n as u32).max(1)
+}
+
 /// Sizes the expansion vessel (EN 12828 annex D method; see the module
 /// documentation for which steps are the standard's and which are common
 /// practice).
@@ -170,7 +191,7 @@ pub fn expansion_coefficient(low_temperature_c: f64, high_temperature_c: f64) ->
 /// pressure or put the vessel higher).
 pub fn size_expansion_vessel(input: &VesselInput) -> PhysicsResult<VesselSizing> {
     let v_l = check::positive("system water volume", input.system_volume_l, "l")?;
-    check::in_range("system water volume", v_l, "l", 0.0, 1.0e6)?;
+    check::in_range("system water volume", v_l, "l", 0.0, MAX_SYSTEM_VOLUME_L)?;
     let t_fill = check::in_range(
         "fill temperature",
         input.fill_temperature_c,
@@ -284,6 +305,20 @@ mod tests {
     }
 
     #[test]
+    fn a_large_system_is_sized_like_a_small_one_and_split_into_vessels() {
+        // The method is linear in the system volume above the reserve's
+        // minimum: 10× the water, 10× the vessel (a campus-scale plant of
+        // 2 million litres as well as 200,000 l).
+        let small = size_expansion_vessel(&VesselInput::new(2.0e5, 70.0, 9.0, 3.0)).unwrap();
+        let large = size_expansion_vessel(&VesselInput::new(2.0e6, 70.0, 9.0, 3.0)).unwrap();
+        assert!(close(large.nominal_volume_l, 10.0 * small.nominal_volume_l, 1e-12));
+        assert_eq!(vessels_in_parallel(large.nominal_volume_l), (large.nominal_volume_l / 5000.0).ceil() as u32);
+        assert_eq!(vessels_in_parallel(120.0), 1);
+        assert_eq!(vessels_in_parallel(5000.0), 1);
+        assert_eq!(vessels_in_parallel(5000.1), 2);
+    }
+
+    #[test]
     fn final_pressure_rule() {
         assert!(close(final_pressure_bar(3.0).unwrap(), 2.5, 1e-12));
         assert!(close(final_pressure_bar(5.0).unwrap(), 4.5, 1e-12));
@@ -295,6 +330,9 @@ mod tests {
         let mut i = base();
         i.system_volume_l = -5.0;
         assert!(matches!(size_expansion_vessel(&i), Err(PhysicsError::NotPositive { .. })));
+        let mut i = base();
+        i.system_volume_l = 2.0 * MAX_SYSTEM_VOLUME_L;
+        assert!(matches!(size_expansion_vessel(&i), Err(PhysicsError::OutOfRange { .. })));
         let mut i = base();
         i.max_temperature_c = 120.0;
         assert!(matches!(size_expansion_vessel(&i), Err(PhysicsError::OutOfRange { .. })));

@@ -396,3 +396,29 @@ fn an_unsized_vessel_is_null_with_a_finding() {
     let json = serde_json::to_value(flowrise_core::output::SolveJson { project: &q, solution: &sol }).unwrap();
     assert!(json["totals"]["expansion_vessel_l"].as_f64().unwrap() > 0.0);
 }
+
+/// A system whose vessel is more than one membrane vessel holds is sized
+/// all the same (the method is linear in the volume) and says how to build
+/// it — a note, not a warning (EN 12828 annex D method; the 5,000 l largest
+/// single vessel is common practice).
+#[test]
+fn a_vessel_beyond_one_membrane_vessel_is_a_note_with_the_count() {
+    let mut p = small();
+    let src = node_id(&p, "Heat source");
+    let mut kind = p.node(src).unwrap().kind.clone();
+    if let NodeKind::Source(s) = &mut kind {
+        s.water_content_l = 300_000.0;
+    }
+    p.apply(Edit::SetNodeKind { id: src, kind }).unwrap();
+    let sol = solve(&p);
+    let v = sol.vessel.as_ref().expect("sized");
+    let n = flowrise_core::vessel::vessels_in_parallel(v.nominal_volume_l);
+    assert!(n >= 2, "{}", v.nominal_volume_l);
+    let f = sol.findings.iter().find(|f| f.kind == FindingKind::VesselsInParallel).expect("note");
+    assert_eq!(f.severity, flowrise_core::design::Severity::Note);
+    assert!(f.message.contains(&format!("{n} vessels in parallel")), "{}", f.message);
+    assert!(!sol.findings.iter().any(|f| f.kind == FindingKind::VesselNotSized));
+    // The small house's own vessel is one vessel: no note.
+    let sol = solve(&small());
+    assert!(!sol.findings.iter().any(|f| f.kind == FindingKind::VesselsInParallel));
+}

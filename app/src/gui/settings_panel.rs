@@ -57,6 +57,17 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, fs: &mut FieldState,
         }
         if let Some(v) = fs.number(
             ui,
+            "set.vreserve",
+            "Velocity sizing reserve",
+            "%",
+            s.velocity_reserve_fraction * 100.0,
+            L::VELOCITY_RESERVE_FRACTION.scaled(100.0),
+            1,
+        ) {
+            set(out, DesignSettings { velocity_reserve_fraction: v / 100.0, ..s.clone() }, "set.vreserve");
+        }
+        if let Some(v) = fs.number(
+            ui,
             "set.grad",
             "Gradient limit",
             "Pa/m",

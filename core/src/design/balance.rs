@@ -439,10 +439,7 @@ impl Derivation<'_> {
         let emitters_l: f64 =
             self.emitters.iter().filter_map(|e| e.design.as_ref()).map(|d| d.installed.water_content_l).sum();
         sol.water_volume_l = pipes_l + emitters_l + src.water_content_l;
-        match size_vessel(p, source, sol.water_volume_l) {
-            Ok(v) => sol.vessel = Some(v),
-            Err(e) => self.findings.push(findings::vessel_not_sized(&e)),
-        }
+        sol.vessel = size_vessel(p, source, sol.water_volume_l, self.findings);
     }
 
     /// Links of the circuit through emitter `i`: source, supply path,
@@ -540,11 +537,14 @@ impl Derivation<'_> {
 /// the source: static height from the source to the highest node (or as
 /// set), sized for the highest flow temperature the source can reach, not
 /// the design supply (the water expands that far).
+/// The expansion vessel for the source's system, with a finding when it
+/// cannot be sized or takes several vessels.
 pub(super) fn size_vessel(
     p: &Project,
     source: NodeId,
     water_volume_l: f64,
-) -> crate::error::PhysicsResult<vessel::VesselSizing> {
+    found: &mut Vec<findings::Finding>,
+) -> Option<vessel::VesselSizing> {
     let s = &p.settings;
     let static_height = s.static_height_m.unwrap_or_else(|| p.static_height_above_m(source));
     let max_flow_c = match p.node(source).map(|n| &n.kind) {
@@ -553,5 +553,17 @@ pub(super) fn size_vessel(
     };
     let mut input = vessel::VesselInput::new(water_volume_l, max_flow_c, static_height, s.safety_valve_bar);
     input.fill_temperature_c = s.fill_temperature_c;
-    vessel::size_expansion_vessel(&input)
+    match vessel::size_expansion_vessel(&input) {
+        Ok(v) => {
+            let n = vessel::vessels_in_parallel(v.nominal_volume_l);
+            if n > 1 {
+                found.push(findings::vessels_in_parallel(v.nominal_volume_l, v.expansion_volume_l, n));
+            }
+            Some(v)
+        }
+        Err(e) => {
+            found.push(findings::vessel_not_sized(&e));
+            None
+        }
+    }
 }

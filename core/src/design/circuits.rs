@@ -442,7 +442,9 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
         // circuit's vessel is the project's (sized below).
         let keep = |f: &&Finding| {
             let on_stand_in = matches!(f.item, ItemRef::Node(n) if mine.contains(&n));
-            let project_wide = k > 0 && matches!(f.kind, FindingKind::VesselNotSized | FindingKind::SourceCapacity);
+            // The vessel is sized once below, for the whole system's water.
+            let vessel = matches!(f.kind, FindingKind::VesselNotSized | FindingKind::VesselsInParallel);
+            let project_wide = vessel || (k > 0 && f.kind == FindingKind::SourceCapacity);
             !on_stand_in && !project_wide
         };
         found.extend(sol.findings.iter().filter(keep).cloned());
@@ -507,10 +509,7 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
     out.pipes.sort_by_key(|x| (x.run, x.side));
     out.heat_load_w = out.emitters.iter().map(|e| e.load_w).sum();
     if let Some(source) = topo.source {
-        match size_vessel(p, source, out.water_volume_l) {
-            Ok(v) => out.vessel = Some(v),
-            Err(e) => found.push(findings::vessel_not_sized(&e)),
-        }
+        out.vessel = size_vessel(p, source, out.water_volume_l, &mut found);
     }
     out.circuits = circuit_results;
     out.topology = topo;

@@ -32,6 +32,10 @@ use crate::network::LinkLaw;
 use crate::project::{BranchDevice, DesignSettings, Mode};
 use crate::valves::{self, ValveFamily, ValveKind};
 
+/// Half the step a Δp controller's set-point is shown and set in (0.1 kPa),
+/// Pa.
+const SETPOINT_HALF_STEP_PA: f64 = 50.0;
+
 /// Most regulation rounds (solves) of the controllers' outer loop.
 pub const MAX_REGULATION_ROUNDS: usize = 40;
 
@@ -239,7 +243,9 @@ impl Derivation<'_> {
                     };
                     let lo = f.setpoint_min_kpa * 1000.0;
                     let hi = f.setpoint_max_kpa * 1000.0;
-                    if sp_pa < lo {
+                    // A need within half the set-point's 0.1 kPa step of
+                    // the lowest set-point is that set-point: no note.
+                    if sp_pa < lo - SETPOINT_HALF_STEP_PA {
                         self.findings.push(findings::setpoint_below_range(dev.run, &f.name, sp_pa, lo));
                     } else if sp_pa > hi {
                         self.findings.push(findings::setpoint_out_of_range(dev.run, &f.name, sp_pa, lo, hi));

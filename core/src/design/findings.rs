@@ -128,6 +128,9 @@ pub enum FindingKind {
     SourceCapacity,
     /// The expansion vessel could not be sized.
     VesselNotSized,
+    /// The expansion vessel's volume is more than one membrane vessel
+    /// holds: several in parallel or a pressurisation unit.
+    VesselsInParallel,
     // ---- operating solve
     /// The derived network is not valid for the solver.
     NetworkInvalid,
@@ -180,7 +183,7 @@ impl FindingKind {
     ];
 
     /// Every kind, in declaration order.
-    pub const ALL: [Self; 58] = [
+    pub const ALL: [Self; 59] = [
         Self::NoSource,
         Self::SourceUnconnected,
         Self::LoopClosed,
@@ -227,6 +230,7 @@ impl FindingKind {
         Self::LowAuthority,
         Self::SourceCapacity,
         Self::VesselNotSized,
+        Self::VesselsInParallel,
         Self::NetworkInvalid,
         Self::NotConverged,
         Self::FlowOutOfTolerance,
@@ -293,18 +297,19 @@ impl FindingKind {
             Self::LowAuthority => 43,
             Self::SourceCapacity => 44,
             Self::VesselNotSized => 45,
-            Self::NetworkInvalid => 46,
-            Self::NotConverged => 47,
-            Self::FlowOutOfTolerance => 48,
-            Self::HotReturn => 49,
-            Self::RoomShort => 50,
-            Self::PumpOnMaxCurve => 51,
-            Self::VelocityOverLimit => 52,
-            Self::CircuitConnectionInvalid => 53,
-            Self::CircuitFeedShort => 54,
-            Self::SeparatorFlowShort => 55,
-            Self::CircuitFedTooCold => 56,
-            Self::DeviceIgnored => 57,
+            Self::VesselsInParallel => 46,
+            Self::NetworkInvalid => 47,
+            Self::NotConverged => 48,
+            Self::FlowOutOfTolerance => 49,
+            Self::HotReturn => 50,
+            Self::RoomShort => 51,
+            Self::PumpOnMaxCurve => 52,
+            Self::VelocityOverLimit => 53,
+            Self::CircuitConnectionInvalid => 54,
+            Self::CircuitFeedShort => 55,
+            Self::SeparatorFlowShort => 56,
+            Self::CircuitFedTooCold => 57,
+            Self::DeviceIgnored => 58,
         }
     }
 

@@ -38,6 +38,9 @@ pub struct SizeInputs {
     pub water: WaterProperties,
     /// Velocity limit of the pipe's class, m/s.
     pub velocity_limit_m_s: f64,
+    /// Share of the velocity limit kept in reserve when sizing, fraction
+    /// ([`crate::project::DesignSettings::velocity_reserve_fraction`]).
+    pub velocity_reserve_fraction: f64,
     /// Friction-gradient limit, Pa/m.
     pub gradient_limit_pa_m: f64,
 }
@@ -51,6 +54,7 @@ impl PartialEq for SizeInputs {
             && self.water.density_kg_m3 == other.water.density_kg_m3
             && self.water.viscosity_pa_s == other.water.viscosity_pa_s
             && self.velocity_limit_m_s == other.velocity_limit_m_s
+            && self.velocity_reserve_fraction == other.velocity_reserve_fraction
             && self.gradient_limit_pa_m == other.gradient_limit_pa_m
     }
 }
@@ -58,27 +62,30 @@ impl PartialEq for SizeInputs {
 /// Smallest size of the series meeting the velocity and friction-gradient
 /// limits, the gradient from the design's conservative friction law
 /// ([`FrictionLaw::ColebrookWhiteConservative`]); (index, true) or (the
-/// largest, false).
+/// largest, false). The velocity is held to the limit less its reserve
+/// where a size of the series can; where none can, to the limit itself.
 #[must_use]
 pub fn choose_size(inputs: &SizeInputs) -> (usize, bool) {
-    let SizeInputs { series, mass_flow_kg_s: m, water, velocity_limit_m_s, gradient_limit_pa_m } = *inputs;
-    for (i, size) in series.sizes.iter().enumerate() {
-        let Ok(h) = PipeHydraulics::new(
-            1.0,
-            size.inner_diameter_m(),
-            series.roughness_m,
-            0.0,
-            water.density_kg_m3,
-            water.viscosity_pa_s,
-        ) else {
-            continue;
-        };
-        let h = PipeHydraulics { friction_law: FrictionLaw::ColebrookWhiteConservative, ..h };
-        if h.velocity_m_s(m).abs() <= velocity_limit_m_s && friction_gradient_pa_m(&h, m) <= gradient_limit_pa_m {
-            return (i, true);
-        }
-    }
-    (series.sizes.len().saturating_sub(1), false)
+    let SizeInputs { series, mass_flow_kg_s: m, water, velocity_limit_m_s, velocity_reserve_fraction, .. } = *inputs;
+    let reserved = velocity_limit_m_s * (1.0 - velocity_reserve_fraction.clamp(0.0, 1.0));
+    let fits = |v_max: f64| {
+        series.sizes.iter().position(|size| {
+            PipeHydraulics::new(
+                1.0,
+                size.inner_diameter_m(),
+                series.roughness_m,
+                0.0,
+                water.density_kg_m3,
+                water.viscosity_pa_s,
+            )
+            .is_ok_and(|h| {
+                let h = PipeHydraulics { friction_law: FrictionLaw::ColebrookWhiteConservative, ..h };
+                h.velocity_m_s(m).abs() <= v_max && friction_gradient_pa_m(&h, m) <= inputs.gradient_limit_pa_m
+            })
+        })
+    };
+    let found = fits(reserved).or_else(|| if reserved < velocity_limit_m_s { fits(velocity_limit_m_s) } else { None });
+    found.map_or((series.sizes.len().saturating_sub(1), false), |i| (i, true))
 }
 
 /// Friction gradient of size `ix` of the series at the inputs' flow with
@@ -173,6 +180,7 @@ impl Derivation<'_> {
                 mass_flow_kg_s: self.design_flows[link].abs(),
                 water,
                 velocity_limit_m_s: *s.velocity_limit_m_s.get(class),
+                velocity_reserve_fraction: s.velocity_reserve_fraction,
                 gradient_limit_pa_m,
             };
             let fixed = dn.run(run).and_then(|r| match side {

@@ -141,6 +141,8 @@ pub const ROOM_C: Limit = Limit::new("room temperature", "°C", 5.0, 30.0);
 pub const VELOCITY_LIMIT_M_S: Limit = Limit::new("velocity limit", "m/s", 0.1, 3.0);
 /// Pressure-gradient limit for sizing, Pa/m.
 pub const GRADIENT_LIMIT_PA_M: Limit = Limit::new("pressure gradient limit", "Pa/m", 20.0, 1000.0);
+/// Velocity sizing reserve, fraction of the limit.
+pub const VELOCITY_RESERVE_FRACTION: Limit = Limit::new("velocity sizing reserve", "", 0.0, 0.3);
 /// Pump head margin, fraction.
 pub const HEAD_MARGIN_FRACTION: Limit = Limit::new("pump head margin", "", 0.0, 1.0);
 /// Minimum Δp of the index valve, Pa.

@@ -101,6 +101,15 @@ pub struct DesignSettings {
     /// Velocity limit per pipe class, m/s. Defaults 1.2 / 0.8 / 0.5 m/s:
     /// common practice (lower next to rooms for noise).
     pub velocity_limit_m_s: PerClass<f64>,
+    /// Share of the velocity limit kept in reserve when pipes are sized,
+    /// fraction (default 0: sized up to the limit). The operating flows of
+    /// a balanced network run a little above design (the design's
+    /// conservative friction law, stepped presettings), and the velocity
+    /// is checked again at them: a pipe sized right at its limit can end a
+    /// fraction of a per cent over it. A reserve of a few per cent keeps
+    /// such pipes inside; where no size of the series meets the reduced
+    /// limit, the limit itself applies.
+    pub velocity_reserve_fraction: f64,
     /// Pressure-gradient limit for sizing, Pa/m. Default 150 Pa/m: common
     /// practice (100–200 Pa/m).
     pub gradient_limit_pa_m: f64,
@@ -159,6 +168,7 @@ impl Default for DesignSettings {
             return_c: 55.0,
             room_c: 20.0,
             velocity_limit_m_s: PerClass { main: 1.2, branch: 0.8, connection: 0.5 },
+            velocity_reserve_fraction: 0.0,
             gradient_limit_pa_m: 150.0,
             controlled_gradient_limit_pa_m: None,
             series: PerClass {
@@ -244,6 +254,12 @@ impl DesignSettings {
             if !limits::VELOCITY_LIMIT_M_S.contains(v) {
                 bad("velocity limit", format!("{}: {}", class.name(), outside(&limits::VELOCITY_LIMIT_M_S, v)));
             }
+        }
+        if !limits::VELOCITY_RESERVE_FRACTION.contains(self.velocity_reserve_fraction) {
+            bad(
+                "velocity sizing reserve",
+                format!("{} % is outside 0 to 30 %", limits::readable(self.velocity_reserve_fraction * 100.0)),
+            );
         }
         if !limits::GRADIENT_LIMIT_PA_M.contains(self.gradient_limit_pa_m) {
             bad("pressure gradient limit", outside(&limits::GRADIENT_LIMIT_PA_M, self.gradient_limit_pa_m));

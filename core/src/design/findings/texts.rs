@@ -518,6 +518,19 @@ pub(crate) fn vessel_not_sized(error: &dyn fmt::Display) -> Finding {
     Finding::warning(FindingKind::VesselNotSized, ItemRef::Settings, format!("expansion vessel: {error}"))
 }
 
+pub(crate) fn vessels_in_parallel(nominal_l: f64, expansion_l: f64, vessels: u32) -> Finding {
+    Finding::note(
+        FindingKind::VesselsInParallel,
+        ItemRef::Settings,
+        format!(
+            "expansion vessel: a nominal volume of {nominal_l:.0} l is more than one membrane vessel holds (about \
+             {:.0} l, common practice) — {vessels} vessels in parallel on one connection adding up to at least \
+             {nominal_l:.0} l, or a pump-pressurisation unit for an expansion volume of {expansion_l:.0} l",
+            crate::vessel::LARGEST_MEMBRANE_VESSEL_L
+        ),
+    )
+}
+
 // ---------------------------------------------------------------------------
 // Operating solve
 // ---------------------------------------------------------------------------
