@@ -6,7 +6,10 @@
 //! `drag/frame while dragging` (app/benches/frame.rs).
 //!
 //! Run: `cargo run --release -p flowrise --example frame_timing -- [FLOORS] [PER_FLOOR] [FRAMES]`
-//! (default 20 500 30: 10,000 emitters).
+//! (default 20 500 30: 10,000 emitters). With `FRAME_TIMING_PAN=1` the
+//! frames pan the canvas instead (a middle-button drag over the plan, no
+//! edit, no solve), and the process's peak resident memory is printed: the
+//! window's pan rate and memory on a large building, without a display.
 
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
@@ -49,6 +52,10 @@ fn main() {
     for _ in 0..2 {
         let out = ctx.run_ui(raw_input(Vec::new()), |ui| app.ui(ui));
         ctx.tessellate(out.shapes, out.pixels_per_point);
+    }
+    if std::env::var_os("FRAME_TIMING_PAN").is_some() {
+        pan(&ctx, &mut app, u64::from(floors) * u64::from(per_floor), frames);
+        return;
     }
     let level = app.canvas().level;
     let centre = egui::pos2(720.0, 450.0);
@@ -112,5 +119,60 @@ fn main() {
         median(shapes),
         median(prims),
         app.solution().preview
+    );
+}
+
+/// Pan frames: press the middle button over the canvas and move it, one
+/// step per frame; medians of the frame (layout, paint, tessellation).
+fn pan(ctx: &egui::Context, app: &mut FlowriseApp, emitters: u64, frames: u32) {
+    // Start where no node is near: a middle-button drag on a node moves it.
+    let level = app.canvas().level;
+    let on_screen: Vec<egui::Pos2> =
+        app.project().nodes().filter(|n| n.level == level).map(|n| app.screen_from_plan(n.pos)).collect();
+    let clearance = |q: egui::Pos2| on_screen.iter().map(|p| p.distance(q)).fold(f32::INFINITY, f32::min);
+    let candidates =
+        (0..20).flat_map(|i| (0..12).map(move |j| egui::pos2(400.0 + 30.0 * i as f32, 200.0 + 40.0 * j as f32)));
+    let Some(start) = candidates.max_by(|a, b| clearance(*a).total_cmp(&clearance(*b))) else { return };
+    let revision = app.project().revision;
+    let anchor = app.screen_from_plan(flowrise_core::project::PlanPoint { x_m: 0.0, y_m: 0.0 });
+    let press = |pressed| egui::Event::PointerButton {
+        pos: start,
+        button: egui::PointerButton::Middle,
+        pressed,
+        modifiers: egui::Modifiers::default(),
+    };
+    for events in [vec![egui::Event::PointerMoved(start)], vec![press(true)]] {
+        let out = ctx.run_ui(raw_input(events), |ui| app.ui(ui));
+        ctx.tessellate(out.shapes, out.pixels_per_point);
+    }
+    let mut frame_ms = Vec::new();
+    let mut at = start;
+    for step in 0..frames {
+        // Down and right, then back: the plan moves under the pointer.
+        let d = if step < frames / 2 { 10.0 } else { -7.0 };
+        at += egui::vec2(d, 0.5 * d);
+        let t0 = Instant::now();
+        let out = ctx.run_ui(raw_input(vec![egui::Event::PointerMoved(at)]), |ui| app.ui(ui));
+        ctx.tessellate(out.shapes, out.pixels_per_point);
+        frame_ms.push(t0.elapsed().as_secs_f64() * 1e3);
+    }
+    let out = ctx.run_ui(raw_input(vec![press(false)]), |ui| app.ui(ui));
+    ctx.tessellate(out.shapes, out.pixels_per_point);
+    let peak = std::fs::read_to_string("/proc/self/status")
+        .ok()
+        .and_then(|s| {
+            s.lines().find(|l| l.starts_with("VmHWM:")).map(|l| l.trim_start_matches("VmHWM:").trim().to_owned())
+        })
+        .unwrap_or_else(|| "unknown".to_owned());
+    let moved = app.screen_from_plan(flowrise_core::project::PlanPoint { x_m: 0.0, y_m: 0.0 }).distance(anchor);
+    if app.project().revision != revision || moved < 1.0 {
+        eprintln!("frame_timing: the frames did not pan the plan (moved {moved} px)");
+        std::process::exit(1);
+    }
+    let frame = median(frame_ms);
+    println!(
+        "{emitters} emitters, {frames} pan frames (median): frame {frame:.1} ms ({:.0} frames per second); \
+         peak resident memory {peak}",
+        1000.0 / frame
     );
 }
