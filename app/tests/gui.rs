@@ -731,3 +731,23 @@ mod many_at_once;
 
 #[path = "gui/underlay.rs"]
 mod underlay;
+
+/// The unsaved mark follows the document, not the edit count: it is
+/// remembered per revision (the comparison walks the whole document), and
+/// undoing back to the saved state clears it again.
+#[test]
+fn the_unsaved_mark_follows_undo_and_redo() {
+    let mut h = harness(source_only());
+    assert!(!h.state().is_dirty());
+    draw_emitter(&mut h, 6.0);
+    assert!(h.state().is_dirty());
+    while h.state().project().emitters().len() == 1 {
+        h.state_mut().undo();
+        h.run();
+    }
+    assert_eq!(*h.state().project(), source_only());
+    assert!(!h.state().is_dirty(), "undone back to the saved document");
+    h.state_mut().redo();
+    h.run();
+    assert!(h.state().is_dirty(), "redone: unsaved again");
+}

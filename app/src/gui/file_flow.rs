@@ -223,6 +223,7 @@ impl FlowriseApp {
         match self.project.save(path) {
             Ok(()) => {
                 self.saved = self.project.clone();
+                self.dirty_memo.set(None);
                 self.remember(path);
                 self.remember_dir(path);
                 self.status = Some(Status::note(format!("saved {}", path.display())));

@@ -91,12 +91,23 @@ pub fn show(
 fn level_summary(ui: &mut Ui, project: &Project, sol: &Solution, level: LevelId) {
     let Some(l) = project.levels.iter().find(|l| l.id == level) else { return };
     ui.heading(format!("Level: {}", l.name));
-    let emitters: Vec<_> =
-        sol.emitters.iter().filter(|e| project.node(e.id).is_some_and(|n| n.level == level)).collect();
-    let load: f64 = emitters.iter().map(|e| e.load_w).sum();
+    // Counted once per project revision, result and level, not every frame
+    // (a scan of every emitter of a 200,000-emitter building per frame).
+    let key = (project.revision, sol.revision, sol.preview, level, sol.emitters.len());
+    let id = egui::Id::unique("level_summary_counts");
+    let cached = ui.data(|d| d.get_temp::<((u64, u64, bool, LevelId, usize), (usize, f64))>(id));
+    let (count, load) = match cached {
+        Some((k, v)) if k == key => v,
+        _ => {
+            let on_level = sol.emitters.iter().filter(|e| project.node(e.id).is_some_and(|n| n.level == level));
+            let v = on_level.fold((0usize, 0.0f64), |(n, w), e| (n + 1, w + e.load_w));
+            ui.data_mut(|d| d.insert_temp(id, (key, v)));
+            v
+        }
+    };
     Grid::new("level_summary").num_columns(2).striped(true).show(ui, |ui| {
         row(ui, "Elevation", format!("{:+.2} m", l.elevation_m));
-        row(ui, "Emitters", emitters.len().to_string());
+        row(ui, "Emitters", count.to_string());
         row(ui, "Heat load", format!("{:.2} kW", load / 1000.0));
     });
     ui.separator();

@@ -74,6 +74,11 @@ pub struct FlowriseApp {
     project: Project,
     path: Option<PathBuf>,
     saved: Project,
+    /// Whether the document differs from `saved`, for the project revision
+    /// it was found at: the comparison walks the whole document, and the
+    /// title, the top bar and the close guard ask every frame. Cleared
+    /// wherever `saved` or the document is replaced.
+    dirty_memo: std::cell::Cell<Option<(u64, bool)>>,
     history: history::History,
     // ---- results
     solver: solve::SolveRunner,
@@ -135,6 +140,7 @@ impl FlowriseApp {
             save_conflict: None,
             conflict_prompt: false,
             saved: project.clone(),
+            dirty_memo: std::cell::Cell::new(None),
             project,
             path,
             history: history::History::default(),
@@ -228,6 +234,7 @@ impl FlowriseApp {
                 // Compared with the file on disk (or with nothing, if it
                 // never had one) the recovered work shows as unsaved.
                 self.saved = on_disk.unwrap_or_else(|| Project::new(""));
+                self.dirty_memo.set(None);
                 // The stamp the crashed session knew: a second crash still
                 // sees the file as changed.
                 self.disk_stamp = o.original_stamp;
@@ -337,14 +344,27 @@ impl FlowriseApp {
     /// True when the document differs from the saved file.
     #[must_use]
     pub fn is_dirty(&self) -> bool {
-        self.project != self.saved
+        let revision = self.project.revision;
+        if let Some((at, dirty)) = self.dirty_memo.get()
+            && at == revision
+        {
+            return dirty;
+        }
+        let dirty = self.project != self.saved;
+        self.dirty_memo.set(Some((revision, dirty)));
+        dirty
     }
 
     /// Replace the document (New/Open): fresh history, view and results.
-    pub fn replace_project(&mut self, project: Project, path: Option<PathBuf>) {
+    pub fn replace_project(&mut self, mut project: Project, path: Option<PathBuf>) {
+        // Revisions stay unique within a session (as on undo), so what is
+        // kept per revision — results, the views' per-revision lookups —
+        // is never mistaken for another document's.
+        project.revision = self.project.revision + 1;
         self.canvas = CanvasState::for_project(&project);
         self.saved = project.clone();
         self.project = project;
+        self.dirty_memo.set(None);
         self.path = path.map(|p| recovery::absolute_path(&p));
         self.disk_stamp = self.path.as_deref().and_then(recovery::FileStamp::of);
         self.save_conflict = None;

@@ -434,6 +434,7 @@ impl FlowriseApp {
             && self.project.levels.iter().any(|l| l.underlay.is_some())
         {
             flowrise_core::project::underlay::rebase_paths(&mut self.project.levels, old_dir.as_deref(), &to);
+            self.dirty_memo.set(None);
         }
     }
 }
