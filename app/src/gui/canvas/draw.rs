@@ -34,6 +34,8 @@ pub struct PlanScene<'a> {
     pub hover: Option<Hit>,
     /// Items with an error or warning finding.
     pub flagged: &'a BTreeSet<ItemRef>,
+    /// The level's nodes and runs (for `project` and `level`).
+    pub index: &'a super::level_index::LevelIndex,
 }
 
 /// Text size of the plan labels (points).
@@ -191,7 +193,7 @@ pub fn draw_circuits(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) 
 
 /// Draw the runs of the level; their labels go to `labels`.
 pub fn draw_runs(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
-    for (run, a, b) in s.project.runs_with_ends() {
+    for (run, a, b) in s.index.runs(s.project) {
         let Some(pts) = run_polyline_between(a, b, run, s.level, s.view) else { continue };
         let value = s.colour_by.run_value(s.sol, run.id);
         let (stroke, over) = theme::run_stroke(value, s.view.px_per_m);
@@ -229,7 +231,7 @@ fn device_symbol(painter: &Painter, s: &PlanScene<'_>, run: &Run, pts: &[Pos2], 
         return;
     }
     // The device sits where the branch leaves the upstream network.
-    let downstream = s.sol.devices.iter().find(|d| d.run == run.id).map(|d| d.branch);
+    let downstream = s.index.device_branch(run.id);
     let (from, to) =
         if downstream == Some(run.a) { (pts[pts.len() - 1], pts[pts.len() - 2]) } else { (pts[0], pts[1]) };
     let d = to - from;
@@ -294,7 +296,7 @@ fn warning_badge(painter: &Painter, at: Pos2) {
 /// Draw the nodes of the level with their symbols; their labels go to
 /// `labels`.
 pub fn draw_nodes(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
-    for n in s.project.nodes().filter(|n| n.level == s.level) {
+    for n in s.index.nodes(s.project).filter(|n| n.level == s.level) {
         let at = s.view.screen_from_plan(n.pos);
         let selected = s.selection == Selection::Node(n.id);
         let hovered = s.hover == Some(Hit::Node(n.id));
@@ -302,7 +304,7 @@ pub fn draw_nodes(painter: &Painter, s: &PlanScene<'_>, labels: &mut Labels) {
             let c = if selected { theme::SELECT } else { theme::HOVER };
             painter.circle_stroke(at, 15.0, Stroke::new(2.5, c));
         }
-        let riser = s.project.runs_at(n.id).iter().any(|&r| s.project.run(r).is_some_and(|r| s.project.is_vertical(r)));
+        let riser = s.index.is_riser_end(n.id);
         if riser {
             painter.circle_stroke(at, 9.0, Stroke::new(1.5, theme::INK));
             // Riser mark: a small up/down arrow pair beside the node.

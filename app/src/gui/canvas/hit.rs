@@ -5,6 +5,7 @@
 use egui::{Pos2, Rect};
 use flowrise_core::project::{LevelId, Node, NodeId, PlanPoint, Project, Run, RunId};
 
+use super::level_index::LevelIndex;
 use super::view::View;
 
 /// Pick radius around a node symbol, screen points.
@@ -51,11 +52,12 @@ pub fn distance_to_segment(a: Pos2, b: Pos2, p: Pos2) -> (f32, f32) {
     ((a + t * ab).distance(p), t)
 }
 
-/// The nearest node on `level` within [`NODE_PICK_PX`] of `pos`.
+/// The nearest node on `level` within [`NODE_PICK_PX`] of `pos` (`index`
+/// holds the level's nodes).
 #[must_use]
-pub fn hit_node(project: &Project, level: LevelId, view: &View, pos: Pos2) -> Option<NodeId> {
+pub fn hit_node(project: &Project, index: &LevelIndex, level: LevelId, view: &View, pos: Pos2) -> Option<NodeId> {
     let mut best: Option<(f32, NodeId)> = None;
-    for n in project.nodes().filter(|n| n.level == level) {
+    for n in index.nodes(project).filter(|n| n.level == level) {
         let q = view.screen_from_plan(n.pos);
         if (q.x - pos.x).abs() > NODE_PICK_PX || (q.y - pos.y).abs() > NODE_PICK_PX {
             continue;
@@ -68,11 +70,18 @@ pub fn hit_node(project: &Project, level: LevelId, view: &View, pos: Pos2) -> Op
     best.map(|(_, id)| id)
 }
 
-/// The nearest run on `level` within [`RUN_PICK_PX`] of `pos`.
+/// The nearest run on `level` within [`RUN_PICK_PX`] of `pos` (`index`
+/// holds the level's runs).
 #[must_use]
-pub fn hit_run(project: &Project, level: LevelId, view: &View, pos: Pos2) -> Option<(RunId, PlanPoint)> {
+pub fn hit_run(
+    project: &Project,
+    index: &LevelIndex,
+    level: LevelId,
+    view: &View,
+    pos: Pos2,
+) -> Option<(RunId, PlanPoint)> {
     let mut best: Option<(f32, RunId, Pos2)> = None;
-    for (run, a, b) in project.runs_with_ends() {
+    for (run, a, b) in index.runs(project) {
         let Some(pts) = run_polyline_between(a, b, run, level, view) else { continue };
         let bbox = Rect::from_points(&pts).expand(RUN_PICK_PX);
         if !bbox.contains(pos) {
@@ -90,10 +99,10 @@ pub fn hit_run(project: &Project, level: LevelId, view: &View, pos: Pos2) -> Opt
 
 /// Nodes first (they sit on top of runs), then runs.
 #[must_use]
-pub fn hit_test(project: &Project, level: LevelId, view: &View, pos: Pos2) -> Option<Hit> {
-    hit_node(project, level, view, pos)
+pub fn hit_test(project: &Project, index: &LevelIndex, level: LevelId, view: &View, pos: Pos2) -> Option<Hit> {
+    hit_node(project, index, level, view, pos)
         .map(Hit::Node)
-        .or_else(|| hit_run(project, level, view, pos).map(|(r, p)| Hit::Run(r, p)))
+        .or_else(|| hit_run(project, index, level, view, pos).map(|(r, p)| Hit::Run(r, p)))
 }
 
 #[cfg(test)]

@@ -11,6 +11,7 @@
 pub mod draw;
 pub mod elevation;
 pub mod hit;
+pub mod level_index;
 pub mod returns;
 pub mod select;
 pub mod snap;
@@ -74,6 +75,8 @@ pub struct CanvasState {
     /// Line ends of the shown level's plan underlay while drawing or
     /// dragging (snap targets; empty otherwise).
     pub plan_ends: Vec<PlanPoint>,
+    /// The shown level's nodes and runs, per project revision.
+    pub index: level_index::LevelIndex,
 }
 
 impl Default for CanvasState {
@@ -92,6 +95,7 @@ impl Default for CanvasState {
             group: BTreeSet::new(),
             snapped: None,
             plan_ends: Vec::new(),
+            index: level_index::LevelIndex::default(),
         }
     }
 }
@@ -179,6 +183,9 @@ pub fn show(
     underlay: &mut UnderlayUi,
     out: &mut Intents,
 ) {
+    // The level's items for this revision (the tabs, the hit-tests and the
+    // plan read them).
+    state.index.update(project, sol, state.level);
     egui::Panel::bottom("level_tabs").show(ui, |ui| level_tabs(ui, project, state, out));
     // Only when there is a riser to show: an empty riser view takes no room.
     state.riser = None;
@@ -218,7 +225,7 @@ pub fn show(
     // Pointer → plan once per frame; hit-test.
     let pointer = resp.hover_pos().or_else(|| if resp.dragged() { resp.interact_pointer_pos() } else { None });
     state.pointer_plan = pointer.map(|p| state.view.plan_from_screen(p));
-    state.hover = pointer.and_then(|p| hit::hit_test(project, state.level, &state.view, p));
+    state.hover = pointer.and_then(|p| hit::hit_test(project, &state.index, state.level, &state.view, p));
 
     // Zoom about the pointer.
     if let Some(p) = resp.hover_pos() {
@@ -256,6 +263,7 @@ pub fn show(
         selection,
         hover: state.hover,
         flagged: &flagged,
+        index: &state.index,
     };
     // Runs under nodes; labels over both, node names placed before run sizes.
     let (mut run_labels, mut node_labels) = (draw::Labels::default(), draw::Labels::default());
@@ -311,8 +319,11 @@ fn handle_drag(
     if resp.drag_started() {
         let origin = ui.input(|i| i.pointer.press_origin()).or(resp.interact_pointer_pos()).unwrap_or(Pos2::ZERO);
         let shift = ui.input(|i| i.modifiers.shift);
-        let grabbed =
-            if state.tool == Tool::Select { hit::hit_node(project, state.level, &state.view, origin) } else { None };
+        let grabbed = if state.tool == Tool::Select {
+            hit::hit_node(project, &state.index, state.level, &state.view, origin)
+        } else {
+            None
+        };
         let primary = resp.drag_started_by(egui::PointerButton::Primary);
         state.drag = Some(match grabbed.and_then(|id| project.node(id)) {
             Some(node) => {
@@ -408,7 +419,7 @@ fn handle_clicks(
     }
     let Some(pos) = resp.interact_pointer_pos() else { return };
     let at_plan = state.view.plan_from_screen(pos);
-    let mut hit = hit::hit_test(project, state.level, &state.view, pos);
+    let mut hit = hit::hit_test(project, &state.index, state.level, &state.view, pos);
     let mut at = state.view.snap(at_plan);
     if state.tool == Tool::Run
         && let Some((s, _)) = &state.snapped
@@ -474,10 +485,6 @@ fn level_tabs(ui: &mut Ui, project: &Project, state: &CanvasState, out: &mut Int
         let tabs_w = (ui.available_width() - hint_w - 80.0).max(120.0);
         let mut levels: Vec<_> = project.levels.iter().collect();
         levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
-        let mut counts = std::collections::HashMap::new();
-        for n in project.nodes() {
-            *counts.entry(n.level).or_insert(0_usize) += 1;
-        }
         let level_changed = ui.ctx().data_mut(|d| {
             let last = d.get_temp_mut_or(egui::Id::unique("level_tabs_last"), None);
             let changed = *last != Some(state.level);
@@ -492,7 +499,7 @@ fn level_tabs(ui: &mut Ui, project: &Project, state: &CanvasState, out: &mut Int
                 .show(ui, |ui| {
                     ui.horizontal(|ui| {
                         for l in levels {
-                            let count = counts.get(&l.id).copied().unwrap_or(0);
+                            let count = state.index.nodes_on(l.id);
                             let text = format!("{} ({count})", l.name);
                             let r = ui
                                 .selectable_label(state.level == l.id, text)
