@@ -751,3 +751,24 @@ fn the_unsaved_mark_follows_undo_and_redo() {
     h.run();
     assert!(h.state().is_dirty(), "redone: unsaved again");
 }
+
+/// The top bar counts notes when there is nothing worse, and never reads
+/// "no findings" while the findings list has a note (a plant whose
+/// expansion vessel is several membrane vessels).
+#[test]
+fn the_top_bar_counts_notes() {
+    let mut p = demo(FLAT);
+    let src = p.sources()[0];
+    let mut kind = p.node(src).unwrap().kind.clone();
+    if let NodeKind::Source(s) = &mut kind {
+        s.water_content_l = 300_000.0;
+    }
+    p.apply(Edit::SetNodeKind { id: src, kind }).unwrap();
+    let h = harness(p);
+    let sol = h.state().solution();
+    assert!(sol.findings.iter().any(|f| f.kind == FindingKind::VesselsInParallel));
+    assert!(sol.findings.iter().all(|f| f.severity == flowrise_core::design::Severity::Note), "{:#?}", sol.findings);
+    assert!(h.query_by_label("no findings").is_none());
+    let n = sol.findings.len();
+    h.get_by_label(&if n == 1 { "1 note".to_owned() } else { format!("{n} notes") });
+}

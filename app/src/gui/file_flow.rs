@@ -222,7 +222,7 @@ impl FlowriseApp {
         self.underlay_paths_for(path);
         match self.project.save(path) {
             Ok(()) => {
-                self.saved = self.project.clone();
+                self.saved = std::sync::Arc::clone(&self.project);
                 self.dirty_memo.set(None);
                 self.remember(path);
                 self.remember_dir(path);

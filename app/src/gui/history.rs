@@ -1,5 +1,9 @@
 //! Undo/redo: a bounded stack of project snapshots pushed between
-//! interactions (one drag = one step), restored whole.
+//! interactions (one drag = one step), restored whole. Snapshots are
+//! shared (`Arc`): pushing the current document costs nothing until it is
+//! next edited, and a snapshot equal to the saved file is the same memory.
+
+use std::sync::Arc;
 
 use flowrise_core::project::Project;
 
@@ -9,13 +13,13 @@ pub const MAX_STEPS: usize = 200;
 /// Undo and redo stacks of project snapshots.
 #[derive(Debug, Default)]
 pub struct History {
-    undo: Vec<Project>,
-    redo: Vec<Project>,
+    undo: Vec<Arc<Project>>,
+    redo: Vec<Arc<Project>>,
 }
 
 impl History {
     /// Remember `before` as the state to go back to; clears the redo stack.
-    pub fn push(&mut self, before: Project) {
+    pub fn push(&mut self, before: Arc<Project>) {
         self.undo.push(before);
         if self.undo.len() > MAX_STEPS {
             self.undo.remove(0);
@@ -25,22 +29,22 @@ impl History {
 
     /// Drop the last snapshot when it equals `current` (a drag that moved nothing).
     pub fn drop_if_unchanged(&mut self, current: &Project) {
-        if self.undo.last().is_some_and(|p| p == current) {
+        if self.undo.last().is_some_and(|p| **p == *current) {
             self.undo.pop();
         }
     }
 
     /// Go back one step: returns the project to restore.
-    pub fn undo(&mut self, current: &Project) -> Option<Project> {
+    pub fn undo(&mut self, current: &Arc<Project>) -> Option<Arc<Project>> {
         let p = self.undo.pop()?;
-        self.redo.push(current.clone());
+        self.redo.push(Arc::clone(current));
         Some(p)
     }
 
     /// Go forward one step.
-    pub fn redo(&mut self, current: &Project) -> Option<Project> {
+    pub fn redo(&mut self, current: &Arc<Project>) -> Option<Arc<Project>> {
         let p = self.redo.pop()?;
-        self.undo.push(current.clone());
+        self.undo.push(Arc::clone(current));
         Some(p)
     }
 
@@ -69,12 +73,13 @@ mod tests {
 
     #[test]
     fn undo_then_redo_round_trips() {
-        let a = Project::new("a");
-        let b = Project::new("b");
+        let a = Arc::new(Project::new("a"));
+        let b = Arc::new(Project::new("b"));
         let mut h = History::default();
-        h.push(a.clone());
+        h.push(Arc::clone(&a));
         let back = h.undo(&b).unwrap();
         assert_eq!(back, a);
+        assert!(Arc::ptr_eq(&back, &a), "the snapshot itself, not a copy");
         assert_eq!(h.redo(&back).unwrap(), b);
         assert!(h.can_undo() && !h.can_redo());
     }

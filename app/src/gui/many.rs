@@ -170,8 +170,8 @@ impl FlowriseApp {
 
     /// Apply `edit` as one undo step; a refusal goes to the status line.
     pub(super) fn apply_step(&mut self, edit: Edit) -> Option<EditOutcome> {
-        let before = self.project.clone();
-        match self.project.apply(edit) {
+        let before = std::sync::Arc::clone(&self.project);
+        match std::sync::Arc::make_mut(&mut self.project).apply(edit) {
             Ok(o) => {
                 self.history.push(before);
                 Some(o)

@@ -70,10 +70,11 @@ pub use file_flow::{FilePurpose, Notice, Pending, ScheduleFile};
 /// The flowrise application.
 #[derive(Debug)]
 pub struct FlowriseApp {
-    // ---- the document
-    project: Project,
+    // ---- the document (shared with the saved copy, the undo snapshots and
+    // a background solve until it is edited: `Arc::make_mut` on edit)
+    project: Arc<Project>,
     path: Option<PathBuf>,
-    saved: Project,
+    saved: Arc<Project>,
     /// Whether the document differs from `saved`, for the project revision
     /// it was found at: the comparison walks the whole document, and the
     /// title, the top bar and the close guard ask every frame. Cleared
@@ -134,12 +135,13 @@ impl FlowriseApp {
     #[must_use]
     pub fn new(project: Project, path: Option<PathBuf>) -> Self {
         let canvas = CanvasState::for_project(&project);
+        let project = Arc::new(project);
         let path = path.map(|p| recovery::absolute_path(&p));
         Self {
             disk_stamp: path.as_deref().and_then(recovery::FileStamp::of),
             save_conflict: None,
             conflict_prompt: false,
-            saved: project.clone(),
+            saved: Arc::clone(&project),
             dirty_memo: std::cell::Cell::new(None),
             project,
             path,
@@ -233,7 +235,7 @@ impl FlowriseApp {
                 self.replace_project(p, original);
                 // Compared with the file on disk (or with nothing, if it
                 // never had one) the recovered work shows as unsaved.
-                self.saved = on_disk.unwrap_or_else(|| Project::new(""));
+                self.saved = Arc::new(on_disk.unwrap_or_else(|| Project::new("")));
                 self.dirty_memo.set(None);
                 // The stamp the crashed session knew: a second crash still
                 // sees the file as changed.
@@ -350,7 +352,7 @@ impl FlowriseApp {
         {
             return dirty;
         }
-        let dirty = self.project != self.saved;
+        let dirty = !Arc::ptr_eq(&self.project, &self.saved) && *self.project != *self.saved;
         self.dirty_memo.set(Some((revision, dirty)));
         dirty
     }
@@ -362,8 +364,8 @@ impl FlowriseApp {
         // is never mistaken for another document's.
         project.revision = self.project.revision + 1;
         self.canvas = CanvasState::for_project(&project);
-        self.saved = project.clone();
-        self.project = project;
+        self.project = Arc::new(project);
+        self.saved = Arc::clone(&self.project);
         self.dirty_memo.set(None);
         self.path = path.map(|p| recovery::absolute_path(&p));
         self.disk_stamp = self.path.as_deref().and_then(recovery::FileStamp::of);
@@ -636,17 +638,17 @@ impl FlowriseApp {
     /// selection, centring, actions.
     fn apply(&mut self, out: Intents, ctx: &egui::Context) {
         if out.drag_begin {
-            self.history.push(self.project.clone());
+            self.history.push(Arc::clone(&self.project));
         }
         if let Some(s) = out.select {
             self.selection = s;
         }
         let mut changed = false;
         for q in out.edits {
-            let before = (!q.during_drag).then(|| self.project.clone());
+            let before = (!q.during_drag).then(|| Arc::clone(&self.project));
             let during_drag = q.during_drag;
             let hint = flowrise_core::design::EditHint::for_edit(&self.project, &q.edit);
-            match self.project.apply(q.edit) {
+            match Arc::make_mut(&mut self.project).apply(q.edit) {
                 Ok(outcome) => {
                     changed = true;
                     self.solver.note_edit(hint, during_drag);
@@ -774,10 +776,10 @@ impl FlowriseApp {
         ctx.request_repaint();
     }
 
-    fn restore(&mut self, mut p: Project) {
+    fn restore(&mut self, mut p: Arc<Project>) {
         // A restored snapshot gets a new revision so results are never mistaken
         // for the ones of the state it replaced.
-        p.revision = self.project.revision + 1;
+        Arc::make_mut(&mut p).revision = self.project.revision + 1;
         self.project = p;
         // A replaced project: no edit hint leads to it.
         self.solver.forget_edits();

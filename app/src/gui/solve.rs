@@ -136,7 +136,7 @@ impl SolveRunner {
     /// Make sure the results belong to `project`'s revision: solve now, or
     /// hand the work to the worker. Returns true when a repaint is needed
     /// later (a worker is running).
-    pub fn ensure(&mut self, project: &Project) -> bool {
+    pub fn ensure(&mut self, project: &Arc<Project>) -> bool {
         self.poll();
         if self.valid && self.accepts(self.latest.revision, self.latest.preview, project.revision) {
             return self.is_busy();
@@ -147,7 +147,8 @@ impl SolveRunner {
             return true;
         }
         if self.background && self.last_ms > BACKGROUND_AFTER_MS {
-            self.spawn(project.clone());
+            // The worker shares the document (no copy of a large building).
+            self.spawn(Arc::clone(project));
             return true;
         }
         let job = self.take_job(project);
@@ -167,7 +168,7 @@ impl SolveRunner {
         revision == project_revision && (!preview || self.dragging)
     }
 
-    fn spawn(&mut self, project: Project) {
+    fn spawn(&mut self, project: Arc<Project>) {
         let job = self.take_job(&project);
         let mut ws = self.workspace.take().unwrap_or_else(Workspace::for_edits);
         let options = self.options.clone();

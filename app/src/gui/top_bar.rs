@@ -262,7 +262,9 @@ fn solve_status(ui: &mut Ui, m: &TopBar<'_>, sol: &Solution, out: &mut Intents) 
     } else if warnings > 0 {
         (count(warnings, "warning", "warnings"), theme::WARNING)
     } else {
-        ("no findings".to_owned(), theme::ACCENT)
+        // Notes are information, not a fault: counted, in the calm colour.
+        let notes = sol.findings.iter().filter(|f| f.severity == Severity::Note).count();
+        (if notes > 0 { count(notes, "note", "notes") } else { "no findings".to_owned() }, theme::ACCENT)
     };
     if ui
         .add(egui::Button::new(RichText::new(t).color(c).strong()).frame(false))

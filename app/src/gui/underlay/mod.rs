@@ -433,7 +433,11 @@ impl FlowriseApp {
             && old_dir.as_deref() != Some(to.as_path())
             && self.project.levels.iter().any(|l| l.underlay.is_some())
         {
-            flowrise_core::project::underlay::rebase_paths(&mut self.project.levels, old_dir.as_deref(), &to);
+            flowrise_core::project::underlay::rebase_paths(
+                &mut Arc::make_mut(&mut self.project).levels,
+                old_dir.as_deref(),
+                &to,
+            );
             self.dirty_memo.set(None);
         }
     }
