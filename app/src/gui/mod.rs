@@ -648,9 +648,14 @@ impl FlowriseApp {
             let before = (!q.during_drag).then(|| Arc::clone(&self.project));
             let during_drag = q.during_drag;
             let hint = flowrise_core::design::EditHint::for_edit(&self.project, &q.edit);
+            let (moves_only, from) = (matches!(q.edit, Edit::MoveNodes { .. }), self.project.revision);
             match Arc::make_mut(&mut self.project).apply(q.edit) {
                 Ok(outcome) => {
                     changed = true;
+                    if moves_only {
+                        // Nothing changes level: the canvas's lists hold.
+                        self.canvas.index.carry_over(from, self.project.revision);
+                    }
                     self.solver.note_edit(hint, during_drag);
                     if let Some(b) = before {
                         self.history.push(b);

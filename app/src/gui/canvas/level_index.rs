@@ -65,6 +65,21 @@ impl LevelIndex {
         }
     }
 
+    /// The project went from revision `from` to `to` by moving nodes in
+    /// plan (no node or run changed level, none came or went): the lists
+    /// of `from` are those of `to` (the device branches follow the results
+    /// by their own key).
+    pub fn carry_over(&mut self, from: u64, to: u64) {
+        if let Some((r, level)) = self.key
+            && r == from
+        {
+            self.key = Some((to, level));
+        }
+        if self.counts_revision == Some(from) {
+            self.counts_revision = Some(to);
+        }
+    }
+
     /// The level's nodes.
     pub fn nodes<'a>(&'a self, project: &'a Project) -> impl Iterator<Item = &'a Node> + 'a {
         self.nodes.iter().filter_map(move |&id| project.node(id))
@@ -146,6 +161,13 @@ mod tests {
         p.apply(Edit::AddNode { level: LevelId(2), pos: PlanPoint::new(-50.0, -50.0), kind: NodeKind::Junction })
             .unwrap();
         ix.update(&p, &sol, LevelId(2));
+        check(&ix, &p, LevelId(2));
+        // A move keeps the lists: carried over, they still match a scan.
+        let from = p.revision;
+        let ids: Vec<NodeId> = p.nodes().filter(|n| n.level == LevelId(2)).map(|n| n.id).take(3).collect();
+        p.apply(Edit::MoveNodes { ids, dx_m: 1.5, dy_m: -2.0 }).unwrap();
+        ix.carry_over(from, p.revision);
+        assert_eq!(ix.key, Some((p.revision, LevelId(2))));
         check(&ix, &p, LevelId(2));
     }
 }
