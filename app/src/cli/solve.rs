@@ -25,7 +25,7 @@ pub fn solve(file: &Path, json: bool, installed: bool, close: &[String]) -> Exit
         Err(code) => return code,
     };
     let opts = SolveOptions { closed_emitters: closed, ..SolveOptions::default() };
-    let sol = solve_project(&project, &opts, &mut Workspace::default());
+    let sol = solve_project(&project, &opts, &mut Workspace::one_shot());
     if json {
         // Streamed: a large project's document is never held whole.
         let mut out = std::io::BufWriter::new(std::io::stdout().lock());

@@ -185,6 +185,8 @@ fn slopes(inst: &InstalledEmitter, m: f64, supply_c: f64, room_c: f64, out: Flow
 pub(super) struct SizeCache {
     /// By 2·run slot + side (the slot of [`super::topology::Topology`]).
     entries: Vec<Option<SizeEntry>>,
+    /// Keep nothing: every call computes (a workspace for one solve).
+    pub(super) off: bool,
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -195,8 +197,17 @@ struct SizeEntry {
 }
 
 impl SizeCache {
+    /// Entries kept (tests).
+    #[cfg(test)]
+    pub(super) fn entries_len(&self) -> usize {
+        self.entries.len()
+    }
+
     /// [`super::choose_size`] through the cache.
     pub(super) fn choose(&mut self, run: RunId, run_slot: usize, side: Side, inputs: &SizeInputs) -> (usize, bool) {
+        if self.off {
+            return super::choose_size(inputs);
+        }
         let ix = run_slot.saturating_mul(2).saturating_add(usize::from(side == Side::Return));
         if let Some(Some(e)) = self.entries.get(ix)
             && e.run == run
@@ -226,12 +237,17 @@ impl SizeCache {
 pub(super) struct LinkDpCache {
     /// By link index.
     entries: Vec<Option<(LinkLaw, u64, f64)>>,
+    /// Keep nothing: every call computes (a workspace for one solve).
+    pub(super) off: bool,
 }
 
 impl LinkDpCache {
     /// Δp of `law` at `m` (link `link`), as [`crate::network::solver::link_dp`]
     /// (0 for a non-finite flow).
     pub(super) fn dp(&mut self, link: usize, law: &LinkLaw, m: f64) -> f64 {
+        if self.off {
+            return crate::network::solver::link_dp(law, m).map_or(0.0, |x| x.0);
+        }
         if let Some(Some((l, bits, dp))) = self.entries.get(link)
             && *bits == m.to_bits()
             && l == law
@@ -402,12 +418,23 @@ mod tests {
 #[derive(Debug, Default)]
 pub(super) struct TeeCache {
     entries: Vec<Option<([u64; 4], f64)>>,
+    /// Keep nothing: every call computes (a workspace for one solve).
+    pub(super) off: bool,
 }
 
 impl TeeCache {
+    /// Entries kept (tests).
+    #[cfg(test)]
+    pub(super) fn entries_len(&self) -> usize {
+        self.entries.len()
+    }
+
     /// ζ for slot `slot` of `slots` with inputs `key`: the kept value when
     /// the inputs are identical, else `compute()` (kept for next time).
     pub(super) fn zeta(&mut self, slot: usize, slots: usize, key: [u64; 4], compute: impl FnOnce() -> f64) -> f64 {
+        if self.off {
+            return compute();
+        }
         if self.entries.len() != slots {
             self.entries.clear();
             self.entries.resize(slots, None);

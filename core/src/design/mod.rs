@@ -120,6 +120,19 @@ impl Workspace {
     pub fn for_edits() -> Self {
         Self { retain: true, ..Self::default() }
     }
+
+    /// A workspace for a single solve (a command-line run): it keeps no
+    /// per-pipe size or tee ζ cache, which only a later solve of the same
+    /// project could use (at 200,000 emitters they hold a few hundred
+    /// megabytes). The pressure-drop cache stays: one solve asks it again.
+    /// Any workspace gives the same results.
+    #[must_use]
+    pub fn one_shot() -> Self {
+        let mut ws = Self::default();
+        ws.sizes.off = true;
+        ws.tees.off = true;
+        ws
+    }
 }
 
 /// Design and operate a project. Never panics; everything that goes wrong

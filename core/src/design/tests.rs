@@ -73,3 +73,23 @@ fn pipe_results_from_solver_drops_match_direct_evaluation() {
         assert!(rel(pr.gradient_pa_m, friction_gradient_pa_m(h, m.abs())) < 1e-9, "{pr:?}");
     }
 }
+
+/// A workspace for one solve keeps no size or tee cache, and gives the
+/// same document as a caching one, bit for bit (the caches only remember).
+#[test]
+fn a_one_shot_workspace_gives_the_same_solution() {
+    for spec in [BuildingSpec::new(3, 12), BuildingSpec { headers: true, ..BuildingSpec::new(2, 12) }] {
+        let p = generate_building(&spec).unwrap();
+        let mut ws = Workspace::one_shot();
+        let a = solve_project(&p, &SolveOptions::default(), &mut ws);
+        let b = solve_project(&p, &SolveOptions::default(), &mut Workspace::default());
+        let strip = |mut v: serde_json::Value| {
+            for k in ["derive_ms", "design_ms", "operate_ms", "operate_solver_ms", "solve_ms"] {
+                v["totals"][k] = serde_json::Value::Null;
+            }
+            v
+        };
+        assert_eq!(strip(crate::output::solve_json(&p, &a)), strip(crate::output::solve_json(&p, &b)), "{spec:?}");
+        assert!(ws.sizes.entries_len() == 0 && ws.tees.entries_len() == 0, "nothing kept");
+    }
+}
