@@ -467,3 +467,37 @@ impl Derivation<'_> {
         })
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn inputs(series: &'static PipeSeries, velocity_m_s: f64, size: usize, reserve: f64) -> SizeInputs {
+        let water = crate::water::properties(55.0).unwrap();
+        let d = series.sizes[size].inner_diameter_m();
+        let area = std::f64::consts::PI * d * d / 4.0;
+        SizeInputs {
+            series,
+            mass_flow_kg_s: velocity_m_s * area * water.density_kg_m3,
+            water,
+            velocity_limit_m_s: 1.2,
+            velocity_reserve_fraction: reserve,
+            gradient_limit_pa_m: 1.0e6, // the velocity decides here
+        }
+    }
+
+    /// A flow at 99 % of the limit in a size takes that size with no
+    /// reserve and the next with a 2 % reserve; in the largest size, where
+    /// no larger one exists, the limit itself applies.
+    #[test]
+    fn the_velocity_reserve_moves_a_pipe_at_its_limit_up_a_size() {
+        let series = pipes::find_series("steel-en10220-welded").unwrap();
+        let i = series.sizes.len() / 2;
+        assert_eq!(choose_size(&inputs(series, 0.99 * 1.2, i, 0.0)), (i, true));
+        assert_eq!(choose_size(&inputs(series, 0.99 * 1.2, i, 0.02)), (i + 1, true));
+        assert_eq!(choose_size(&inputs(series, 0.97 * 1.2, i, 0.02)), (i, true));
+        let last = series.sizes.len() - 1;
+        assert_eq!(choose_size(&inputs(series, 0.99 * 1.2, last, 0.02)), (last, true));
+        assert_eq!(choose_size(&inputs(series, 1.01 * 1.2, last, 0.02)), (last, false));
+    }
+}

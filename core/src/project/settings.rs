@@ -329,5 +329,8 @@ mod tests {
         assert!(p.iter().any(|p| p.field == "return temperature" && p.message.contains("below supply")), "{p:?}");
         let s = DesignSettings { supply_c: f64::NAN, ..DesignSettings::default() };
         assert!(s.problems().iter().any(|p| p.field == "supply temperature"));
+        let s = DesignSettings { velocity_reserve_fraction: 0.5, ..DesignSettings::default() };
+        let p = s.problems();
+        assert!(p.iter().any(|p| p.field == "velocity sizing reserve" && p.message.contains("50 %")), "{p:?}");
     }
 }
