@@ -5,7 +5,7 @@
 
 use egui::{Align2, Color32, FontId, Painter, Rect, Stroke, pos2};
 use flowrise_core::design::{Side, Solution};
-use flowrise_core::project::{LevelId, Project, RunId};
+use flowrise_core::project::{LevelId, Project};
 
 /// Where each level is drawn: (level, y on screen).
 pub type Bands = Vec<(LevelId, f32)>;
@@ -29,6 +29,7 @@ pub fn level_at(bands: &[(LevelId, f32)], y: f32) -> Option<LevelId> {
         .map(|(l, _)| l)
 }
 
+use super::level_index::LevelIndex;
 use crate::gui::theme::{self, ColourBy};
 
 /// Draw the elevation of all vertical runs into `rect`, the shown level
@@ -40,6 +41,7 @@ pub fn draw(
     sol: &Solution,
     colour_by: ColourBy,
     shown: LevelId,
+    index: &LevelIndex,
 ) -> Bands {
     painter.rect_filled(rect, 0, theme::PAPER);
     painter.text(
@@ -91,25 +93,7 @@ pub fn draw(
             last_label_y = y;
         }
     }
-    // The vertical runs, found once per project revision: the scan walks
-    // every run of the building, and this view is drawn every frame.
-    let id = egui::Id::unique("elevation_vertical_runs");
-    let cached = painter.ctx().data(|d| d.get_temp::<(u64, std::sync::Arc<[RunId]>)>(id));
-    let ids = match cached {
-        Some((revision, ids)) if revision == project.revision => ids,
-        _ => {
-            let ids: std::sync::Arc<[RunId]> = project.vertical_runs().map(|(r, _, _)| r.id).collect();
-            painter.ctx().data_mut(|d| d.insert_temp(id, (project.revision, ids.clone())));
-            ids
-        }
-    };
-    let vertical: Vec<_> = ids
-        .iter()
-        .filter_map(|&r| {
-            let run = project.run(r)?;
-            Some((run, project.node(run.a)?, project.node(run.b)?))
-        })
-        .collect();
+    let vertical: Vec<_> = index.vertical_runs(project).collect();
     if vertical.is_empty() {
         painter.text(
             rect.center(),

@@ -25,16 +25,26 @@ pub struct LevelIndex {
     risers: BTreeSet<NodeId>,
     /// Per run with a balancing device: the first node of its branch.
     device_branch: HashMap<RunId, NodeId>,
-    /// Project revision of `counts`.
+    /// Project revision of `counts` and `vertical`.
     counts_revision: Option<u64>,
     /// Nodes per level (the level tabs).
     counts: HashMap<LevelId, usize>,
+    /// Runs between levels, in id order (the riser view).
+    vertical: Vec<RunId>,
 }
 
 impl LevelIndex {
     /// Bring the lists up to `project`'s revision and `level`, and the
     /// device branches up to `sol`.
     pub fn update(&mut self, project: &Project, sol: &Solution, level: LevelId) {
+        if self.counts_revision != Some(project.revision) {
+            self.counts.clear();
+            for n in project.nodes() {
+                *self.counts.entry(n.level).or_insert(0) += 1;
+            }
+            self.vertical = project.vertical_runs().map(|(r, _, _)| r.id).collect();
+            self.counts_revision = Some(project.revision);
+        }
         let key = (project.revision, level);
         if self.key != Some(key) {
             self.nodes = project.nodes().filter(|n| n.level == level).map(|n| n.id).collect();
@@ -43,20 +53,13 @@ impl LevelIndex {
                 .filter(|(_, a, b)| a.level == level && b.level == level)
                 .map(|(r, _, _)| r.id)
                 .collect();
-            self.risers = project
-                .vertical_runs()
+            self.risers = self
+                .vertical_runs(project)
                 .flat_map(|(_, a, b)| [a, b])
                 .filter(|n| n.level == level)
                 .map(|n| n.id)
                 .collect();
             self.key = Some(key);
-        }
-        if self.counts_revision != Some(project.revision) {
-            self.counts.clear();
-            for n in project.nodes() {
-                *self.counts.entry(n.level).or_insert(0) += 1;
-            }
-            self.counts_revision = Some(project.revision);
         }
         let sol_key = (sol.revision, sol.preview, sol.devices.len());
         if self.sol_key != Some(sol_key) {
@@ -88,6 +91,17 @@ impl LevelIndex {
     /// The level's runs with their end nodes.
     pub fn runs<'a>(&'a self, project: &'a Project) -> impl Iterator<Item = (&'a Run, &'a Node, &'a Node)> + 'a {
         self.runs.iter().filter_map(move |&id| {
+            let r = project.run(id)?;
+            Some((r, project.node(r.a)?, project.node(r.b)?))
+        })
+    }
+
+    /// The runs between levels with their end nodes (all levels).
+    pub fn vertical_runs<'a>(
+        &'a self,
+        project: &'a Project,
+    ) -> impl Iterator<Item = (&'a Run, &'a Node, &'a Node)> + 'a {
+        self.vertical.iter().filter_map(move |&id| {
             let r = project.run(id)?;
             Some((r, project.node(r.a)?, project.node(r.b)?))
         })
@@ -141,6 +155,8 @@ mod tests {
                 .map(|(r, _, _)| r.id)
                 .collect();
             assert_eq!(ix.runs(p).map(|(r, _, _)| r.id).collect::<Vec<_>>(), runs);
+            let vertical: Vec<RunId> = p.vertical_runs().map(|(r, _, _)| r.id).collect();
+            assert_eq!(ix.vertical_runs(p).map(|(r, _, _)| r.id).collect::<Vec<_>>(), vertical);
             for &n in &nodes {
                 let riser = p.runs_at(n).iter().any(|&r| p.run(r).is_some_and(|r| p.is_vertical(r)));
                 assert_eq!(ix.is_riser_end(n), riser, "{n}");

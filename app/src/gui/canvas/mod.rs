@@ -197,7 +197,8 @@ pub fn show(
             |ui| {
                 let rect = ui.available_rect_before_wrap();
                 let resp = ui.allocate_rect(rect, Sense::click());
-                let bands = elevation::draw(ui.painter(), rect, project, sol, opts.colour_by, state.level);
+                let bands =
+                    elevation::draw(ui.painter(), rect, project, sol, opts.colour_by, state.level, &state.index);
                 state.riser = Some((rect, bands.clone()));
                 let hovered = resp.hover_pos().and_then(|p| elevation::level_at(&bands, p.y));
                 if let Some(l) = hovered {
