@@ -9,7 +9,7 @@
 //! Run: `cargo run --release -p flowrise-core --example drag_timing -- [floors] [per_floor] [repeat] [source]`
 //! (defaults 20 × 500 = 10,000 emitters, 15 repeats; `source` moves the
 //! heat source instead of the first emitter; `DRAG_STEP_M` sets the step,
-//! default 0.05 m; `MATCHED=1` solves with matched physics, as the
+//! default 0.05 m; `DRAG_MODES=2` runs the preview alone; `MATCHED=1` solves with matched physics, as the
 //! side-by-side with EPANET does). A profiling aid, not
 //! a benchmark: the recorded figures come from criterion
 //! (`cargo bench -p flowrise-core --bench pipeline`).
@@ -47,7 +47,13 @@ fn main() {
         .find(|x| if source { matches!(x.kind, NodeKind::Source(_)) } else { matches!(x.kind, NodeKind::Emitter(_)) })
         .map(|x| x.id)
         .expect("a node to move");
-    for mode in 0..3 {
+    // `DRAG_MODES=2` (a list of digits) runs only those paths: 0 full,
+    // 1 incremental, 2 preview (for a profile of one of them).
+    let modes: Vec<usize> = std::env::var("DRAG_MODES").map_or_else(
+        |_| vec![0, 1, 2],
+        |s| s.chars().filter_map(|c| c.to_digit(10)).map(|d| d as usize).filter(|&d| d < 3).collect(),
+    );
+    for mode in modes {
         let mut ws = if mode == 0 { Workspace::default() } else { Workspace::for_edits() };
         let t = Instant::now();
         let first = solve_project(&p, &opts, &mut ws);

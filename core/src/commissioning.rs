@@ -76,23 +76,23 @@ pub fn schedule(p: &Project, sol: &Solution) -> Vec<ScheduleLine> {
         let Some(NodeKind::Emitter(em)) = p.node(e.id).map(|n| &n.kind) else { continue };
         let name_of = |id: &str| valves::valve_family(id).map_or_else(|_| id.to_owned(), |f| f.name.clone());
         out.push(ScheduleLine {
-            level: e.level.clone(),
+            level: e.level.to_string(),
             item: e.id.to_string(),
-            name: e.name.clone(),
+            name: e.name.to_string(),
             device: Device::Valve,
             family: name_of(&em.valves.valve_family),
-            setting: e.presetting.clone(),
+            setting: e.presetting.to_string(),
             kv_m3_h: e.valve_kv_m3_h,
             design_flow_l_h: e.design_flow_l_h,
             dp_kpa: e.valve_dp_pa / 1000.0,
         });
         out.push(ScheduleLine {
-            level: e.level.clone(),
+            level: e.level.to_string(),
             item: e.id.to_string(),
-            name: e.name.clone(),
+            name: e.name.to_string(),
             device: Device::Lockshield,
             family: name_of(&em.valves.lockshield_family),
-            setting: e.lockshield.clone(),
+            setting: e.lockshield.to_string(),
             kv_m3_h: e.lockshield_kv_m3_h,
             design_flow_l_h: e.design_flow_l_h,
             dp_kpa: e.lockshield_dp_pa / 1000.0,

@@ -6,6 +6,8 @@
 //! the residual flow error, the authority), the pump law of the operating
 //! solve, and the totals: load, water volume, expansion vessel (EN 12828).
 
+use std::sync::Arc;
+
 use super::findings::{self, FindingKind};
 use super::results::{EmitterResult, PipeResult, PumpResult, Side, Solution};
 use super::state::{Derivation, EmitterData, NONE};
@@ -120,8 +122,8 @@ impl Derivation<'_> {
             let q_m3_h = m / sp.density_kg_m3 * 3600.0;
             let mut r = EmitterResult {
                 id: e.id,
-                name: em.name.clone(),
-                level: p.level(node.level).map_or_else(String::new, |l| l.name.clone()),
+                name: em.name.as_str().into(),
+                level: p.level(node.level).map_or_else(|| Arc::from(""), |l| l.name.as_str().into()),
                 load_w: em.load_w,
                 room_c: em.room_c,
                 supply_c: s.supply_c,
@@ -134,9 +136,9 @@ impl Derivation<'_> {
                 circuit_rest_pa: c.rest_pa[i],
                 valve_dp_pa: 0.0,
                 kv_needed_m3_h: 0.0,
-                presetting: String::from("—"),
+                presetting: Arc::from("—"),
                 valve_kv_m3_h: 0.0,
-                lockshield: String::new(),
+                lockshield: Arc::from(""),
                 lockshield_kv_m3_h: 0.0,
                 lockshield_dp_pa: 0.0,
                 authority: 0.0,
@@ -158,7 +160,10 @@ impl Derivation<'_> {
                 valve_kv = FEED_OPEN_KV_M3_H;
             }
             let mut lock_kv = e.lockshield_kv;
-            r.lockshield = e.lockshield.and_then(|l| l.settings.last()).map_or_else(String::new, |st| st.label.clone());
+            r.lockshield = e
+                .lockshield
+                .and_then(|l| l.settings.last())
+                .map_or_else(|| Arc::from(""), |st| st.label.as_str().into());
             // In a zone: the zone's Δp, the rest from its entry.
             let zone = zones.of_emitter.get(i).copied().flatten();
             let zone_available = zone.map_or(available, |d| zones.available_pa[d]);

@@ -115,14 +115,14 @@ impl Derivation<'_> {
                 authority_dp_pa: valves::AUTHORITY_WARN_BELOW * self.circuit_available(k),
             };
             let Ok(t) = valves::choose_trim(valve, lock, &need) else { continue };
-            let same = valve.settings[t.valve_index].label == r.presetting
-                && lock.settings[t.lockshield_index].label == r.lockshield;
+            let same = *valve.settings[t.valve_index].label == *r.presetting
+                && *lock.settings[t.lockshield_index].label == *r.lockshield;
             if same {
                 continue;
             }
             let r = &mut sol.emitters[k];
-            r.presetting.clone_from(&valve.settings[t.valve_index].label);
-            r.lockshield.clone_from(&lock.settings[t.lockshield_index].label);
+            r.presetting = valve.settings[t.valve_index].label.as_str().into();
+            r.lockshield = lock.settings[t.lockshield_index].label.as_str().into();
             r.valve_kv_m3_h = t.valve_kv_m3_h;
             r.lockshield_kv_m3_h = t.lockshield_kv_m3_h;
             r.presetting_flow_error = t.flow_error_fraction;

@@ -35,10 +35,10 @@ pub fn freeze_edit(p: &Project, sol: &Solution) -> Edit {
         let Some(node) = p.node(e.id) else { continue };
         let NodeKind::Emitter(em) = &node.kind else { continue };
         let mut frozen = em.clone();
-        if !(e.presetting == "—" || e.presetting.is_empty()) {
-            frozen.valves.presetting = Some(e.presetting.clone());
+        if !(&*e.presetting == "—" || e.presetting.is_empty()) {
+            frozen.valves.presetting = Some(e.presetting.to_string());
             if !e.lockshield.is_empty() {
-                frozen.valves.lockshield_setting = Some(e.lockshield.clone());
+                frozen.valves.lockshield_setting = Some(e.lockshield.to_string());
             }
         }
         if let (EmitterModel::Radiator(spec), Some(EmitterDetail::Radiator(d))) = (&mut frozen.model, &e.detail)

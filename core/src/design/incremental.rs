@@ -23,7 +23,7 @@ use super::findings::Finding;
 use super::results::LinkRole;
 use super::size::bend_zeta;
 use super::state::{Derivation, DeviceData, EmitterData, PipeData};
-use super::topology::{self, Dense};
+use super::topology;
 use crate::network::HydraulicNetwork;
 use crate::project::{Edit, NodeId, Project, RunId};
 use crate::pump::{PumpControl, PumpCurve};
@@ -178,8 +178,51 @@ impl Retained {
     /// their new length, bends and law) and copy it into `d`. False when a
     /// hinted run is part of a reverse-return chain or a new law cannot be
     /// built: the caller then takes the full path, which reports why.
-    pub(super) fn update_into(&mut self, p: &Project, dn: &Dense<'_>, hint: &EditHint, d: &mut Derivation<'_>) -> bool {
-        let (Some(sp), Some(rp)) = (self.supply_props, self.return_props) else { return false };
+    pub(super) fn update_into(&mut self, p: &Project, hint: &EditHint, d: &mut Derivation<'_>) -> bool {
+        let Some(touched) = self.update_geometry(p, hint) else { return false };
+        self.restore(d);
+        if !set_laws(d, &touched) {
+            return false;
+        }
+        for &i in &touched {
+            if let Some(link) = d.pipes.get(i).map(|pd| pd.link) {
+                // The kept copy follows, for the next edit.
+                self.net.links[link].law.clone_from(&d.net.links[link].law);
+            }
+        }
+        self.revision = p.revision;
+        true
+    }
+
+    /// As [`Self::update_into`], but the kept derivation is *lent* to `d`
+    /// (its vectors moved, not copied: a drag preview's operating pass
+    /// then works on the kept state itself) and must come back with
+    /// [`Self::take_back`], whether or not this succeeded. What the pass
+    /// changes stays for the next preview: the moved pipes' laws and the
+    /// Δp controllers' openings (a warm start for the next frame).
+    pub(super) fn lend_updated(&mut self, p: &Project, hint: &EditHint, d: &mut Derivation<'_>) -> bool {
+        let Some(touched) = self.update_geometry(p, hint) else { return false };
+        (*d.findings).clone_from(&self.findings);
+        self.swap(d);
+        if !set_laws(d, &touched) {
+            return false;
+        }
+        self.revision = p.revision;
+        true
+    }
+
+    /// Take back what [`Self::lend_updated`] lent to `d`.
+    pub(super) fn take_back(&mut self, d: &mut Derivation<'_>) {
+        self.swap(d);
+    }
+
+    /// The hinted runs' pipes in the kept derivation get their new
+    /// length, bends and vertical flag; returns their indices, or `None`
+    /// when a hinted run is part of a reverse-return chain or missing.
+    fn update_geometry(&mut self, p: &Project, hint: &EditHint) -> Option<Vec<usize>> {
+        if self.supply_props.is_none() || self.return_props.is_none() {
+            return None;
+        }
         // The pipes to touch: both sides of every hinted tree run.
         let mut touched = Vec::new();
         for &run in &hint.runs {
@@ -188,30 +231,44 @@ impl Retained {
                 continue;
             }
             if self.in_chain.get(self.topo.rix(run)).copied().unwrap_or(false) {
-                return false;
+                return None;
             }
             touched.extend(self.pipes.iter().enumerate().filter(|(_, pd)| pd.run == run).map(|(i, _)| i));
         }
         for &i in &touched {
             let pd = &mut self.pipes[i];
-            let Some(run) = dn.run(pd.run) else { return false };
-            pd.length_m = dn.length_m(run);
-            (pd.bends_90, pd.bends_45) = super::derive::bends_dense(dn, run);
-            pd.vertical = dn.is_vertical(run);
+            // The project's own lookups: a few runs, no dense index needed.
+            let run = p.run(pd.run)?;
+            pd.length_m = p.length_m(run);
+            (pd.bends_90, pd.bends_45) = super::derive::bends_in_run(p, run);
+            pd.vertical = p.is_vertical(run);
         }
-        self.restore(d);
-        let bz = bend_zeta();
-        for &i in &touched {
-            if d.set_pipe_law(i, bz, sp, rp).is_err() {
-                return false;
-            }
-            if let (Some(pd), Some(link)) = (d.pipes.get(i), d.pipes.get(i).and_then(|pd| d.net.links.get(pd.link))) {
-                // The kept copy follows, for the next edit.
-                self.net.links[pd.link].law.clone_from(&link.law);
-            }
-        }
-        self.revision = p.revision;
-        true
+        Some(touched)
+    }
+
+    /// Exchange the kept derivation with `d`'s (vectors moved, scalars
+    /// copied both ways); the findings are not part of it.
+    fn swap(&mut self, d: &mut Derivation<'_>) {
+        std::mem::swap(&mut d.topo, &mut self.topo);
+        std::mem::swap(&mut d.net, &mut self.net);
+        std::mem::swap(&mut d.roles, &mut self.roles);
+        std::mem::swap(&mut d.emitters, &mut self.emitters);
+        std::mem::swap(&mut d.pipes, &mut self.pipes);
+        std::mem::swap(&mut d.devices, &mut self.devices);
+        std::mem::swap(&mut d.source, &mut self.source);
+        std::mem::swap(&mut d.source_link, &mut self.source_link);
+        std::mem::swap(&mut d.pump_link, &mut self.pump_link);
+        std::mem::swap(&mut d.supply_props, &mut self.supply_props);
+        std::mem::swap(&mut d.return_props, &mut self.return_props);
+        std::mem::swap(&mut d.pairs, &mut self.pairs);
+        std::mem::swap(&mut d.design_flows, &mut self.design_flows);
+        std::mem::swap(&mut d.supply_link, &mut self.supply_link);
+        std::mem::swap(&mut d.supply_pipe, &mut self.supply_pipe);
+        std::mem::swap(&mut d.return_link, &mut self.return_link);
+        std::mem::swap(&mut d.control, &mut self.control);
+        std::mem::swap(&mut d.curve, &mut self.curve);
+        std::mem::swap(&mut d.total_design_kg_s, &mut self.total_design_kg_s);
+        std::mem::swap(&mut d.tree_orders, &mut self.tree_orders);
     }
 
     /// Copy the kept derivation into `d` (a fresh one) and the kept
@@ -239,4 +296,12 @@ impl Retained {
         d.total_design_kg_s = self.total_design_kg_s;
         d.tree_orders.clone_from(&self.tree_orders);
     }
+}
+
+/// The pipe laws of the `touched` pipes of `d`, from their geometry;
+/// false when one cannot be built.
+fn set_laws(d: &mut Derivation<'_>, touched: &[usize]) -> bool {
+    let (Some(sp), Some(rp)) = (d.supply_props, d.return_props) else { return false };
+    let bz = bend_zeta();
+    touched.iter().all(|&i| d.set_pipe_law(i, bz, sp, rp).is_ok())
 }

@@ -162,12 +162,12 @@ pub fn solve_edit(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint: &E
     let t0 = Instant::now();
     let mut findings = Vec::new();
     let mut d = Derivation::new(&mut findings);
-    let dn = Dense::new(p);
-    if !kept.update_into(p, &dn, hint, &mut d) {
+    if !kept.update_into(p, hint, &mut d) {
         drop(d);
         return solve_project(p, opts, ws);
     }
     ws.retained = Some(kept);
+    let dn = Dense::new(p);
     sol.timings.derive_ms = ms_since(t0);
     sol.timings.incremental = true;
     finish(&mut d, p, &dn, opts, ws, &mut sol, true, Instant::now());

@@ -206,8 +206,10 @@ impl Derivation<'_> {
             let installed = s.mode == Mode::Installed;
             let open = !r.closed && r.design_flow_kg_s > 0.0;
             r.flow_within_tolerance = !open || r.flow_deviation.abs() <= s.flow_tolerance_fraction;
-            let node = p.node(e.id);
-            if let Some(node) = node.filter(|_| !r.flow_within_tolerance) {
+            // The node only for a finding (a lookup per emitter is most of
+            // this loop's time in a drag preview otherwise).
+            let node = || p.node(e.id);
+            if let Some(node) = (!r.flow_within_tolerance).then(node).flatten() {
                 self.findings.push(findings::flow_out_of_tolerance(
                     node,
                     r.flow_l_h,
@@ -221,7 +223,7 @@ impl Derivation<'_> {
             } else if installed && open && r.load_w > 0.0 && r.output_w < 0.95 * r.load_w {
                 self.findings.push(findings::room_short(e.id, &r.name, 1.0 + r.flow_deviation, r.output_w, r.load_w));
             }
-            if let Some(node) = node.filter(|_| open && r.return_c > s.return_c + s.hot_return_margin_k) {
+            if let Some(node) = (open && r.return_c > s.return_c + s.hot_return_margin_k).then(node).flatten() {
                 self.findings.push(findings::hot_return(node, r.return_c, s.return_c, s.hot_return_margin_k));
             }
         }

@@ -25,7 +25,6 @@ use std::time::Instant;
 use super::incremental::{EditHint, Retained};
 use super::results::Solution;
 use super::state::Derivation;
-use super::topology::Dense;
 use super::{SolveOptions, Workspace, ms_since, with_findings};
 use crate::project::{Project, RunId};
 
@@ -103,8 +102,8 @@ pub fn solve_preview(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint:
     let t0 = Instant::now();
     let mut findings = Vec::new();
     let mut d = Derivation::new(&mut findings);
-    let dn = Dense::new(p);
-    if !base.state.update_into(p, &dn, hint, &mut d) {
+    if !base.state.lend_updated(p, hint, &mut d) {
+        base.state.take_back(&mut d);
         return None;
     }
     d.result_emitter.clone_from(&base.result_emitter);
@@ -115,7 +114,10 @@ pub fn solve_preview(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint:
     base.moved.extend_from_slice(&hint.runs);
     base.moved.sort_unstable();
     base.moved.dedup();
-    let mut sol = base.solution.clone()?;
+    let Some(mut sol) = base.solution.clone() else {
+        base.state.take_back(&mut d);
+        return None;
+    };
     sol.revision = p.revision;
     sol.preview = true;
     sol.findings.clear();
@@ -135,9 +137,11 @@ pub fn solve_preview(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint:
     let t1 = Instant::now();
     d.operate(p, opts, ws, &mut sol);
     sol.timings.operate_ms = ms_since(t1);
-    sol.network = std::mem::take(&mut d.net);
-    sol.roles = std::mem::take(&mut d.roles);
-    sol.topology = std::mem::take(&mut d.topo);
+    // The kept state goes back to the base; the solution gets copies.
+    sol.network.clone_from(&d.net);
+    sol.roles.clone_from(&d.roles);
+    sol.topology.clone_from(&d.topo);
+    base.state.take_back(&mut d);
     drop(d);
     ws.preview = Some(base);
     Some(with_findings(sol, findings))

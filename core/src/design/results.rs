@@ -3,6 +3,8 @@
 //! the findings. Everything downstream (the window, the parts list, the
 //! report, the exports) reads these; none of it derives facts again.
 
+use std::sync::Arc;
+
 use crate::emitters::EmitterDetail;
 use crate::network::HydraulicNetwork;
 use crate::project::{NodeId, PipeClass, RunId};
@@ -126,9 +128,9 @@ pub struct EmitterResult {
     /// Node id.
     pub id: NodeId,
     /// Name.
-    pub name: String,
+    pub name: Arc<str>,
     /// Level name.
-    pub level: String,
+    pub level: Arc<str>,
     /// Design load, W.
     pub load_w: f64,
     /// Room temperature, °C.
@@ -157,11 +159,11 @@ pub struct EmitterResult {
     /// the circuit cannot be balanced).
     pub kv_needed_m3_h: f64,
     /// Presetting label.
-    pub presetting: String,
+    pub presetting: Arc<str>,
     /// Kv at the presetting, m³/h.
     pub valve_kv_m3_h: f64,
     /// Lockshield setting label (its last step is fully open).
-    pub lockshield: String,
+    pub lockshield: Arc<str>,
     /// Kv at the lockshield setting, m³/h.
     pub lockshield_kv_m3_h: f64,
     /// Valve authority.

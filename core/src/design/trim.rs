@@ -3,6 +3,8 @@
 //! Δp at design flow, the valve's authority and the trim's findings. Used
 //! by the balance stage and by the commissioning rounds.
 
+use std::sync::Arc;
+
 use super::SolveOptions;
 use super::Workspace;
 use super::findings::{self, FindingKind};
@@ -87,13 +89,13 @@ impl Derivation<'_> {
             (Some(label), lock) if lock.is_some() || set.mode == Mode::Installed || opts.continuous_presetting => {
                 if let Some(i) = valve_step(label) {
                     valve_kv = family.settings[i].kv_m3_h;
-                    r.presetting = label.to_owned();
+                    r.presetting = label.into();
                 } else if let Some(pos) =
                     label.parse::<f64>().ok().filter(|_| opts.continuous_presetting || set.mode == Mode::Installed)
                     && let Ok(kv) = valves::kv_at_continuous_setting(family, pos)
                 {
                     valve_kv = kv;
-                    r.presetting = label.to_owned();
+                    r.presetting = label.into();
                 } else {
                     self.findings.push(findings::presetting_unknown(node, label, &family.name));
                 }
@@ -101,7 +103,7 @@ impl Derivation<'_> {
                     match (lock_step(l), set.lockshield) {
                         (Some(i), Some(fam)) => {
                             lock_kv = fam.settings[i].kv_m3_h;
-                            r.lockshield = l.to_owned();
+                            r.lockshield = l.into();
                         }
                         (_, fam) => {
                             let fam = fam.map_or("its lockshield family", |f| f.name.as_str());
@@ -118,7 +120,7 @@ impl Derivation<'_> {
                 }
             }
             (_, _) if dp_pair <= 0.0 => {
-                r.presetting = family.settings.last().map_or_else(String::new, |st| st.label.clone());
+                r.presetting = family.settings.last().map_or_else(|| Arc::from(""), |st| st.label.as_str().into());
                 self.findings.push(findings::valve_cannot_deliver(node));
             }
             (None, _) if opts.continuous_presetting => {
@@ -127,7 +129,7 @@ impl Derivation<'_> {
                 r.kv_needed_m3_h = kv_needed;
                 let pos = valves::continuous_setting_for_kv(family, kv_needed).unwrap_or(0.0);
                 valve_kv = valves::kv_at_continuous_setting(family, pos).unwrap_or(kv_needed);
-                r.presetting = format!("{pos:.3}");
+                r.presetting = format!("{pos:.3}").into();
             }
             (fixed_valve, _) => {
                 let Some(lock_family) = set.lockshield else {
@@ -141,8 +143,8 @@ impl Derivation<'_> {
                     Ok(t) => {
                         valve_kv = t.valve_kv_m3_h;
                         lock_kv = t.lockshield_kv_m3_h;
-                        r.presetting.clone_from(&family.settings[t.valve_index].label);
-                        r.lockshield.clone_from(&lock_family.settings[t.lockshield_index].label);
+                        r.presetting = family.settings[t.valve_index].label.as_str().into();
+                        r.lockshield = lock_family.settings[t.lockshield_index].label.as_str().into();
                         r.presetting_flow_error = t.flow_error_fraction;
                         r.kv_needed_m3_h = valve_kv_needed(t.pair_kv_needed_m3_h, lock_kv);
                         self.trim_findings(node, name, family, lock_family, &t, r, s, c.slot, ws);

@@ -173,9 +173,11 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, st: &mut TableEdits,
                     out.centre_on = Some(ItemRef::Node(e.id));
                 }
             }
-            1 => commit(ui, st, out, id, data, Col::Name, data.map_or_else(|| e.name.clone(), |d| d.1.name.clone())),
+            1 => {
+                commit(ui, st, out, id, data, Col::Name, data.map_or_else(|| e.name.to_string(), |d| d.1.name.clone()))
+            }
             2 => {
-                cell_label(ui, e.level.as_str());
+                cell_label(ui, &*e.level);
             }
             3 => commit(ui, st, out, id, data, Col::Load, format!("{:.0}", data.map_or(e.load_w, |d| d.1.load_w))),
             4 => commit(ui, st, out, id, data, Col::Room, format!("{:.1}", data.map_or(e.room_c, |d| d.1.room_c))),
@@ -206,17 +208,17 @@ pub fn show(ui: &mut Ui, project: &Project, sol: &Solution, st: &mut TableEdits,
                     commit(ui, st, out, id, data, Col::Presetting, fixed.unwrap_or_default());
                 } else {
                     let resp = ui
-                        .add(egui::Button::new(RichText::new(e.presetting.as_str()).italics()).frame(false))
+                        .add(egui::Button::new(RichText::new(&*e.presetting).italics()).frame(false))
                         .on_hover_text("Chosen by the design — click to fix a presetting");
                     if resp.clicked() {
                         st.focused = Some(key);
                         st.want_focus = Some(key);
-                        st.buffers.insert(key, e.presetting.clone());
+                        st.buffers.insert(key, e.presetting.to_string());
                     }
                 }
             }
             10 => {
-                cell_label(ui, e.lockshield.as_str());
+                cell_label(ui, &*e.lockshield);
             }
             11 => {
                 let a = RichText::new(format!("{:.2}", e.authority));
