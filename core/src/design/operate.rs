@@ -172,8 +172,10 @@ impl Derivation<'_> {
         self.pipes_filled = true;
         sol.link_flows_kg_s = flows;
         if !self.devices.is_empty() {
-            let (f, pr) = (sol.link_flows_kg_s.clone(), sol.node_pressures_pa.clone());
+            // Lent, not copied: the device results write only `sol.devices`.
+            let (f, pr) = (std::mem::take(&mut sol.link_flows_kg_s), std::mem::take(&mut sol.node_pressures_pa));
             self.device_results(&p.settings, &f, &pr, sol);
+            (sol.link_flows_kg_s, sol.node_pressures_pa) = (f, pr);
         }
         let flows = &sol.link_flows_kg_s;
 

@@ -740,16 +740,22 @@ fn prepare(
     initial_flows_kg_s: Option<&[f64]>,
 ) -> Result<Vec<usize>, SolveError> {
     // Open flags and static terms: set by `validate_values`.
-    for (k, l) in net.links.iter().enumerate() {
-        let start = match (initial_flows_kg_s, &l.law) {
-            (Some(init), _) => init[k],
-            (None, LinkLaw::Pipe(p)) => p.density_kg_m3 * settings.initial_velocity_m_s * p.flow_area_m2(),
-            (None, &LinkLaw::Quadratic { r_pa_s2_kg2 }) if r_pa_s2_kg2 > 0.0 => {
-                (settings.initial_quadratic_dp_pa / r_pa_s2_kg2).sqrt()
-            }
-            (None, _) => settings.initial_flow_kg_s,
-        };
-        ws.flow_kg_s[k] = if l.closed { 0.0 } else { start };
+    if let Some(init) = initial_flows_kg_s {
+        // From the flat arrays (the links themselves are not read again).
+        for ((m, &start), &open) in ws.flow_kg_s.iter_mut().zip(init).zip(&ws.open) {
+            *m = if open { start } else { 0.0 };
+        }
+    } else {
+        for (k, l) in net.links.iter().enumerate() {
+            let start = match l.law {
+                LinkLaw::Pipe(ref p) => p.density_kg_m3 * settings.initial_velocity_m_s * p.flow_area_m2(),
+                LinkLaw::Quadratic { r_pa_s2_kg2 } if r_pa_s2_kg2 > 0.0 => {
+                    (settings.initial_quadratic_dp_pa / r_pa_s2_kg2).sqrt()
+                }
+                LinkLaw::Quadratic { .. } | LinkLaw::Pump { .. } => settings.initial_flow_kg_s,
+            };
+            ws.flow_kg_s[k] = if l.closed { 0.0 } else { start };
+        }
     }
     ws.step_kg_s.iter_mut().for_each(|v| *v = 0.0);
     ws.last_significant_step_kg_s.iter_mut().for_each(|v| *v = 0.0);
