@@ -207,6 +207,14 @@ impl Retained {
         if !set_laws(d, &touched) {
             return false;
         }
+        // Kept after an operating pass, every other law is the operating
+        // one already; the new laws become so here.
+        for &i in &touched {
+            if let Some(link) = d.pipes.get(i).and_then(|pd| d.net.links.get_mut(pd.link)) {
+                super::operate::to_operating_law(link);
+            }
+        }
+        d.operating_laws = true;
         self.revision = p.revision;
         true
     }

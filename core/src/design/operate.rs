@@ -52,12 +52,8 @@ impl Derivation<'_> {
         sol.timings.operate_passes += 1;
         // The design sized and balanced with the conservative friction law;
         // the network operates on the continuous one (smooth for Newton).
-        for k in &mut self.net.links {
-            if let LinkLaw::Pipe(h) = &mut k.law
-                && h.friction_law == FrictionLaw::ColebrookWhiteConservative
-            {
-                h.friction_law = FrictionLaw::ColebrookWhite;
-            }
+        for k in self.net.links.iter_mut().filter(|_| !self.operating_laws) {
+            to_operating_law(k);
         }
         // Regulated feeds (pumped circuits behind a mixing or injection
         // valve): the valve holds the circuit's primary flow, so the network
@@ -272,6 +268,16 @@ impl Derivation<'_> {
                 ));
             }
         }
+    }
+}
+
+/// A pipe sized with the conservative friction law operates on the
+/// continuous one (smooth for Newton).
+pub(super) fn to_operating_law(k: &mut HydLink) {
+    if let LinkLaw::Pipe(h) = &mut k.law
+        && h.friction_law == FrictionLaw::ColebrookWhiteConservative
+    {
+        h.friction_law = FrictionLaw::ColebrookWhite;
     }
 }
 

@@ -201,6 +201,10 @@ pub(super) struct Derivation<'f> {
     /// Solve loosely while the controllers still move (drag preview only:
     /// the path then depends on the start, which a full solve must not).
     pub(super) loose_regulation: bool,
+    /// Every pipe law is already the operating one (a drag preview's
+    /// state, kept after an operating pass): the operate stage need not
+    /// switch the friction laws of the whole network again.
+    pub(super) operating_laws: bool,
 }
 
 impl<'f> Derivation<'f> {
@@ -234,6 +238,7 @@ impl<'f> Derivation<'f> {
             feeds: std::collections::BTreeMap::new(),
             held_dp_tolerance_pa: super::devices::HELD_DP_TOLERANCE_PA,
             loose_regulation: false,
+            operating_laws: false,
         }
     }
 
