@@ -208,13 +208,19 @@ impl Retained {
             return false;
         }
         // Kept after an operating pass, every other law is the operating
-        // one already; the new laws become so here.
+        // one already; the new laws become so here, and they are all that
+        // changed since the workspace's last solve of this network.
+        let mut changed = Vec::with_capacity(touched.len());
         for &i in &touched {
-            if let Some(link) = d.pipes.get(i).and_then(|pd| d.net.links.get_mut(pd.link)) {
+            if let Some(k) = d.pipes.get(i).map(|pd| pd.link)
+                && let Some(link) = d.net.links.get_mut(k)
+            {
                 super::operate::to_operating_law(link);
+                changed.push(k);
             }
         }
         d.operating_laws = true;
+        d.changed_links = Some(changed);
         self.revision = p.revision;
         true
     }

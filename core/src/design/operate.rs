@@ -104,11 +104,21 @@ impl Derivation<'_> {
         sol.timings.solver_ms = 0.0;
         sol.timings.solver_runs = 0;
         let mut start = initial.to_vec();
+        // What changed since the workspace's last solve, when known (a drag
+        // preview): those links and the controllers' (regulated below).
+        let changed: Option<Vec<usize>> = self.changed_links.take().filter(|_| same_topology).map(|mut c| {
+            c.extend(self.devices.iter().filter(|d| d.controller.is_some()).map(|d| d.link));
+            c
+        });
         let mut rounds = 0;
         let mut accel = super::accel::Anderson::default();
         let report = loop {
             let settings = if tight { &opts.solver } else { &loose };
-            let report = match solver::solve(&self.net, settings, &mut solver_ws, Some(&start)) {
+            let solved = match &changed {
+                Some(c) => solver::solve_changed(&self.net, settings, &mut solver_ws, Some(&start), c),
+                None => solver::solve(&self.net, settings, &mut solver_ws, Some(&start)),
+            };
+            let report = match solved {
                 Ok(r) => r,
                 Err(e) => {
                     ws.solver = Some(solver_ws);

@@ -205,6 +205,11 @@ pub(super) struct Derivation<'f> {
     /// state, kept after an operating pass): the operate stage need not
     /// switch the friction laws of the whole network again.
     pub(super) operating_laws: bool,
+    /// The links whose law changed since the workspace's last solve of
+    /// this network (a drag preview's moved pipes), when that is known:
+    /// the operate stage then has the solver validate only those and the
+    /// Δp controllers' links (`solver::solve_changed`).
+    pub(super) changed_links: Option<Vec<usize>>,
 }
 
 impl<'f> Derivation<'f> {
@@ -239,6 +244,7 @@ impl<'f> Derivation<'f> {
             held_dp_tolerance_pa: super::devices::HELD_DP_TOLERANCE_PA,
             loose_regulation: false,
             operating_laws: false,
+            changed_links: None,
         }
     }
 

@@ -12,7 +12,8 @@
 //! algorithm (equations, regularisation, convergence test, warm starts and
 //! the chord step, non-convergence diagnostics) whose documentation belongs
 //! beside the code it explains; the workspace (symbolic factorisation,
-//! sparsity pattern) and the tests live in `solver/`.
+//! sparsity pattern), the validation of a network's values against it and
+//! the tests live in `solver/`.
 //!
 //! # Equations
 //! Link k from node i to node j, mass flow m_k (positive i → j):
@@ -100,6 +101,7 @@
 //! both the flows and the pressures keeps continuity, since the previous
 //! iterate already balanced.
 
+mod validate;
 mod workspace;
 
 pub use workspace::SolverWorkspace;
@@ -112,10 +114,11 @@ use faer::sparse::linalg::cholesky::LltRef;
 use faer::{Conj, MatMut, Par, Side};
 use thiserror::Error;
 
+use self::validate::{validate_changed, validate_values};
 use self::workspace::NONE;
 use super::{GRAVITY_M_S2, HydraulicNetwork, LinkLaw};
 use crate::error::{PhysicsError, PhysicsResult, check};
-use crate::friction::{PipeHydraulics, PipeKernel};
+use crate::friction::PipeKernel;
 
 /// Below this |mass flow|, kg/s, a [`LinkLaw::Quadratic`] resistance follows
 /// the straight line r·m₀·m instead of r·m|m| (m₀ = this value), so its
@@ -540,98 +543,6 @@ impl LinkKernel {
     }
 }
 
-/// Every node and link value checked (topology is checked by the
-/// workspace); each link's open flag and static term set. A link law equal to the one validated at the workspace's last
-/// solve is not checked again; a changed law is checked, remembered, and its
-/// cached evaluation dropped.
-///
-/// The same pass compares each link's endpoints with the workspace's (the
-/// topology check of [`SolverWorkspace::matches`], without a second pass
-/// over the links): a difference returns `Ok(false)` — the caller rebuilds
-/// the workspace and validates again. A value error is returned only when
-/// the topology matches, so a changed topology is always rebuilt (and its
-/// own errors reported) first, as with a separate check.
-fn validate_values(net: &HydraulicNetwork, ws: &mut SolverWorkspace) -> Result<bool, SolveError> {
-    let same_ends = |ws: &SolverWorkspace, from: usize| {
-        ws.endpoints[from..].iter().zip(&net.links[from..]).all(|(&(i, j), l)| i == l.from && j == l.to)
-    };
-    check::finite("reference pressure", net.reference_pressure_pa, "Pa")
-        .map_err(SolveError::InvalidReferencePressure)?;
-    for (node, n) in net.nodes.iter().enumerate() {
-        if !(n.elevation_m.is_finite() && n.demand_kg_s.is_finite()) {
-            check::finite("node elevation", n.elevation_m, "m")
-                .and_then(|_| check::finite("node demand", n.demand_kg_s, "kg/s"))
-                .map_err(|source| SolveError::InvalidNode { node, source })?;
-        }
-    }
-    for (link, l) in net.links.iter().enumerate() {
-        if ws.endpoints[link] != (l.from, l.to) {
-            return Ok(false);
-        }
-        if !(l.density_kg_m3.is_finite() && l.density_kg_m3 > 0.0) {
-            if !same_ends(ws, link) {
-                return Ok(false);
-            }
-            check::positive("link water density", l.density_kg_m3, "kg/m³")
-                .map_err(|source| SolveError::InvalidLink { link, source })?;
-        }
-        // The open flag and the static term ride along this pass (the
-        // endpoints are checked by the workspace).
-        ws.open[link] = !l.closed;
-        let (zi, zj) = (net.nodes[l.from].elevation_m, net.nodes[l.to].elevation_m);
-        ws.static_pa[link] = l.density_kg_m3 * GRAVITY_M_S2 * (zi - zj);
-        if ws.known_law[link].as_ref() == Some(&l.law) {
-            continue;
-        }
-        let checked = match l.law {
-            LinkLaw::Pipe(ref p) => PipeHydraulics::new(
-                p.length_m,
-                p.inner_diameter_m,
-                p.roughness_m,
-                p.zeta_sum,
-                p.density_kg_m3,
-                p.viscosity_pa_s,
-            )
-            .map(|_| ()),
-            LinkLaw::Quadratic { r_pa_s2_kg2 } => {
-                check::non_negative("resistance coefficient r", r_pa_s2_kg2, "Pa·s²/kg²").map(|_| ())
-            }
-            LinkLaw::Pump { a0_pa, a1_pa_s_kg, a2_pa_s2_kg2, max_curve_pa, linear_beyond_kg_s } => {
-                let [c0, c1, c2] = max_curve_pa.unwrap_or_default();
-                let linear_beyond_ok = if linear_beyond_kg_s.is_nan() || linear_beyond_kg_s < 0.0 {
-                    Err(PhysicsError::OutOfRange {
-                        quantity: "pump curve's linear continuation flow",
-                        value: linear_beyond_kg_s,
-                        unit: "kg/s",
-                        min: 0.0,
-                        max: f64::INFINITY,
-                    })
-                } else {
-                    Ok(())
-                };
-                check::finite("pump coefficient a0", a0_pa, "Pa")
-                    .and_then(|_| check::finite("pump coefficient a1", a1_pa_s_kg, "Pa·s/kg"))
-                    .and_then(|_| check::finite("pump coefficient a2", a2_pa_s2_kg2, "Pa·s²/kg²"))
-                    .and_then(|_| check::finite("pump maximum-curve coefficient a0", c0, "Pa"))
-                    .and_then(|_| check::finite("pump maximum-curve coefficient a1", c1, "Pa·s/kg"))
-                    .and_then(|_| check::finite("pump maximum-curve coefficient a2", c2, "Pa·s²/kg²"))
-                    .and(linear_beyond_ok)
-                    .map(|_| ())
-            }
-        };
-        if let Err(source) = checked {
-            return if same_ends(ws, link) { Err(SolveError::InvalidLink { link, source }) } else { Ok(false) };
-        }
-        ws.kernels[link] = LinkKernel::new(&l.law);
-        match &mut ws.known_law[link] {
-            Some(known) => known.clone_from(&l.law),
-            slot => *slot = Some(l.law.clone()),
-        }
-        ws.eval_flow_kg_s[link] = f64::NAN;
-    }
-    Ok(true)
-}
-
 /// Solves the network for link mass flows and node pressures.
 ///
 /// `workspace` is reused when it matches `net`'s topology and rebuilt
@@ -654,13 +565,46 @@ pub fn solve(
     workspace: &mut SolverWorkspace,
     initial_flows_kg_s: Option<&[f64]>,
 ) -> Result<SolveReport, SolveError> {
+    solve_with(net, settings, workspace, initial_flows_kg_s, None)
+}
+
+/// [`solve`] for a caller that knows what changed since the last solve on
+/// `workspace`: only the links in `changed` (their law, open flag or
+/// density); no node, no other link. Only those links are validated
+/// again — a full pass reads every link law, a tenth of a drag preview's
+/// solve on a large building. When the workspace has no full validation
+/// to build on, or a named link's ends moved, this is [`solve`].
+///
+/// # Errors
+/// As [`solve`].
+pub fn solve_changed(
+    net: &HydraulicNetwork,
+    settings: &SolveSettings,
+    workspace: &mut SolverWorkspace,
+    initial_flows_kg_s: Option<&[f64]>,
+    changed: &[usize],
+) -> Result<SolveReport, SolveError> {
+    solve_with(net, settings, workspace, initial_flows_kg_s, Some(changed))
+}
+
+fn solve_with(
+    net: &HydraulicNetwork,
+    settings: &SolveSettings,
+    workspace: &mut SolverWorkspace,
+    initial_flows_kg_s: Option<&[f64]>,
+    changed: Option<&[usize]>,
+) -> Result<SolveReport, SolveError> {
     let t_total = Instant::now();
     settings.validate().map_err(SolveError::InvalidSettings)?;
     let mut timings = SolveTimings::default();
     // The cheap part of the topology check here; the endpoints are compared
     // in the pass of `validate_values`.
     let mut workspace_rebuilt = !workspace.matches_counts(net);
-    if workspace_rebuilt || !validate_values(net, workspace)? {
+    let valid = |ws: &mut SolverWorkspace| match changed {
+        Some(links) if ws.validated => validate_changed(net, ws, links),
+        _ => validate_values(net, ws),
+    };
+    if workspace_rebuilt || !valid(workspace)? {
         let t = Instant::now();
         *workspace = SolverWorkspace::new(net)?;
         timings.symbolic_us = micros(t);

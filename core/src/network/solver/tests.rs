@@ -260,3 +260,49 @@ fn a_control_law_above_the_curve_gives_the_curve_result() {
     let held = run(&net).unwrap();
     assert!((held.flows_kg_s[0] - (5_000.0_f64 / 4_000.0).sqrt()).abs() < 1e-6);
 }
+
+/// Pump 0 → 1, two parallel resistances 1 → 0 (reference 0).
+fn parallel_net() -> HydraulicNetwork {
+    HydraulicNetwork {
+        nodes: vec![node(0.0), node(3.0)],
+        links: vec![link(0, 1, pump(20_000.0)), link(1, 0, quad(2.5e7)), link(1, 0, quad(4.0e7))],
+        reference_node: 0,
+        reference_pressure_pa: 150_000.0,
+    }
+}
+
+#[test]
+fn naming_the_changed_links_solves_as_a_full_validation_does() {
+    let s = SolveSettings::default();
+    let mut net = parallel_net();
+    let (mut full, mut named) = (SolverWorkspace::default(), SolverWorkspace::default());
+    let first = solve(&net, &s, &mut full, None).unwrap();
+    // No full validation yet on `named`: it validates everything.
+    let _ = solve_changed(&net, &s, &mut named, None, &[]).unwrap();
+    net.links[2].law = quad(1.0e7);
+    let a = solve(&net, &s, &mut full, Some(&first.flows_kg_s)).unwrap();
+    let b = solve_changed(&net, &s, &mut named, Some(&first.flows_kg_s), &[2]).unwrap();
+    assert!(a.converged && b.converged);
+    assert_eq!(a.flows_kg_s, b.flows_kg_s);
+    assert_eq!(a.pressures_pa, b.pressures_pa);
+    // A named link out of range: the full path, which rebuilds.
+    let c = solve_changed(&net, &s, &mut named, Some(&first.flows_kg_s), &[9]).unwrap();
+    assert!(c.workspace_rebuilt);
+    // A bad value in a named link is reported as by `solve`.
+    net.links[1].law = quad(-1.0);
+    assert!(matches!(solve_changed(&net, &s, &mut named, None, &[1]), Err(SolveError::InvalidLink { link: 1, .. })));
+}
+
+/// Debug builds hold the caller to its word: a change it did not name is
+/// caught by the full pass they run beside the partial one.
+#[cfg(debug_assertions)]
+#[test]
+#[should_panic(expected = "a link changed that the caller did not name")]
+fn an_unnamed_change_is_caught_in_debug_builds() {
+    let s = SolveSettings::default();
+    let mut net = parallel_net();
+    let mut ws = SolverWorkspace::default();
+    let first = solve(&net, &s, &mut ws, None).unwrap();
+    net.links[2].law = quad(1.0e7);
+    let _ = solve_changed(&net, &s, &mut ws, Some(&first.flows_kg_s), &[1]);
+}

@@ -85,6 +85,10 @@ pub struct SolverWorkspace {
     /// Link law of each link at the last solve, already validated; a link
     /// whose law is unchanged is not validated again.
     pub(super) known_law: Vec<Option<crate::network::LinkLaw>>,
+    /// Every link and node was validated at the last solve (the open flags,
+    /// static terms and `known_law` are those of that network): what
+    /// [`super::solve_changed`] builds on.
+    pub(super) validated: bool,
     /// The evaluation constants of each known law.
     pub(super) kernels: Vec<super::LinkKernel>,
     /// Flow at which `eval_drop_pa` / `eval_slope_pa_s_kg` were evaluated
