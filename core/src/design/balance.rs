@@ -6,7 +6,7 @@
 //! the residual flow error, the authority), the pump law of the operating
 //! solve, and the totals: load, water volume, expansion vessel (EN 12828).
 
-use std::sync::Arc;
+use smol_str::SmolStr;
 
 use super::findings::{self, FindingKind};
 use super::results::{EmitterResult, PipeResult, PumpResult, Side, Solution};
@@ -123,7 +123,7 @@ impl Derivation<'_> {
             let mut r = EmitterResult {
                 id: e.id,
                 name: em.name.as_str().into(),
-                level: p.level(node.level).map_or_else(|| Arc::from(""), |l| l.name.as_str().into()),
+                level: p.level(node.level).map_or_else(SmolStr::default, |l| l.name.as_str().into()),
                 load_w: em.load_w,
                 room_c: em.room_c,
                 supply_c: s.supply_c,
@@ -136,9 +136,9 @@ impl Derivation<'_> {
                 circuit_rest_pa: c.rest_pa[i],
                 valve_dp_pa: 0.0,
                 kv_needed_m3_h: 0.0,
-                presetting: Arc::from("—"),
+                presetting: SmolStr::new_inline("—"),
                 valve_kv_m3_h: 0.0,
-                lockshield: Arc::from(""),
+                lockshield: SmolStr::default(),
                 lockshield_kv_m3_h: 0.0,
                 lockshield_dp_pa: 0.0,
                 authority: 0.0,
@@ -163,7 +163,7 @@ impl Derivation<'_> {
             r.lockshield = e
                 .lockshield
                 .and_then(|l| l.settings.last())
-                .map_or_else(|| Arc::from(""), |st| st.label.as_str().into());
+                .map_or_else(SmolStr::default, |st| st.label.as_str().into());
             // In a zone: the zone's Δp, the rest from its entry.
             let zone = zones.of_emitter.get(i).copied().flatten();
             let zone_available = zone.map_or(available, |d| zones.available_pa[d]);

@@ -33,6 +33,8 @@
 //! m_s·c_p·(θ_supply − θ_return) = Q, with c_p the mean over the interval
 //! (IAPWS-IF97 enthalpy difference, [`crate::water::mean_cp_j_kg_k`]).
 
+use std::sync::Arc;
+
 use std::collections::{BTreeMap, BTreeSet};
 
 use super::balance::size_vessel;
@@ -265,7 +267,10 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
     found.extend(f);
     let parts = plan(p, &topo, &mut found);
     if parts.is_empty() {
-        return with_findings(Solution { revision: p.revision, topology: topo, ..Solution::default() }, found);
+        return with_findings(
+            Solution { revision: p.revision, topology: Arc::new(topo), ..Solution::default() },
+            found,
+        );
     }
     // Deepest first: every circuit after those it feeds.
     let mut subs: Vec<Option<Solution>> = vec![None; parts.len()];
@@ -429,7 +434,7 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
             l.to += node_off;
             l
         }));
-        out.roles.extend(sol.roles.iter().cloned());
+        Arc::make_mut(&mut out.roles).extend(sol.roles.iter().cloned());
         out.link_flows_kg_s.extend_from_slice(&sol.link_flows_kg_s);
         out.node_pressures_pa.extend_from_slice(&sol.node_pressures_pa);
         out.pipes.extend(sol.pipes.iter().cloned().map(|mut x| {
@@ -512,6 +517,6 @@ pub(super) fn solve_composite(p: &Project, opts: &SolveOptions, ws: &mut Workspa
         out.vessel = size_vessel(p, source, out.water_volume_l, &mut found);
     }
     out.circuits = circuit_results;
-    out.topology = topo;
+    out.topology = Arc::new(topo);
     with_findings(out, found)
 }

@@ -44,6 +44,8 @@ mod state;
 pub mod topology;
 mod trim;
 
+use std::sync::Arc;
+
 use std::collections::{BTreeMap, BTreeSet};
 use std::time::Instant;
 
@@ -251,8 +253,8 @@ fn finish(
         operate::fill_pipe_flows(sol, &d.net, &flows, None);
     }
     sol.network = std::mem::take(&mut d.net);
-    sol.roles = std::mem::take(&mut d.roles);
-    sol.topology = std::mem::take(&mut d.topo);
+    sol.roles = Arc::new(std::mem::take(&mut d.roles));
+    sol.topology = Arc::new(std::mem::take(&mut d.topo));
 }
 
 /// The solution with its findings sorted (errors first, then by item),

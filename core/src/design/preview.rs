@@ -20,6 +20,8 @@
 //! and the solution; a preview updates the kept derivation's moved pipes
 //! and runs the operate stage on a copy.
 
+use std::sync::Arc;
+
 use std::time::Instant;
 
 use super::incremental::{EditHint, Retained};
@@ -66,9 +68,9 @@ impl PreviewBase {
         }
     }
 
-    /// Record the full solve's solution: its design figures (a preview
-    /// makes its own network, roles, topology, flows, pressures and
-    /// findings, so those are not copied).
+    /// Record the full solve's solution: its design figures and (shared)
+    /// its link roles and topology (a preview makes its own network,
+    /// flows, pressures and findings, so those are not copied).
     pub(super) fn set_solution(&mut self, sol: &Solution) {
         self.solution = Some(Solution {
             revision: sol.revision,
@@ -86,6 +88,8 @@ impl PreviewBase {
             timings: sol.timings,
             index_path: sol.index_path.clone(),
             circuits: sol.circuits.clone(),
+            roles: Arc::clone(&sol.roles),
+            topology: Arc::clone(&sol.topology),
             ..Solution::default()
         });
     }
@@ -137,10 +141,11 @@ pub fn solve_preview(p: &Project, opts: &SolveOptions, ws: &mut Workspace, hint:
     let t1 = Instant::now();
     d.operate(p, opts, ws, &mut sol);
     sol.timings.operate_ms = ms_since(t1);
-    // The kept state goes back to the base; the solution gets copies.
+    // The kept state goes back to the base; the solution gets a copy of
+    // the network (the moved pipes' laws are new) and shares the last
+    // design's link roles and topology, which a move does not change.
     sol.network.clone_from(&d.net);
-    sol.roles.clone_from(&d.roles);
-    sol.topology.clone_from(&d.topo);
+    debug_assert!(*sol.roles == d.roles && sol.topology.emitters == d.topo.emitters);
     base.state.take_back(&mut d);
     drop(d);
     ws.preview = Some(base);

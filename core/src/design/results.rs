@@ -5,6 +5,8 @@
 
 use std::sync::Arc;
 
+use smol_str::SmolStr;
+
 use crate::emitters::EmitterDetail;
 use crate::network::HydraulicNetwork;
 use crate::project::{NodeId, PipeClass, RunId};
@@ -128,9 +130,9 @@ pub struct EmitterResult {
     /// Node id.
     pub id: NodeId,
     /// Name.
-    pub name: Arc<str>,
+    pub name: SmolStr,
     /// Level name.
-    pub level: Arc<str>,
+    pub level: SmolStr,
     /// Design load, W.
     pub load_w: f64,
     /// Room temperature, °C.
@@ -159,11 +161,11 @@ pub struct EmitterResult {
     /// the circuit cannot be balanced).
     pub kv_needed_m3_h: f64,
     /// Presetting label.
-    pub presetting: Arc<str>,
+    pub presetting: SmolStr,
     /// Kv at the presetting, m³/h.
     pub valve_kv_m3_h: f64,
     /// Lockshield setting label (its last step is fully open).
-    pub lockshield: Arc<str>,
+    pub lockshield: SmolStr,
     /// Kv at the lockshield setting, m³/h.
     pub lockshield_kv_m3_h: f64,
     /// Valve authority.
@@ -408,7 +410,7 @@ pub struct Solution {
     /// The derived network.
     pub network: HydraulicNetwork,
     /// Role of each link of the network.
-    pub roles: Vec<LinkRole>,
+    pub roles: Arc<Vec<LinkRole>>,
     /// Operating mass flow of each link, kg/s.
     pub link_flows_kg_s: Vec<f64>,
     /// Node pressures of the operating solve, Pa (gauge).
@@ -417,7 +419,7 @@ pub struct Solution {
     pub index_path: Vec<usize>,
     /// The layout's supply tree: run orientation, classes, reverse-return
     /// chains (what the derivation worked from).
-    pub topology: Topology,
+    pub topology: Arc<Topology>,
     /// Pumped circuits (empty for a project with one circuit): the primary
     /// first, then each secondary circuit, feeds before the circuits they
     /// feed.

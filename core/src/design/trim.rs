@@ -3,7 +3,7 @@
 //! Δp at design flow, the valve's authority and the trim's findings. Used
 //! by the balance stage and by the commissioning rounds.
 
-use std::sync::Arc;
+use smol_str::SmolStr;
 
 use super::SolveOptions;
 use super::Workspace;
@@ -120,7 +120,7 @@ impl Derivation<'_> {
                 }
             }
             (_, _) if dp_pair <= 0.0 => {
-                r.presetting = family.settings.last().map_or_else(|| Arc::from(""), |st| st.label.as_str().into());
+                r.presetting = family.settings.last().map_or_else(SmolStr::default, |st| st.label.as_str().into());
                 self.findings.push(findings::valve_cannot_deliver(node));
             }
             (None, _) if opts.continuous_presetting => {
