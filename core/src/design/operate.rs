@@ -104,10 +104,13 @@ impl Derivation<'_> {
         sol.timings.solver_ms = 0.0;
         sol.timings.solver_runs = 0;
         let mut start = initial.to_vec();
-        // What changed since the workspace's last solve, when known (a drag
-        // preview): those links and the controllers' (regulated below).
-        let changed: Option<Vec<usize>> = self.changed_links.take().filter(|_| same_topology).map(|mut c| {
-            c.extend(self.devices.iter().filter(|d| d.controller.is_some()).map(|d| d.link));
+        // What changed since the workspace's last solve, when known: in a
+        // drag preview the moved pipes, and from the second round on only
+        // the controllers' links (the rounds change nothing else).
+        let controller_links: Vec<usize> =
+            self.devices.iter().filter(|d| d.controller.is_some()).map(|d| d.link).collect();
+        let mut changed: Option<Vec<usize>> = self.changed_links.take().filter(|_| same_topology).map(|mut c| {
+            c.extend_from_slice(&controller_links);
             c
         });
         let mut rounds = 0;
@@ -143,6 +146,9 @@ impl Derivation<'_> {
             }
             let next = accel.step(x, self.controller_log_r());
             self.set_controller_log_r(&next);
+            if changed.is_none() {
+                changed = Some(controller_links.clone());
+            }
             rounds += 1;
             if rounds > super::devices::MAX_REGULATION_ROUNDS {
                 self.findings.push(findings::regulation_not_settled(rounds - 1));
