@@ -89,6 +89,13 @@ pub struct SolverWorkspace {
     /// static terms and `known_law` are those of that network): what
     /// [`super::solve_changed`] builds on.
     pub(super) validated: bool,
+    /// `drop_pa` and `slope_pa_s_kg` hold every open link's law evaluated
+    /// at `flow_kg_s` (the last solve's final check), the slopes floored
+    /// at `slope_floor`: a solve that starts from those very flows and is
+    /// told which links changed evaluates only those first.
+    pub(super) evaluated: bool,
+    /// The slope floor of that evaluation, Pa·s/kg.
+    pub(super) slope_floor: f64,
     /// The evaluation constants of each known law.
     pub(super) kernels: Vec<super::LinkKernel>,
     /// Flow at which `eval_drop_pa` / `eval_slope_pa_s_kg` were evaluated
