@@ -18,10 +18,12 @@
 //! [`super::Workspace::for_edits`]: the derivation after the operate stage
 //! (the final link laws), the split between design and operating findings,
 //! and the solution; a preview updates the kept derivation's moved pipes
-//! and runs the operate stage on a copy.
+//! and runs the operate stage on it, lent rather than copied (what the
+//! pass changes — the moved pipes' laws, the controllers' openings — is
+//! the next preview's warm start), telling the solver which links changed
+//! (`solver::solve_changed`).
 
 use std::sync::Arc;
-
 use std::time::Instant;
 
 use super::incremental::{EditHint, Retained};
