@@ -804,24 +804,7 @@ fn evaluate_links(
             continue;
         }
         let m = ws.flow_kg_s[k];
-        // Same flow as the last evaluation of this (unchanged) law: reuse it
-        // (a warm start from the last answer re-evaluates nothing here).
-        let m0 = ws.eval_flow_kg_s[k];
-        let (drop_pa, slope) = if m0.to_bits() == m.to_bits() {
-            (ws.eval_drop_pa[k], ws.eval_slope_pa_s_kg[k])
-        } else if (m - m0).abs() <= settings.reuse_relative_flow_change * m0.abs() {
-            // A flow within 1e-7 of the last evaluation (the rest of the
-            // network during a warm re-solve): first-order step from it,
-            // which stays the anchor. The step's error, about
-            // ½·F''·Δm² ≈ |F|·(Δm/m)², is below 1e-14 of the drop.
-            (ws.eval_drop_pa[k] + ws.eval_slope_pa_s_kg[k] * (m - m0), ws.eval_slope_pa_s_kg[k])
-        } else {
-            let (d, s) = ws.kernels[k].eval(m);
-            ws.eval_flow_kg_s[k] = m;
-            ws.eval_drop_pa[k] = d;
-            ws.eval_slope_pa_s_kg[k] = s;
-            (d, s)
-        };
+        let (drop_pa, slope) = eval_kept(ws, settings, k, m);
         ws.drop_pa[k] = drop_pa;
         ws.slope_pa_s_kg[k] = slope;
         let (i, j) = ws.endpoints[k];
@@ -850,6 +833,28 @@ fn evaluate_links(
     Ok(max_residual_pa)
 }
 
+/// Link `k`'s law at flow `m`: its drop and (unfloored) slope.
+fn eval_kept(ws: &mut SolverWorkspace, settings: &SolveSettings, k: usize, m: f64) -> (f64, f64) {
+    // Same flow as the last evaluation of this (unchanged) law: reuse it
+    // (a warm start from the last answer re-evaluates nothing here).
+    let m0 = ws.eval_flow_kg_s[k];
+    if m0.to_bits() == m.to_bits() {
+        (ws.eval_drop_pa[k], ws.eval_slope_pa_s_kg[k])
+    } else if (m - m0).abs() <= settings.reuse_relative_flow_change * m0.abs() {
+        // A flow within 1e-7 of the last evaluation (the rest of the
+        // network during a warm re-solve): first-order step from it,
+        // which stays the anchor. The step's error, about
+        // ½·F''·Δm² ≈ |F|·(Δm/m)², is below 1e-14 of the drop.
+        (ws.eval_drop_pa[k] + ws.eval_slope_pa_s_kg[k] * (m - m0), ws.eval_slope_pa_s_kg[k])
+    } else {
+        let (d, s) = ws.kernels[k].eval(m);
+        ws.eval_flow_kg_s[k] = m;
+        ws.eval_drop_pa[k] = d;
+        ws.eval_slope_pa_s_kg[k] = s;
+        (d, s)
+    }
+}
+
 /// [`evaluate_links`] for the links in `links` alone, the others' values
 /// being those of the last evaluation at the same flows (`ws.evaluated`);
 /// their slopes take that evaluation's floor. The first evaluation of a
@@ -867,18 +872,7 @@ fn evaluate_named(
             continue;
         }
         let m = ws.flow_kg_s[k];
-        let m0 = ws.eval_flow_kg_s[k];
-        let (drop_pa, slope) = if m0.to_bits() == m.to_bits() {
-            (ws.eval_drop_pa[k], ws.eval_slope_pa_s_kg[k])
-        } else if (m - m0).abs() <= settings.reuse_relative_flow_change * m0.abs() {
-            (ws.eval_drop_pa[k] + ws.eval_slope_pa_s_kg[k] * (m - m0), ws.eval_slope_pa_s_kg[k])
-        } else {
-            let (d, s) = ws.kernels[k].eval(m);
-            ws.eval_flow_kg_s[k] = m;
-            ws.eval_drop_pa[k] = d;
-            ws.eval_slope_pa_s_kg[k] = s;
-            (d, s)
-        };
+        let (drop_pa, slope) = eval_kept(ws, settings, k, m);
         if !(drop_pa.is_finite() && slope.is_finite() && m.is_finite()) {
             ws.evaluated = false;
             return Err(non_finite_links(ws, net));
