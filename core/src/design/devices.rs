@@ -269,14 +269,23 @@ impl Derivation<'_> {
         zones
     }
 
-    /// One round of the controllers' outer loop after a solve: the new
-    /// resistance of every regulating controller whose branch Δp is off what
-    /// it holds. Returns true when every controller is consistent (nothing
-    /// changed).
+    /// One round of the controllers' outer loop after a solve. Returns true,
+    /// changing nothing, when every regulating controller's branch Δp is
+    /// within tolerance of what it holds; otherwise moves **every**
+    /// regulating controller to its held resistance ([`held_resistance`]),
+    /// also those already within tolerance, and returns false.
+    ///
+    /// Moving all of them keeps the round a continuous map of the openings
+    /// (what Anderson mixing, `super::accel`, assumes): a controller left
+    /// where it was because it sat just inside the tolerance drifts out of
+    /// it as the others move, and the loop then chases errors of about the
+    /// tolerance one controller at a time (16 solves instead of 6 on the
+    /// generated 200,000-emitter building, docs/benchmarks.md).
     pub(super) fn regulate(&mut self, flows: &[f64], pressures: &[f64]) -> bool {
         let Some(rp) = self.return_props else { return true };
         let rho = rp.density_kg_m3;
         let mut settled = true;
+        let mut moves = Vec::new();
         for dev in &self.devices {
             let Some(f) = dev.controller else { continue };
             let (Some(&m), Some(&p_s), Some(&p_x), Some(&p_r)) = (
@@ -298,13 +307,18 @@ impl Derivation<'_> {
             let target = f.held_dp_pa(dev.setpoint_pa, kv);
             let tol = self.held_dp_tolerance_pa.max(1e-4 * target);
             let at_kvs = r <= r_kvs * (1.0 + 1e-9);
-            if (branch - target).abs() <= tol || (at_kvs && branch < target) {
+            if at_kvs && branch < target {
                 continue;
             }
             let r_new = held_resistance(f, dev.setpoint_pa, m, branch, outside, rho).max(r_kvs);
             if (r_new - r).abs() > 1e-12 * r.max(1.0) {
-                self.net.links[dev.link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r_new };
-                settled = false;
+                moves.push((dev.link, r_new));
+                settled &= (branch - target).abs() <= tol;
+            }
+        }
+        if !settled {
+            for (link, r) in moves {
+                self.net.links[link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r };
             }
         }
         settled
