@@ -5,6 +5,7 @@
 //! (Linux `/proc/self/status`; elsewhere the memory columns read 0).
 //!
 //! Run: `cargo run --release -p flowrise-core --example stage_memory -- FILE.ron`
+//! (`MATCHED=1` solves with matched physics, as the side-by-side does).
 //! A profiling aid, not a benchmark: the recorded figures come from the
 //! side-by-side script (`tests/epanet/bench_side_by_side.py`).
 
@@ -45,7 +46,9 @@ fn main() {
     let p = Project::load(std::path::Path::new(&file)).expect("load");
     report("load", t);
     let t = Instant::now();
-    let sol = solve_project(&p, &SolveOptions::default(), &mut Workspace::one_shot());
+    // `MATCHED=1`: matched physics, as the side-by-side with EPANET solves.
+    let opts = SolveOptions { matched_physics: std::env::var_os("MATCHED").is_some(), ..SolveOptions::default() };
+    let sol = solve_project(&p, &opts, &mut Workspace::one_shot());
     report("solve", t);
     println!(
         "  derive {:.1} ms, design {:.1} ms, operate {:.1} ms ({} passes; last pass: {} Newton solves, {:.1} ms in the solver, {} iterations in the last)",

@@ -30,6 +30,8 @@ const TRIM_KINDS: [FindingKind; 4] =
 pub(super) struct Retrim {
     result: usize,
     choice: TrimChoice,
+    /// The emitter's valve-pair link, whose law the re-trim changed.
+    pub(super) link: usize,
 }
 
 impl Derivation<'_> {
@@ -130,7 +132,7 @@ impl Derivation<'_> {
             let r_pair = valves::resistance_r_pa_s2_kg2(t.valve_kv_m3_h, rho_mean).unwrap_or(0.0)
                 + valves::resistance_r_pa_s2_kg2(t.lockshield_kv_m3_h, rho_mean).unwrap_or(0.0);
             self.net.links[e.valves_link].law = LinkLaw::Quadratic { r_pa_s2_kg2: r_pair };
-            out.push(Retrim { result: k, choice: t });
+            out.push(Retrim { result: k, choice: t, link: e.valves_link });
         }
         out
     }

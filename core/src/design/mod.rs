@@ -240,6 +240,9 @@ fn finish(
                 d.findings.truncate(mark);
                 d.retrim_findings(p, dn, ws, sol, &done);
                 mark = d.findings.len();
+                // Only the re-trimmed valves changed since the last solve:
+                // the warm re-solve validates and first-evaluates those.
+                d.changed_links = Some(done.iter().map(|r| r.link).collect());
                 d.operate(p, opts, ws, sol);
             }
         }
