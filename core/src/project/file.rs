@@ -225,6 +225,7 @@ impl Project {
         p.settings = file.settings;
         p.levels = file.levels;
         p.levels.sort_by(|a, b| a.elevation_m.total_cmp(&b.elevation_m));
+        p.reserve(file.nodes.len(), file.runs.len());
         let mut sources = 0usize;
         for n in file.nodes {
             // Texts first: the label below shows the name.

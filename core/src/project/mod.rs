@@ -591,6 +591,14 @@ impl Project {
 
     // ---- low-level mutation used by `edit` and `file` (invariants kept there)
 
+    /// Room for `nodes` more nodes and `runs` more runs, so a file's load
+    /// grows the graph's vectors once instead of doubling them (each
+    /// doubling copies the whole vector into fresh pages).
+    pub(crate) fn reserve(&mut self, nodes: usize, runs: usize) {
+        self.graph.reserve_exact_nodes(nodes);
+        self.graph.reserve_exact_edges(runs);
+    }
+
     pub(crate) fn insert_node(&mut self, node: Node) {
         self.next_node = self.next_node.max(node.id.0.saturating_add(1));
         let id = node.id;
