@@ -264,6 +264,7 @@ impl Derivation<'_> {
             pending.sort_unstable();
         }
         let flows = &self.design_flows;
+        ws.link_dps.size_for(self.net.links.len());
         let mut guard = 0;
         while !pending.is_empty() && guard < 2 * n_nodes + 2 {
             guard += 1;

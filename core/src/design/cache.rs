@@ -66,6 +66,10 @@ impl EmitterCache {
             return None;
         }
         if ix >= self.entries.len() {
+            // Room for every node id at once (ids run up to about the node
+            // count): growing by doubling would copy the entries and keep
+            // up to twice the room.
+            self.entries.reserve_exact((ix + 1).max(node_count + 1).saturating_sub(self.entries.len()));
             self.entries.resize_with(ix + 1, Entry::default);
         }
         self.entries.get_mut(ix)
@@ -242,6 +246,14 @@ pub(super) struct LinkDpCache {
 }
 
 impl LinkDpCache {
+    /// Room for `links` entries at once (growing by doubling would copy
+    /// the entries and keep up to twice the room).
+    pub(super) fn size_for(&mut self, links: usize) {
+        if !self.off {
+            self.entries.reserve_exact(links.saturating_sub(self.entries.len()));
+        }
+    }
+
     /// Δp of `law` at `m` (link `link`), as [`crate::network::solver::link_dp`]
     /// (0 for a non-finite flow).
     pub(super) fn dp(&mut self, link: usize, law: &LinkLaw, m: f64) -> f64 {

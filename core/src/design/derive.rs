@@ -50,10 +50,18 @@ impl Derivation<'_> {
         self.findings.extend(f);
         self.topo = topo;
         let Some(source) = self.topo.source else { return false };
-        // Two nodes per tree node, three per emitter; two links per run.
-        self.net.nodes.reserve(2 * self.topo.order.len() + self.topo.emitters.len() + 1);
-        self.net.links.reserve(2 * self.topo.runs.len() + 2);
-        self.roles.reserve(2 * self.topo.runs.len() + 2);
+        // Sized once (a vector that outgrows its reserve doubles, copying
+        // itself into fresh pages and keeping up to twice the room): two
+        // nodes per tree node, one more per emitter and per balancing
+        // device; two links per run, two per emitter, one per device, the
+        // source's and the pump's.
+        let devices =
+            self.topo.runs.iter().filter(|tr| dn.run(tr.run).is_some_and(|r| r.props.device.is_some())).count();
+        let emitters = self.topo.emitters.len();
+        self.net.nodes.reserve(2 * self.topo.order.len() + emitters + devices + 1);
+        let links = 2 * self.topo.runs.len() + 2 * emitters + devices + 2;
+        self.net.links.reserve(links);
+        self.roles.reserve(links);
         self.pipes.reserve(2 * self.topo.runs.len());
         self.emitters.reserve(self.topo.emitters.len());
         self.source = Some(source);
